@@ -1,0 +1,68 @@
+"""Helpers shared by the command modules: errors, JSON, tables, quantity options."""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Callable, Sequence
+from typing import Any
+
+import click
+
+from fleetsim.errors import InputError
+from fleetsim.units import Kind, parse_quantity
+
+EXIT_INPUT = 2
+
+
+def fail(message: str, code: int = EXIT_INPUT) -> int:
+    """Print one error line to standard error and return the exit code."""
+    click.echo(f"fleetsim: error: {message}", err=True)
+    return code
+
+
+def quantity(text: str | None, kind: Kind, option: str) -> float | None:
+    """Parse an option's quantity; None stays None."""
+    if text is None:
+        return None
+    return parse_quantity(text, kind, option)
+
+
+def positive(value: float | None, option: str, what: str = "value") -> float | None:
+    """Check a parsed option is > 0."""
+    if value is not None and not (value > 0 and math.isfinite(value)):
+        raise InputError(option, f"expected a {what} > 0, got {value:g}")
+    return value
+
+
+def _clean(obj: Any) -> Any:
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: _clean(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_clean(v) for v in obj]
+    return obj
+
+
+def echo_json(obj: Any) -> None:
+    """Print one JSON object (non-finite floats become null)."""
+    click.echo(json.dumps(_clean(obj), indent=2, allow_nan=False))
+
+
+def table(rows: Sequence[tuple[str, str]], title: str | None = None) -> str:
+    """A two-column text table: name, value."""
+    width = max((len(k) for k, _ in rows), default=0)
+    lines = [title, "-" * len(title)] if title else []
+    lines += [f"{k:<{width}}  {v}" for k, v in rows]
+    return "\n".join(lines)
+
+
+def fmt(value: float | None, spec: str = ".4g", unit: str = "") -> str:
+    """Format a number for a table; None as a dash."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return "—"
+    return f"{value:{spec}}{(' ' + unit) if unit else ''}"
+
+
+OptionDecorator = Callable[[Callable[..., Any]], Callable[..., Any]]

@@ -1,0 +1,271 @@
+"""``fleetsim life`` and ``fleetsim size``: one bearing position, forwards and backwards."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import click
+
+from fleetsim import SAFETY_CAUTION
+from fleetsim.cli.common import echo_json, fmt, positive, quantity, table
+from fleetsim.errors import InputError
+from fleetsim.life import (
+    BearingRating,
+    BearingType,
+    DutyStep,
+    Lubrication,
+    position_life,
+    read_catalogue,
+    required_dynamic_rating,
+    select_bearing,
+)
+
+TYPE_CHOICE = click.Choice(["ball", "roller"])
+MODEL_CHOICE = click.Choice(["iso281", "textbook"])
+
+
+def _reliability(value: float, option: str = "--reliability") -> float:
+    if not (0.0 < value < 1.0):
+        raise InputError(option, f"expected a reliability strictly between 0 and 1, got {value:g}")
+    return value
+
+
+def _factor(value: float, option: str) -> float:
+    if not value > 0:
+        raise InputError(option, f"expected a factor > 0, got {value:g}")
+    return value
+
+
+def _relabel(exc: InputError, mapping: dict[str, str]) -> InputError:
+    """Name the command-line option in an error raised by the library."""
+    return InputError(mapping.get(exc.where, exc.where), exc.expected)
+
+
+_LIFE_OPTIONS = {
+    "radial load": "--radial-load",
+    "axial load": "--axial-load",
+    "static rating": "--static-rating",
+    "dynamic rating": "--dynamic-rating",
+    "fatigue limit": "--fatigue-limit",
+    "viscosity ratio": "--viscosity-ratio",
+    "contamination": "--contamination",
+    "speed": "--speed",
+    "duty[0].speed": "--speed",
+    "reliability": "--reliability",
+    "load": "--load",
+    "life": "--life",
+    "model": "--model",
+}
+
+
+@click.command()
+@click.option("--type", "bearing_type", type=TYPE_CHOICE, required=True,
+              help="ball (radial deep-groove) or roller (cylindrical, radial load only).")
+@click.option("--dynamic-rating", required=True, help="Basic dynamic load rating C, e.g. '30.7 kN'.")
+@click.option("--static-rating", default=None, help="Basic static load rating C0, e.g. '19 kN'.")
+@click.option("--radial-load", required=True, help="Radial load Fr, e.g. '3.2 kN' or '720 lbf'.")
+@click.option("--axial-load", default="0 N", show_default=True, help="Axial load Fa.")
+@click.option("--speed", required=True, help="Speed, e.g. '1480 rpm'.")
+@click.option("--reliability", type=float, default=0.9, show_default=True,
+              help="Reliability for the life at reliability, in (0, 1).")
+@click.option("--at", "at", default=None, help="Report the reliability at this life, e.g. '20000 h'.")
+@click.option("--model", type=MODEL_CHOICE, default="iso281", show_default=True,
+              help="Life distribution in units of L10.")
+@click.option("--application-factor", type=float, default=1.0, show_default=True,
+              help="Load (application) factor a_f multiplying P.")
+@click.option("--rotation-factor", type=float, default=1.0, show_default=True,
+              help="Rotation factor V (1 = rotating inner ring).")
+@click.option("--viscosity-ratio", type=float, default=None, help="κ = ν/ν1, for a_ISO.")
+@click.option("--contamination", type=float, default=None, help="Contamination factor e_C in [0, 1].")
+@click.option("--fatigue-limit", default=None, help="Fatigue load limit Cu, e.g. '1.3 kN'.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+def life(
+    bearing_type: str,
+    dynamic_rating: str,
+    static_rating: str | None,
+    radial_load: str,
+    axial_load: str,
+    speed: str,
+    reliability: float,
+    at: str | None,
+    model: str,
+    application_factor: float,
+    rotation_factor: float,
+    viscosity_ratio: float | None,
+    contamination: float | None,
+    fatigue_limit: str | None,
+    as_json: bool,
+) -> None:
+    """Rating life and life distribution of one bearing position."""
+    c = positive(quantity(dynamic_rating, "force", "--dynamic-rating"), "--dynamic-rating", "rating")
+    c0 = positive(quantity(static_rating, "force", "--static-rating"), "--static-rating", "rating")
+    fr = quantity(radial_load, "force", "--radial-load")
+    fa = quantity(axial_load, "force", "--axial-load")
+    n = positive(quantity(speed, "speed", "--speed"), "--speed", "speed")
+    cu = positive(quantity(fatigue_limit, "force", "--fatigue-limit"), "--fatigue-limit", "load")
+    at_h = positive(quantity(at, "time", "--at"), "--at", "life")
+    _reliability(reliability)
+    _factor(application_factor, "--application-factor")
+    _factor(rotation_factor, "--rotation-factor")
+    assert c is not None and fr is not None and fa is not None and n is not None
+    if fr < 0:
+        raise InputError("--radial-load", f"expected a load >= 0, got {fr:g} N")
+    if fa < 0:
+        raise InputError("--axial-load", f"expected a load >= 0, got {fa:g} N")
+    if fr == 0 and fa == 0:
+        raise InputError("--radial-load", "expected a positive radial or axial load, got both zero")
+    lub_given = [v is not None for v in (viscosity_ratio, contamination, cu)]
+    if any(lub_given) and not all(lub_given):
+        raise InputError(
+            "--viscosity-ratio",
+            "a_ISO needs all of --viscosity-ratio, --contamination and --fatigue-limit",
+        )
+    lubrication = None
+    if all(lub_given):
+        assert viscosity_ratio is not None and contamination is not None
+        lubrication = Lubrication(viscosity_ratio, contamination)
+    if bearing_type == "ball" and fa > 0 and c0 is None:
+        raise InputError("--static-rating", "a ball bearing with axial load needs C0, e.g. '19 kN'")
+    try:
+        rating = BearingRating(BearingType(bearing_type), c, c0, cu)
+        res = position_life(
+            rating,
+            [DutyStep(1.0, fr, fa, n)],
+            model=model,
+            rotation_factor=rotation_factor,
+            application_factor=application_factor,
+            lubrication=lubrication,
+        )
+    except InputError as exc:
+        raise _relabel(exc, _LIFE_OPTIONS) from None
+
+    dist = res.distribution
+    basic_life_at_r = res.model.life_ratio(reliability) * res.rating_life_h
+    out: dict[str, Any] = {
+        "equivalent_load_N": res.equivalent_load_N,
+        "e": res.e,
+        "X": res.X,
+        "Y": res.Y,
+        "speed_rpm": res.speed_rpm,
+        "rating_life_Mrev": res.rating_life_Mrev,
+        "rating_life_h": res.rating_life_h,
+        "reliability": reliability,
+        "a1": float(res.model.life_ratio(reliability)),
+        "life_at_reliability_h": float(basic_life_at_r),
+        "model": model,
+        "weibull": dist.as_dict(),
+        "reliability_at": None,
+        "at_h": at_h,
+        "a_iso": res.a_iso,
+        "modified_life_h": None if res.a_iso is None else res.a_iso * float(basic_life_at_r),
+        "static_safety": res.static_safety,
+        "caution": SAFETY_CAUTION,
+    }
+    if at_h is not None:
+        out["reliability_at"] = float(dist.reliability(at_h))
+    if as_json:
+        echo_json(out)
+        return
+    rows = [
+        ("equivalent load P", fmt(res.equivalent_load_N, ".4g", "N")),
+        ("e / X / Y", f"{fmt(res.e, '.3f')} / {fmt(res.X, '.3f')} / {fmt(res.Y, '.3f')}"),
+        ("rating life L10", f"{fmt(res.rating_life_Mrev, '.4g', 'million rev')}"
+                            f" = {fmt(res.rating_life_h, ',.0f', 'h')}"),
+        (f"a1 at R = {reliability:g}", fmt(out["a1"], ".4f")),
+        (f"life at R = {reliability:g}", fmt(out["life_at_reliability_h"], ",.0f", "h")),
+        (f"Weibull ({model})", f"shape {dist.shape:.4g}, scale {dist.scale_h:,.0f} h, "
+                               f"location {dist.location_h:,.0f} h"),
+        ("static safety C0/P", fmt(res.static_safety, ".3g")),
+    ]
+    if res.a_iso is not None:
+        rows += [
+            ("a_ISO", fmt(res.a_iso, ".4g")),
+            (f"modified life at R = {reliability:g}", fmt(out["modified_life_h"], ",.0f", "h")),
+        ]
+    if at_h is not None:
+        rows.append((f"reliability at {at_h:,.0f} h", fmt(out["reliability_at"], ".5f")))
+    click.echo(table(rows, "Bearing position life"))
+    click.echo(f"\n{SAFETY_CAUTION}")
+
+
+@click.command()
+@click.option("--type", "bearing_type", type=TYPE_CHOICE, required=True, help="ball or roller.")
+@click.option("--load", required=True, help="Equivalent dynamic load P, e.g. '4 kN'.")
+@click.option("--speed", required=True, help="Speed, e.g. '1480 rpm'.")
+@click.option("--life", "life_", required=True, help="Design life, e.g. '25000 h'.")
+@click.option("--reliability", type=float, required=True, help="Reliability at the design life.")
+@click.option("--model", type=MODEL_CHOICE, default="iso281", show_default=True,
+              help="Life distribution in units of L10.")
+@click.option("--application-factor", type=float, default=1.0, show_default=True,
+              help="Load (application) factor a_f.")
+@click.option("--catalog", type=click.Path(dir_okay=False), default=None,
+              help="Bearing catalogue CSV to choose from.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+def size(
+    bearing_type: str,
+    load: str,
+    speed: str,
+    life_: str,
+    reliability: float,
+    model: str,
+    application_factor: float,
+    catalog: str | None,
+    as_json: bool,
+) -> None:
+    """Dynamic rating a position needs for a life at a reliability."""
+    p = positive(quantity(load, "force", "--load"), "--load", "load")
+    n = positive(quantity(speed, "speed", "--speed"), "--speed", "speed")
+    life_h = positive(quantity(life_, "time", "--life"), "--life", "life")
+    _reliability(reliability)
+    _factor(application_factor, "--application-factor")
+    assert p is not None and n is not None and life_h is not None
+    required = required_dynamic_rating(
+        p, n, life_h, reliability,
+        bearing_type=bearing_type, model=model, application_factor=application_factor,
+    )
+    selected = None
+    if catalog is not None:
+        try:
+            entries = read_catalogue(catalog)
+        except InputError as exc:
+            raise InputError(f"--catalog {exc.where}", exc.expected) from None
+        pick = select_bearing(entries, required, bearing_type)
+        if pick is not None:
+            selected = {
+                "designation": pick.designation,
+                "type": pick.bearing_type.value,
+                "dynamic_rating_N": pick.dynamic_rating_N,
+                "static_rating_N": pick.static_rating_N,
+                "bore_mm": pick.bore_mm,
+                "price": pick.price,
+                "margin": pick.dynamic_rating_N / required,
+            }
+    out = {
+        "required_dynamic_rating_N": required,
+        "load_N": p,
+        "speed_rpm": n,
+        "life_h": life_h,
+        "reliability": reliability,
+        "model": model,
+        "application_factor": application_factor,
+        "selected": selected,
+        "catalog": catalog,
+        "caution": SAFETY_CAUTION,
+    }
+    if as_json:
+        echo_json(out)
+        return
+    rows = [
+        ("required dynamic rating C", fmt(required / 1e3, ".4g", "kN")),
+        ("for", f"{life_h:,.0f} h at R = {reliability:g}, {n:g} rpm, P = {p / 1e3:.4g} kN"
+                f" × a_f {application_factor:g} ({model})"),
+    ]
+    if catalog is not None:
+        if selected is None:
+            rows.append(("selected", f"none of the {bearing_type} bearings in the catalogue is enough"))
+        else:
+            rows.append(("selected", f"{selected['designation']}: C = "
+                                     f"{selected['dynamic_rating_N'] / 1e3:.4g} kN "
+                                     f"(margin {selected['margin']:.2f}×)"))
+    click.echo(table(rows, "Required rating"))
+    click.echo(f"\n{SAFETY_CAUTION}")

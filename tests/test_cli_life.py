@@ -1,0 +1,111 @@
+"""The ``fleetsim life`` and ``fleetsim size`` commands: outputs and bad input."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import pytest
+
+from fleetsim.cli import main
+
+BASE = ["life", "--type", "ball", "--dynamic-rating", "30.7 kN", "--static-rating", "19 kN",
+        "--radial-load", "3.2 kN", "--axial-load", "1.1 kN", "--speed", "1480 rpm"]
+
+
+def run(args, capsys):
+    code = main(args)
+    out = capsys.readouterr()
+    return code, out.out, out.err
+
+
+def test_life_json_has_the_contract_keys(capsys) -> None:
+    code, out, _ = run(BASE + ["--reliability", "0.95", "--at", "20000 h", "--json"], capsys)
+    assert code == 0
+    obj = json.loads(out)
+    for key in ["equivalent_load_N", "e", "X", "Y", "rating_life_Mrev", "rating_life_h",
+                "reliability", "a1", "life_at_reliability_h", "weibull", "reliability_at",
+                "a_iso", "modified_life_h"]:
+        assert key in obj
+    assert set(obj["weibull"]) == {"shape", "scale_h", "location_h"}
+    assert obj["a_iso"] is None and obj["modified_life_h"] is None
+    # Hand check: Fa/C0 = 1.1/19 = 0.0579 → between rows 0.056 and 0.070;
+    # L10 = (C/P)^3 and L10h = 1e6 L10 / (60 n).
+    assert math.isclose(obj["rating_life_Mrev"], (30_700 / obj["equivalent_load_N"]) ** 3, rel_tol=1e-12)
+    assert math.isclose(obj["rating_life_h"], obj["rating_life_Mrev"] * 1e6 / (60 * 1480), rel_tol=1e-12)
+    assert math.isclose(obj["life_at_reliability_h"], obj["a1"] * obj["rating_life_h"], rel_tol=1e-12)
+    assert 0 < obj["reliability_at"] < 1
+
+
+def test_life_table_and_modified_life(capsys) -> None:
+    code, out, _ = run(BASE + ["--viscosity-ratio", "1.5", "--contamination", "0.5",
+                               "--fatigue-limit", "0.8 kN"], capsys)
+    assert code == 0
+    assert "a_ISO" in out and "rating life L10" in out and "qualified, licensed engineer" in out
+
+
+def test_life_in_pound_force_equals_newtons(capsys) -> None:
+    _, out_n, _ = run(["life", "--type", "roller", "--dynamic-rating", "44.482216152605 kN",
+                       "--radial-load", "4448.2216152605 N", "--speed", "1000 rpm", "--json"], capsys)
+    _, out_l, _ = run(["life", "--type", "roller", "--dynamic-rating", "10000 lbf",
+                       "--radial-load", "1000 lbf", "--speed", "1000 rpm", "--json"], capsys)
+    a, b = json.loads(out_n), json.loads(out_l)
+    assert math.isclose(a["rating_life_h"], b["rating_life_h"], rel_tol=1e-9)
+    assert math.isclose(a["rating_life_Mrev"], 10 ** (10 / 3), rel_tol=1e-9)
+
+
+@pytest.mark.parametrize(
+    "change, option",
+    [
+        (["--radial-load", "5 rpm"], "--radial-load"),
+        (["--radial-load", "5"], "--radial-load"),
+        (["--radial-load", "-3 kN"], "--radial-load"),
+        (["--dynamic-rating", "0 kN"], "--dynamic-rating"),
+        (["--speed", "0 rpm"], "--speed"),
+        (["--speed", "12 kN"], "--speed"),
+        (["--reliability", "1.2"], "--reliability"),
+        (["--reliability", "0"], "--reliability"),
+        (["--type", "roller"], "--axial-load"),
+        (["--viscosity-ratio", "1"], "--viscosity-ratio"),
+        (["--model", "nonsense"], "--model"),
+        (["--at", "12 kN"], "--at"),
+    ],
+)
+def test_bad_input_is_one_line_exit_2(change, option, capsys) -> None:
+    code, out, err = run(BASE + change, capsys)
+    assert code == 2
+    assert out == ""
+    assert err.count("\n") == 1 and err.startswith("fleetsim: error:")
+    assert option in err
+    assert "Traceback" not in err
+
+
+def test_load_above_c0_warns_but_runs(capsys) -> None:
+    code, out, err = run(["life", "--type", "ball", "--dynamic-rating", "30 kN", "--static-rating",
+                          "5 kN", "--radial-load", "8 kN", "--speed", "100 rpm", "--json"], capsys)
+    assert code == 0 and "warning" in err and "static rating" in err
+
+
+def test_size_with_catalogue(capsys, tmp_path) -> None:
+    code, out, _ = run(["size", "--type", "ball", "--load", "4 kN", "--speed", "1480 rpm", "--life",
+                        "25000 h", "--reliability", "0.99", "--catalog", "scenarios/catalogue.csv",
+                        "--json"], capsys)
+    assert code == 0
+    obj = json.loads(out)
+    # C = P (x_D / a1(0.99))^(1/3), x_D = 25000·60·1480/1e6 (ISO 281 a1 formula).
+    a1 = 0.95 * (math.log(1 / 0.99) / math.log(1 / 0.9)) ** (2 / 3) + 0.05
+    expected = 4000 * (25000 * 60 * 1480 / 1e6 / a1) ** (1 / 3)
+    assert math.isclose(obj["required_dynamic_rating_N"], expected, rel_tol=1e-12)
+    assert obj["selected"]["dynamic_rating_N"] >= expected
+    bad = tmp_path / "cat.csv"
+    bad.write_text("designation,type,dynamic_rating_kN\nX1,ball,abc\n")
+    code, _, err = run(["size", "--type", "ball", "--load", "4 kN", "--speed", "1480 rpm", "--life",
+                        "25000 h", "--reliability", "0.99", "--catalog", str(bad)], capsys)
+    assert code == 2 and "cat.csv:2: dynamic_rating_kN" in err
+
+
+def test_size_reports_when_nothing_fits(capsys) -> None:
+    code, out, _ = run(["size", "--type", "roller", "--load", "400 kN", "--speed", "1480 rpm",
+                        "--life", "25000 h", "--reliability", "0.99", "--catalog",
+                        "scenarios/catalogue.csv"], capsys)
+    assert code == 0 and "none of the roller bearings" in out
