@@ -1,0 +1,210 @@
+"""Running replications: in this process, in a process pool, with checkpoints.
+
+Each replication is reduced to a flat mapping of figures (``{name: float}``)
+as soon as it finishes, so memory stays bounded whatever the number of
+replications. Replication ``i`` always gets the seed
+:func:`~fleetsim.study.seeds.replication_seed` ``(seed, i)``, so the result
+is the same whatever the number of workers.
+
+A checkpoint file (JSON lines, one replication per line, appended and flushed
+as replications finish) lets an interrupted study resume: replications already
+in the file are not run again, and the final table is identical to an
+uninterrupted run.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+from collections.abc import Callable, Iterable, Mapping
+from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+
+from fleetsim.errors import InputError
+from fleetsim.study.seeds import replication_seed
+
+#: ``task(payload, seed_sequence) -> {figure: value}``; must be a module-level function.
+ReplicationTask = Callable[[Any, Any], Mapping[str, float]]
+Progress = Callable[[int, int], None]
+
+
+def _run_chunk(task: ReplicationTask, payload: Any, seed: int, indexes: list[int]) -> list[dict]:
+    out = []
+    for i in indexes:
+        row = dict(task(payload, replication_seed(seed, i)))
+        row["replication"] = i
+        out.append(row)
+    return out
+
+
+def _chunks(indexes: list[int], size: int) -> Iterable[list[int]]:
+    for k in range(0, len(indexes), size):
+        yield indexes[k : k + size]
+
+
+def _read_checkpoint(path: Path, key: str) -> dict[int, dict]:
+    rows: dict[int, dict] = {}
+    if not path.exists():
+        return rows
+    with path.open(encoding="utf-8") as fh:
+        header = fh.readline()
+        try:
+            if json.loads(header).get("study_key") != key:
+                raise InputError(
+                    str(path), "the checkpoint belongs to another study (scenario, seed or settings differ)"
+                )
+        except json.JSONDecodeError:
+            raise InputError(str(path), "expected a fleetsim checkpoint file") from None
+        for line in fh:
+            try:
+                row = json.loads(line)
+            except json.JSONDecodeError:
+                break  # a line cut by the interruption: run that replication again
+            rows[int(row["replication"])] = row
+    return rows
+
+
+def run_replications(
+    task: ReplicationTask,
+    payload: Any,
+    *,
+    replications: int,
+    seed: int,
+    workers: int = 1,
+    progress: Progress | None = None,
+    checkpoint: str | Path | None = None,
+    study_key: str = "",
+    chunk_size: int | None = None,
+    cluster: str | None = None,
+) -> pd.DataFrame:
+    """Run ``replications`` independent replications of ``task``.
+
+    Parameters
+    ----------
+    task
+        Module-level function ``task(payload, seed_sequence)`` returning the
+        figures of one replication.
+    payload
+        Passed to every call (a :class:`~fleetsim.scenario.model.Scenario`, or
+        a tuple of it and settings); must be picklable for ``workers > 1``.
+    replications
+        Number of replications (>= 1).
+    seed
+        Study seed.
+    workers
+        Number of processes; 1 runs in this process.
+    progress
+        Called as ``progress(done, total)`` after each finished chunk.
+    checkpoint
+        JSON-lines file to append finished replications to and resume from.
+    study_key
+        Identifies the study in the checkpoint (scenario digest, seed, settings).
+    chunk_size
+        Replications per task sent to a worker (default: about 8 chunks per worker).
+    cluster
+        Run on Dask instead of a local process pool: a scheduler address
+        (``"tcp://host:8786"``) or ``"local"`` for a ``LocalCluster`` of
+        ``workers`` processes. Needs the ``cluster`` extra (dask.distributed).
+
+    Returns
+    -------
+    pandas.DataFrame
+        One row per replication (sorted by the ``replication`` column).
+    """
+    if replications < 1:
+        raise InputError("replications", f"expected at least 1, got {replications}")
+    if workers < 1:
+        raise InputError("workers", f"expected at least 1, got {workers}")
+    done: dict[int, dict] = {}
+    ck_file = None
+    if checkpoint is not None:
+        ck_path = Path(checkpoint)
+        done = {i: r for i, r in _read_checkpoint(ck_path, study_key).items() if i < replications}
+        new_file = not ck_path.exists()
+        ck_file = ck_path.open("a", encoding="utf-8")
+        if new_file:
+            ck_file.write(json.dumps({"study_key": study_key}) + "\n")
+            ck_file.flush()
+    todo = [i for i in range(replications) if i not in done]
+    rows = dict(done)
+    if progress is not None:
+        progress(len(rows), replications)
+
+    def record(chunk_rows: list[dict]) -> None:
+        for row in chunk_rows:
+            rows[row["replication"]] = row
+            if ck_file is not None:
+                ck_file.write(json.dumps(row) + "\n")
+        if ck_file is not None:
+            ck_file.flush()
+            os.fsync(ck_file.fileno())
+        if progress is not None:
+            progress(len(rows), replications)
+
+    try:
+        if cluster is not None:
+            size = chunk_size or max(1, math.ceil(len(todo) / (workers * 8)))
+            _run_on_dask(task, payload, seed, list(_chunks(todo, size)), cluster, workers, record)
+        elif workers == 1 or len(todo) <= 1:
+            size = chunk_size or max(1, min(25, math.ceil(len(todo) / 20) if todo else 1))
+            for chunk in _chunks(todo, size):
+                record(_run_chunk(task, payload, seed, chunk))
+        else:
+            size = chunk_size or max(1, math.ceil(len(todo) / (workers * 8)))
+            with ProcessPoolExecutor(max_workers=workers) as pool:
+                pending: set[Future] = {
+                    pool.submit(_run_chunk, task, payload, seed, chunk)
+                    for chunk in _chunks(todo, size)
+                }
+                while pending:
+                    finished, pending = wait(pending, return_when=FIRST_COMPLETED)
+                    for fut in finished:
+                        record(fut.result())
+    finally:
+        if ck_file is not None:
+            ck_file.close()
+    table = pd.DataFrame([rows[i] for i in sorted(rows)])
+    cols = ["replication"] + [c for c in table.columns if c != "replication"]
+    return table[cols].reset_index(drop=True)
+
+
+def _run_on_dask(
+    task: ReplicationTask,
+    payload: Any,
+    seed: int,
+    chunks: list[list[int]],
+    cluster: str,
+    workers: int,
+    record: Callable[[list[dict]], None],
+) -> None:
+    """Run chunks on a Dask distributed cluster (imported lazily)."""
+    try:
+        from distributed import Client, LocalCluster, as_completed
+    except ImportError:
+        raise InputError(
+            "--cluster", "Dask is not installed; install fleetsim with the 'cluster' extra"
+        ) from None
+    local = None
+    try:
+        if cluster == "local":
+            local = LocalCluster(
+                n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=None
+            )
+            client = Client(local)
+        else:
+            client = Client(cluster, timeout="10s")
+    except OSError as exc:
+        raise InputError("--cluster", f"cannot reach the Dask scheduler at {cluster!r} ({exc})") from None
+    try:
+        data = client.scatter(payload, broadcast=True)
+        futures = [client.submit(_run_chunk, task, data, seed, ch, pure=False) for ch in chunks]
+        for fut in as_completed(futures):
+            record(fut.result())
+    finally:
+        client.close()
+        if local is not None:
+            local.close()
