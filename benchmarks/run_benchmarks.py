@@ -1,0 +1,260 @@
+"""fleetsim benchmarks: throughput of both engines against bare yardsticks.
+
+Run on purpose (``make bench`` or ``python benchmarks/run_benchmarks.py``);
+prints, in one run:
+
+* position-years simulated per second for each engine and policy at several
+  fleet sizes;
+* two yardsticks on the same run-to-failure fleet — a bare SimPy model (one
+  process per position, nothing else) and a bare numpy renewal sampler — and
+  fleetsim's figures as ratios to them;
+* the speed-up of the vectorised engine over the discrete-event engine;
+* the scaling of a 200-replication study from one to two workers;
+* the peak memory of a 1,000-replication study of 10,000 positions
+  (in a child process, so the figure is that study's alone);
+* the time of 200 replications of the pump-station demo.
+
+``--quick`` runs smaller sizes (a smoke test of the script itself).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import resource
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import simpy
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+from fleetsim.life import BearingType, LifeDistribution  # noqa: E402
+from fleetsim.scenario.model import (  # noqa: E402
+    HOURS_PER_YEAR,
+    Bearing,
+    Costs,
+    Crews,
+    Duration,
+    Machine,
+    Policy,
+    Position,
+    Scenario,
+    Study,
+)
+
+LIFE = LifeDistribution(shape=1.5, scale_h=40_000.0, location_h=2_000.0)
+HORIZON_H = 10 * HOURS_PER_YEAR
+POSITIONS_PER_UNIT = 4
+
+
+def fleet(positions: int, policy: Policy, repair_h: float = 0.0) -> Scenario:
+    """A fleet of ``positions`` bearing positions, four per unit, all on ``policy``."""
+    pos = tuple(Position(f"p{j}", "B", LIFE, policy) for j in range(POSITIONS_PER_UNIT))
+    units = max(1, positions // POSITIONS_PER_UNIT)
+    rep = Duration.fixed(repair_h)
+    return Scenario(
+        Study("bench", HORIZON_H, 1, 1),
+        Costs(planned_replacement=500.0, failure=3000.0, downtime_per_hour=50.0),
+        {"B": Bearing("B", BearingType.BALL, 50_000.0, price=100.0)},
+        (Machine("m", units, 1.0, 0.0, pos),),
+        crews=Crews(None, rep, rep),
+    )
+
+
+def position_years(scenario: Scenario) -> float:
+    return scenario.position_count * HORIZON_H / HOURS_PER_YEAR
+
+
+def timed(fn, min_seconds: float = 1.0, max_runs: int = 50) -> float:  # type: ignore[no-untyped-def]
+    """Seconds per call (at least one call, repeated up to ``min_seconds``)."""
+    runs, start = 0, time.perf_counter()
+    while True:
+        fn(runs)
+        runs += 1
+        elapsed = time.perf_counter() - start
+        if elapsed >= min_seconds or runs >= max_runs:
+            return elapsed / runs
+
+
+# --- yardsticks -------------------------------------------------------------------------
+def bare_simpy(positions: int, seed: int) -> int:
+    """Run-to-failure with one SimPy process per position and nothing else."""
+    env = simpy.Environment()
+    rng = np.random.default_rng(seed)
+    failures = [0]
+    b, eta, x0 = LIFE.shape, LIFE.scale_h, LIFE.location_h
+
+    def position():  # type: ignore[no-untyped-def]
+        while True:
+            yield env.timeout(x0 + eta * rng.weibull(b))
+            failures[0] += 1
+
+    for _ in range(positions):
+        env.process(position())
+    env.run(until=HORIZON_H)
+    return failures[0]
+
+
+def bare_numpy(positions: int, seed: int) -> int:
+    """Run-to-failure renewal counts by cumulative sums of sampled lives."""
+    rng = np.random.default_rng(seed)
+    t = np.zeros(positions)
+    failures = 0
+    active = np.ones(positions, dtype=bool)
+    while active.any():
+        t[active] += LIFE.location_h + LIFE.scale_h * rng.weibull(LIFE.shape, int(active.sum()))
+        active &= t < HORIZON_H
+        failures += int(active.sum())
+    return failures
+
+
+def des_run(scenario: Scenario, seed: int) -> None:
+    from fleetsim.sim import simulate
+
+    simulate(scenario, np.random.SeedSequence(seed), keep_events=False)
+
+
+def vector_run(scenario: Scenario, seed: int) -> None:
+    from fleetsim.sim.vector import simulate_vector
+
+    simulate_vector(scenario, np.random.SeedSequence(seed))
+
+
+POLICIES = {
+    "run-to-failure": Policy(),
+    "age": Policy("age", 30_000.0),
+    "block": Policy("block", 30_000.0),
+    "condition": Policy("condition", inspection_every_h=720.0,
+                        pf_interval=Duration("exponential", 1_500.0), detection=0.8),
+}
+
+
+def _cell(row: dict, key: str, width: int = 12, spec: str = ",.0f") -> str:
+    return f"{row[key]:>{width}{spec}}" if key in row else f"{'—':>{width}}"
+
+
+def throughput(sizes: list[int], des_max: int) -> dict:
+    out: dict = {"engines": {}, "yardsticks": {}}
+    print("\nThroughput (position-years per second; repair 8 h, zero for yardstick runs)")
+    print(f"{'engine':<8} {'policy':<15} {'positions':>9} {'pos-yr/s':>12}")
+    for n in sizes:
+        for name, policy in POLICIES.items():
+            sc = fleet(n, policy, repair_h=8.0)
+            py = position_years(sc)
+            v = py / timed(lambda i, sc=sc: vector_run(sc, i))
+            out["engines"][f"vector/{name}/{n}"] = v
+            print(f"{'vector':<8} {name:<15} {n:>9} {v:>12,.0f}")
+            if n <= des_max:
+                d = py / timed(lambda i, sc=sc: des_run(sc, i))
+                out["engines"][f"des/{name}/{n}"] = d
+                print(f"{'des':<8} {name:<15} {n:>9} {d:>12,.0f}")
+    print("\nRun-to-failure against the yardsticks (zero repair time, same fleet)")
+    print(f"{'positions':>9} {'bare simpy':>12} {'des':>12} {'des/simpy':>10} "
+          f"{'bare numpy':>12} {'vector':>12} {'vec/numpy':>10} {'vec/des':>8}")
+    for n in sizes:
+        sc = fleet(n, Policy())
+        py = position_years(sc)
+        vec = py / timed(lambda i, sc=sc: vector_run(sc, i))
+        npy = py / timed(lambda i, n=n: bare_numpy(n, i))
+        row = {"bare_numpy": npy, "vector": vec, "vector_over_numpy": vec / npy}
+        if n <= des_max:
+            sp = py / timed(lambda i, n=n: bare_simpy(n, i))
+            des = py / timed(lambda i, sc=sc: des_run(sc, i))
+            row.update(bare_simpy=sp, des=des, des_over_simpy=des / sp, vector_over_des=vec / des)
+        out["yardsticks"][n] = row
+        print(f"{n:>9} {_cell(row, 'bare_simpy')} {_cell(row, 'des')} "
+              f"{_cell(row, 'des_over_simpy', 10, '.2f')} {_cell(row, 'bare_numpy')} "
+              f"{_cell(row, 'vector')} {_cell(row, 'vector_over_numpy', 10, '.2f')} "
+              f"{_cell(row, 'vector_over_des', 8, '.2f')}")
+    return out
+
+
+def worker_scaling(replications: int) -> dict:
+    from fleetsim.study.engines import replicate
+    from fleetsim.study.runner import run_replications
+
+    sc = fleet(200, Policy("age", 30_000.0), repair_h=8.0)
+    times = {}
+    for w in (1, 2):
+        start = time.perf_counter()
+        run_replications(replicate, (sc, "des", HORIZON_H), replications=replications, seed=1,
+                         workers=w)
+        times[w] = time.perf_counter() - start
+    speedup = times[1] / times[2]
+    print(f"\nWorkers: {replications} DES replications of 200 positions: 1 worker {times[1]:.2f} s,"
+          f" 2 workers {times[2]:.2f} s, speed-up {speedup:.2f}×")
+    return {"one_s": times[1], "two_s": times[2], "speedup": speedup}
+
+
+def _memory_child(replications: int, positions: int) -> None:
+    from fleetsim.study.engines import replicate
+    from fleetsim.study.runner import run_replications
+
+    sc = fleet(positions, Policy(), repair_h=8.0)
+    start = time.perf_counter()
+    table = run_replications(replicate, (sc, "vector", HORIZON_H), replications=replications,
+                             seed=1, workers=1)
+    elapsed = time.perf_counter() - start
+    peak_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    print(json.dumps({"peak_MiB": peak_kib / 1024, "seconds": elapsed, "rows": len(table)}))
+
+
+def peak_memory(replications: int, positions: int) -> dict:
+    proc = subprocess.run(
+        [sys.executable, __file__, "--memory-child", str(replications), str(positions)],
+        capture_output=True, text=True, check=True,
+    )
+    res = json.loads(proc.stdout.strip().splitlines()[-1])
+    print(f"\nMemory: {replications} replications × {positions:,} positions (vector engine): "
+          f"peak {res['peak_MiB']:.0f} MiB, {res['seconds']:.1f} s")
+    return res
+
+
+def pump_demo(replications: int) -> dict:
+    from fleetsim.scenario import load_scenario
+    from fleetsim.study import run_study
+
+    sc = load_scenario(ROOT / "scenarios" / "pump_stations.toml")
+    out = {}
+    for w in (1, 2):
+        start = time.perf_counter()
+        run_study(sc, replications=replications, workers=w, keep_events=False)
+        out[w] = time.perf_counter() - start
+    print(f"\nPump-station demo: {replications} replications, {sc.position_count} positions, "
+          f"{sc.study.horizon_h / HOURS_PER_YEAR:.0f} years: {out[1]:.1f} s on 1 worker, "
+          f"{out[2]:.1f} s on 2 workers")
+    return out
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--quick", action="store_true", help="small sizes only")
+    parser.add_argument("--memory-child", nargs=2, type=int, help=argparse.SUPPRESS)
+    parser.add_argument("--json", type=Path, help="also write the figures to this JSON file")
+    args = parser.parse_args()
+    if args.memory_child:
+        _memory_child(*args.memory_child)
+        return
+    print(f"fleetsim benchmarks — Python {sys.version.split()[0]}, numpy {np.__version__}, "
+          f"simpy {simpy.__version__}")
+    if args.quick:
+        figures = {"throughput": throughput([100, 1_000], des_max=1_000)}
+        figures["workers"] = worker_scaling(20)
+        figures["memory"] = peak_memory(20, 1_000)
+        figures["pump_demo"] = pump_demo(20)
+    else:
+        figures = {"throughput": throughput([100, 1_000, 10_000], des_max=10_000)}
+        figures["workers"] = worker_scaling(200)
+        figures["memory"] = peak_memory(1_000, 10_000)
+        figures["pump_demo"] = pump_demo(200)
+    if args.json:
+        args.json.write_text(json.dumps(figures, indent=2, default=float))
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,410 @@
+"""The validated fleet model: frozen objects the engine and the planners read.
+
+A scenario file is parsed and validated (:mod:`fleetsim.scenario.loader`)
+into a :class:`Scenario`. Every quantity is in the library's units: hours for
+durations and ages, newtons for forces, rev/min for speeds, money in the
+scenario's currency. Nothing here reads files or simulates.
+
+Semantics (also stated in the README):
+
+* A position's life is a :class:`~fleetsim.life.LifeDistribution` in
+  operating hours; it ages only while its machine runs. A machine runs a share
+  ``operating_share`` of calendar time, modelled as ageing at that rate per
+  calendar hour while the machine is up.
+* The life ends at the first detectable defect (P); functional failure (F)
+  follows after the P-F interval (zero unless a condition policy gives one).
+* Replacement restores a position to new (renewal).
+* A :class:`Group` is a k-out-of-n set of machine units: up while at least
+  ``need`` of its units are up.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+
+from fleetsim.life import BearingType, LifeDistribution, LoadFactors, PositionLife
+
+HOURS_PER_YEAR = 8766.0  # 365.25 days
+DurationKind = Literal["fixed", "exponential", "lognormal", "weibull"]
+PolicyKind = Literal["run-to-failure", "age", "block", "condition"]
+
+
+@dataclass(frozen=True)
+class Duration:
+    """A random (or fixed) duration in hours: repair times, lead times, P-F intervals.
+
+    Attributes
+    ----------
+    kind
+        ``"fixed"`` (``value_h``), ``"exponential"`` (mean ``value_h``),
+        ``"lognormal"`` (median ``value_h`` and 90th percentile ``p90_h``) or
+        ``"weibull"`` (``shape`` and scale ``value_h``).
+    value_h
+        The fixed value, mean, median or scale in hours.
+    p90_h
+        90th percentile in hours (lognormal only).
+    shape
+        Weibull shape (weibull only).
+    """
+
+    kind: DurationKind
+    value_h: float
+    p90_h: float | None = None
+    shape: float | None = None
+
+    @classmethod
+    def fixed(cls, hours: float) -> Duration:
+        """A fixed duration of ``hours``."""
+        return cls("fixed", float(hours))
+
+    @property
+    def sigma(self) -> float:
+        """Lognormal σ of ln(duration), from the median and p90 (z_0.9 = 1.2816)."""
+        assert self.p90_h is not None
+        return math.log(self.p90_h / self.value_h) / 1.2815515655446004
+
+    @property
+    def mean_h(self) -> float:
+        """Mean duration in hours."""
+        if self.kind == "fixed":
+            return self.value_h
+        if self.kind == "exponential":
+            return self.value_h
+        if self.kind == "lognormal":
+            return self.value_h * math.exp(0.5 * self.sigma**2)
+        assert self.shape is not None
+        return self.value_h * math.gamma(1.0 + 1.0 / self.shape)
+
+    def sample(self, rng: np.random.Generator) -> float:
+        """Draw one duration in hours (always one uniform from ``rng``, for common random numbers)."""
+        u = rng.random()
+        return self.quantile(u)
+
+    def quantile(self, u: float) -> float:
+        """Duration in hours with cumulative probability ``u``."""
+        if self.kind == "fixed":
+            return self.value_h
+        if self.kind == "exponential":
+            return -self.value_h * math.log1p(-u)
+        if self.kind == "lognormal":
+            from scipy.special import ndtri
+
+            return self.value_h * math.exp(self.sigma * float(ndtri(u)))
+        assert self.shape is not None
+        return self.value_h * (-math.log1p(-u)) ** (1.0 / self.shape)
+
+    def cdf(self, hours: float | np.ndarray) -> float | np.ndarray:
+        """P(duration <= hours)."""
+        t = np.asarray(hours, dtype=float)
+        if self.kind == "fixed":
+            out = (t >= self.value_h).astype(float)
+        elif self.kind == "exponential":
+            out = -np.expm1(-np.maximum(t, 0.0) / self.value_h)
+        elif self.kind == "lognormal":
+            from scipy.special import ndtr
+
+            with np.errstate(divide="ignore"):
+                out = np.where(t > 0, ndtr(np.log(np.maximum(t, 1e-300) / self.value_h) / self.sigma), 0.0)
+        else:
+            assert self.shape is not None
+            out = -np.expm1(-((np.maximum(t, 0.0) / self.value_h) ** self.shape))
+        return float(out) if out.ndim == 0 else out
+
+
+@dataclass(frozen=True)
+class Study:
+    """Run settings: name, horizon in hours, replications, seed."""
+
+    name: str
+    horizon_h: float
+    replications: int
+    seed: int
+
+
+@dataclass(frozen=True)
+class Costs:
+    """Money per event, in the scenario's currency.
+
+    Attributes
+    ----------
+    currency
+        Currency label, e.g. ``"EUR"``.
+    planned_replacement
+        Labour and consumables of a planned bearing change (the bearing's own
+        price is added separately).
+    failure
+        Extra cost of a functional failure: secondary damage and call-out.
+    downtime_per_hour
+        Lost production per machine-hour down.
+    inspection
+        Cost of one inspection of one machine.
+    holding_rate_per_year
+        Holding cost of spares as a share of part value per year.
+    discount_rate_per_year
+        Annual discount rate (0 = undiscounted).
+    """
+
+    currency: str = "EUR"
+    planned_replacement: float = 0.0
+    failure: float = 0.0
+    downtime_per_hour: float = 0.0
+    inspection: float = 0.0
+    holding_rate_per_year: float = 0.0
+    discount_rate_per_year: float = 0.0
+
+
+@dataclass(frozen=True)
+class Bearing:
+    """A bearing kind of the plant (a catalogue entry and its commercial data).
+
+    Attributes
+    ----------
+    id
+        The plant's designation (invented in demos).
+    bearing_type
+        Kind of bearing.
+    dynamic_rating_N, static_rating_N, fatigue_limit_N
+        C, C0, Cu in N (C0 and Cu may be None).
+    price
+        Unit price in the scenario's currency.
+    factors
+        e, X, Y for contact-angle bearings.
+    """
+
+    id: str
+    bearing_type: BearingType
+    dynamic_rating_N: float
+    static_rating_N: float | None = None
+    fatigue_limit_N: float | None = None
+    price: float = 0.0
+    factors: LoadFactors | None = None
+
+
+@dataclass(frozen=True)
+class Policy:
+    """The maintenance policy of a position.
+
+    Attributes
+    ----------
+    kind
+        ``"run-to-failure"``, ``"age"`` (replace at ``interval_h`` operating
+        hours or at failure), ``"block"`` (replace on a calendar interval
+        ``interval_h`` whatever the age) or ``"condition"`` (inspect every
+        ``inspection_every_h`` calendar hours).
+    interval_h
+        Replacement interval in hours (operating hours for age, calendar for block).
+    block_scope
+        For block replacement: ``"machine"`` (all positions of the machine unit
+        at once) or ``"position"`` (each position on its own calendar).
+    inspection_every_h
+        Calendar hours between inspections (condition policy).
+    pf_interval
+        P-F interval: delay from detectable defect to functional failure.
+        ``None`` means zero (the defect is the failure).
+    detection
+        Probability that one inspection inside the P-F window finds the defect.
+    respond_within_h
+        Hours from detection to the planned replacement.
+    opportunistic_share
+        When the machine stops, also replace this position if its age exceeds
+        this share of ``interval_h`` (None: never).
+    """
+
+    kind: PolicyKind = "run-to-failure"
+    interval_h: float | None = None
+    block_scope: Literal["machine", "position"] = "machine"
+    inspection_every_h: float | None = None
+    pf_interval: Duration | None = None
+    detection: float = 1.0
+    respond_within_h: float = 0.0
+    opportunistic_share: float | None = None
+
+
+@dataclass(frozen=True)
+class Position:
+    """A bearing position of a machine.
+
+    Attributes
+    ----------
+    id
+        Position name, unique within its machine (e.g. ``"drive-end"``).
+    bearing_id
+        The :class:`Bearing` fitted here.
+    life
+        Life to the first detectable defect, operating hours (field factor applied).
+    policy
+        Maintenance policy of this position.
+    derived
+        The ratings-and-duty derivation (P, L10, ...), or None when the life
+        was given explicitly.
+    field_factor
+        Multiplier already applied to the catalogue life (1 = catalogue).
+    """
+
+    id: str
+    bearing_id: str
+    life: LifeDistribution
+    policy: Policy
+    derived: PositionLife | None = None
+    field_factor: float = 1.0
+
+
+@dataclass(frozen=True)
+class Machine:
+    """A machine type with ``count`` identical units.
+
+    Attributes
+    ----------
+    id
+        Machine name; units are named ``f"{id}#{k}"`` for k = 1..count (just
+        ``id`` when count is 1).
+    count
+        Number of identical units.
+    operating_share
+        Share of calendar time the machine runs (operating hours per year / 8766).
+    starting_age_h
+        Operating age of every position at the start, hours.
+    positions
+        The bearing positions.
+    """
+
+    id: str
+    count: int
+    operating_share: float
+    starting_age_h: float
+    positions: tuple[Position, ...]
+
+    def unit_ids(self) -> list[str]:
+        """Names of the machine's units."""
+        if self.count == 1:
+            return [self.id]
+        return [f"{self.id}#{k}" for k in range(1, self.count + 1)]
+
+
+@dataclass(frozen=True)
+class Group:
+    """A k-out-of-n group of machine units: up while at least ``need`` units are up."""
+
+    id: str
+    machines: tuple[str, ...]
+    need: int
+
+
+@dataclass(frozen=True)
+class Stock:
+    """Stores policy of one bearing kind: (s, S) with lead times.
+
+    Attributes
+    ----------
+    initial
+        Spares on hand at the start.
+    reorder_point
+        s: order when the inventory position (on hand + on order − backorders)
+        falls to s or below.
+    order_up_to
+        S: order enough to bring the inventory position back to S.
+    lead_time
+        Normal replenishment lead time.
+    emergency_lead_time
+        Lead time of an emergency order placed when a failure finds no spare
+        (None: no emergency orders).
+    emergency_premium
+        Extra cost of one emergency order.
+    """
+
+    initial: int
+    reorder_point: int
+    order_up_to: int
+    lead_time: Duration
+    emergency_lead_time: Duration | None = None
+    emergency_premium: float = 0.0
+
+
+@dataclass(frozen=True)
+class Crews:
+    """Maintenance crews: ``count`` (None = unlimited) and repair durations."""
+
+    count: int | None = None
+    planned_repair: Duration = field(default_factory=lambda: Duration.fixed(0.0))
+    unplanned_repair: Duration = field(default_factory=lambda: Duration.fixed(0.0))
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A whole validated fleet study.
+
+    Attributes
+    ----------
+    study, costs, crews
+        Settings.
+    bearings
+        Bearing kinds by id.
+    machines
+        Machine types (each with ``count`` units).
+    groups
+        k-out-of-n groups.
+    stores
+        Stock policy by bearing id; a bearing without an entry has unlimited spares.
+    life_model
+        Name of the default life model (``"iso281"``, ``"textbook"`` or ``"custom"``).
+    source
+        File the scenario came from (for messages), or ``"<memory>"``.
+    digest
+        SHA-256 of the source text (for the run summary).
+    """
+
+    study: Study
+    costs: Costs
+    bearings: dict[str, Bearing]
+    machines: tuple[Machine, ...]
+    groups: tuple[Group, ...] = ()
+    stores: dict[str, Stock] = field(default_factory=dict)
+    crews: Crews = field(default_factory=Crews)
+    life_model: str = "iso281"
+    source: str = "<memory>"
+    digest: str = ""
+
+    def machine(self, machine_id: str) -> Machine:
+        """The machine type named ``machine_id`` (KeyError if none)."""
+        for m in self.machines:
+            if m.id == machine_id:
+                return m
+        raise KeyError(machine_id)
+
+    def unit_index(self) -> dict[str, int]:
+        """Global index of every machine unit (machines in order, units 1..count)."""
+        out: dict[str, int] = {}
+        for m in self.machines:
+            for uid in m.unit_ids():
+                out[uid] = len(out)
+        return out
+
+    def group_members(self, group: Group) -> list[int]:
+        """Global unit indexes of a group's members.
+
+        A member may name a machine type (all its units) or one unit
+        (``"pump#2"``).
+        """
+        units = self.unit_index()
+        out: list[int] = []
+        for name in group.machines:
+            if name in units:
+                out.append(units[name])
+            else:
+                m = self.machine(name)  # KeyError for an unknown name
+                out.extend(units[u] for u in m.unit_ids())
+        return out
+
+    @property
+    def position_count(self) -> int:
+        """Number of bearing positions in the whole fleet (units × positions)."""
+        return sum(m.count * len(m.positions) for m in self.machines)
+
+    @property
+    def independent_positions(self) -> bool:
+        """True when no stores or crews couple the positions (vector engine possible)."""
+        return not self.stores and self.crews.count is None

@@ -1,0 +1,74 @@
+"""Maintenance crews: a shared pool that repair and planned jobs queue for.
+
+Conventions:
+
+* ``Crews.count`` crews work in parallel (a ``simpy.PriorityResource``);
+  ``None`` means as many as needed (no queue).
+* One crew does one stop of one machine unit, whatever the number of
+  bearings changed in that stop; it is held for the stop's repair duration.
+* Jobs wait first come, first served, except that repairs of failed units
+  go before planned work (priority 0 before 1). A planned job is never
+  interrupted once started.
+* A planned job asks for a crew only once its spares are on hand and its
+  start time has come; the machine keeps running while it waits. A failed
+  machine asks for a crew once the spares for its failed positions are on
+  hand (the crew is not tied up waiting for parts).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+import simpy
+
+UNPLANNED = 0
+PLANNED = 1
+
+
+class CrewPool:
+    """The crews of one replication.
+
+    Parameters
+    ----------
+    env
+        The replication's environment.
+    count
+        Number of crews, or None for unlimited.
+    """
+
+    def __init__(self, env: simpy.Environment, count: int | None) -> None:
+        self.env = env
+        self.resource = simpy.PriorityResource(env, count) if count is not None else None
+        self.busy_h = 0.0
+
+    def request(self, priority: int, notify: Callable[[], None] | None = None) -> simpy.Event | None:
+        """Ask for a crew; None means granted at once (unlimited crews).
+
+        ``notify`` is called when a queued request is granted.
+        """
+        if self.resource is None:
+            return None
+        req = self.resource.request(priority=priority)
+        if notify is not None and not req.triggered:
+            req.callbacks.append(lambda _ev: notify())
+        return req
+
+    @staticmethod
+    def granted(req: simpy.Event | None) -> bool:
+        """True when the request holds a crew."""
+        return req is None or req.triggered
+
+    def withdraw(self, req: simpy.Event | None) -> None:
+        """Give up a request: leave the queue, or hand the crew back if already granted."""
+        if req is None or self.resource is None:
+            return
+        if req.triggered:
+            self.resource.release(req)
+        else:
+            req.cancel()
+
+    def release(self, req: simpy.Event | None, worked_h: float) -> None:
+        """Hand a crew back after ``worked_h`` hours of work."""
+        self.busy_h += worked_h
+        if req is not None and self.resource is not None:
+            self.resource.release(req)

@@ -1,0 +1,114 @@
+"""k-out-of-n groups and the fleet: down time and down events.
+
+A group is up while at least ``need`` of its ``n`` units run; it is *down*
+while more than ``n − need`` units are stopped, for any reason (failure,
+waiting, repair or planned work). A *down event* is a transition from up to
+down, even one of zero length (a failure repaired in zero time still brought
+the group down).
+
+The **fleet** is down while any group is down; a scenario without groups has
+one implicit series system instead, down while any unit is stopped. Its first
+down event gives the system-reliability curve (probability of no down event
+by time t).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+
+@dataclass
+class _State:
+    name: str
+    need: int
+    size: int
+    down_units: int = 0
+    down: bool = False
+    since: float = 0.0
+    down_h: float = 0.0
+    events: int = 0
+    first_h: float = math.nan
+
+
+class GroupTracker:
+    """Tracks every group and the fleet as units stop and restart.
+
+    Parameters
+    ----------
+    groups
+        ``(name, need, [unit indexes])`` for each group.
+    n_units
+        Number of units in the fleet.
+    """
+
+    FLEET = "fleet"
+
+    def __init__(self, groups: list[tuple[str, int, list[int]]], n_units: int) -> None:
+        self.states = [_State(name, need, len(members)) for name, need, members in groups]
+        self.unit_groups: list[list[int]] = [[] for _ in range(n_units)]
+        for g, (_name, _need, members) in enumerate(groups):
+            for u in members:
+                self.unit_groups[u].append(g)
+        self.by_groups = bool(groups)
+        # Fleet: down while any group is down (or any unit, without groups).
+        self.fleet = _State(self.FLEET, 1, len(groups) if groups else n_units)
+        self.fleet.need = self.fleet.size  # down as soon as one member is down
+
+    @staticmethod
+    def _member_down(st: _State, now: float) -> bool:
+        st.down_units += 1
+        if not st.down and st.down_units > st.size - st.need:
+            st.down = True
+            st.since = now
+            st.events += 1
+            if st.events == 1:
+                st.first_h = now
+            return True
+        return False
+
+    @staticmethod
+    def _member_up(st: _State, now: float) -> bool:
+        st.down_units -= 1
+        if st.down and st.down_units <= st.size - st.need:
+            st.down = False
+            st.down_h += now - st.since
+            return True
+        return False
+
+    def unit_down(self, unit: int, now: float) -> None:
+        """Unit ``unit`` stopped at calendar hour ``now``."""
+        if self.by_groups:
+            for g in self.unit_groups[unit]:
+                if self._member_down(self.states[g], now):
+                    self._member_down(self.fleet, now)
+        else:
+            self._member_down(self.fleet, now)
+
+    def unit_up(self, unit: int, now: float) -> None:
+        """Unit ``unit`` restarted at calendar hour ``now``."""
+        if self.by_groups:
+            for g in self.unit_groups[unit]:
+                if self._member_up(self.states[g], now):
+                    self._member_up(self.fleet, now)
+        else:
+            self._member_up(self.fleet, now)
+
+    def finish(self, horizon_h: float) -> list[dict[str, float | int | str | bool]]:
+        """One row per group and a last row for the fleet."""
+        rows: list[dict[str, float | int | str | bool]] = []
+        for st in [*self.states, self.fleet]:
+            down_h = st.down_h + (horizon_h - st.since if st.down else 0.0)
+            rows.append(
+                {
+                    "group": st.name,
+                    "need": st.need,
+                    "units": st.size,
+                    "down_h": down_h,
+                    "down_share": down_h / horizon_h,
+                    "down_events": st.events,
+                    "had_down": st.events > 0,
+                    "first_down_h": st.first_h,
+                }
+            )
+        return rows

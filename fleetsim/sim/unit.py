@@ -1,0 +1,542 @@
+"""One machine unit and its bearing positions: ageing, failures, stops and renewals.
+
+A unit is one SimPy process that alternates between running and stopped.
+
+**Ageing.** The unit keeps an operating-hour clock that advances at
+``operating_share`` per calendar hour while it runs and is frozen while it is
+stopped; every position ages on it. Each life is stored as the clock values
+at which the position reaches its first detectable defect (P), its
+functional failure (F = P + P-F interval, also in operating hours: a defect
+grows only while the machine runs) and, under age replacement, its due age.
+The unit therefore only needs one timer, to the earliest of those values.
+
+**Failure.** At F the unit stops. It waits for a spare for each failed
+position (``waiting_spare``), then for a crew (``waiting_crew``, failures go
+before planned work), then for the unplanned repair duration (``repair``),
+and runs again. One repair duration covers the whole stop; it is the
+quantile, under the stop's duration distribution, of a uniform drawn for the
+life that ended (the first failed position's, or the first planned one's), so
+the same life ending the same way gets the same stop duration under any
+policy (common random numbers).
+
+**Planned work** (age due, block date, detected defect) is requested while
+the unit runs: the spares are requested at once, the unit keeps running until
+they are all on hand, the start time has come (detection: ``respond_within_h``
+after the inspection) and a crew is free; then it stops for one planned
+repair duration (``planned``). If the unit fails meanwhile, the planned
+positions whose spares are on hand are changed in the failure's stop.
+
+**Opportunistic changes.** When a crew starts on a stopped unit, every other
+position whose age is at least ``opportunistic_share × interval_h`` is
+changed in the same stop if a spare is on the shelf right now (opportunistic
+changes never wait for parts).
+
+**Renewal.** A replaced position is as good as new; its next life is the next
+draw of its own life stream (or of ``life_sampler``).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Generator
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import simpy
+
+from fleetsim.scenario.model import Crews, Machine, Position
+from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
+from fleetsim.sim.groups import GroupTracker
+from fleetsim.sim.records import Recorder
+from fleetsim.sim.stores import Claim, SpareStore, UnlimitedSupply
+from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
+
+INF = math.inf
+_FAILURE, _PLANNED = 0, 1
+# Phases of a unit, in the order of ReplicationResult.units' columns.
+RUNNING, WAITING_SPARE, WAITING_CREW, REPAIR, PLANNED_WORK = range(5)
+
+#: ``life_sampler(unit_id, position_id, k)`` → operating hours from fitting to the
+#: first detectable defect of the k-th bearing in that position (k = 0 is the
+#: bearing fitted at the start: its *remaining* life beyond the starting age).
+LifeSampler = Callable[[str, str, int], float]
+
+
+@dataclass
+class SimContext:
+    """What all units of one replication share."""
+
+    env: simpy.Environment
+    recorder: Recorder
+    crews: CrewPool
+    crews_spec: Crews
+    stores: dict[str, SpareStore | UnlimitedSupply]
+    groups: GroupTracker
+    streams: Streams
+    life_sampler: LifeSampler | None = None
+
+
+class PositionState:
+    """The current bearing of one position of one unit, and its counters."""
+
+    __slots__ = (
+        "id", "bearing_id", "policy", "life", "store", "interval_h", "is_age", "is_condition",
+        "life_rng", "_pf_rng", "_det_rng", "_repair_rng", "_key", "_streams",
+        "k", "stop_u", "installed_op", "defect_op", "fail_op", "due_op", "defect_seen", "detected",
+        "failed", "pending", "start_at", "claim",
+        "failures", "planned", "opportunistic", "defects", "detections",
+    )  # fmt: skip
+
+    def __init__(
+        self,
+        spec: Position,
+        store: SpareStore | UnlimitedSupply,
+        streams: Streams,
+        key: tuple[int, int, int],
+    ) -> None:
+        self.id = spec.id
+        self.bearing_id = spec.bearing_id
+        self.policy = spec.policy
+        self.life = spec.life
+        self.store = store
+        self.interval_h = spec.policy.interval_h
+        self.is_age = spec.policy.kind == "age"
+        self.is_condition = spec.policy.kind == "condition"
+        self._streams = streams
+        self._key = key
+        self.life_rng = streams.position(*key, LIFE)
+        self._pf_rng: np.random.Generator | None = None
+        self._det_rng: np.random.Generator | None = None
+        self._repair_rng: np.random.Generator | None = None
+        self.k = 0
+        self.stop_u = 0.5
+        self.installed_op = self.defect_op = self.fail_op = self.due_op = 0.0
+        self.defect_seen = self.detected = self.failed = self.pending = False
+        self.start_at = INF
+        self.claim: Claim | None = None
+        self.failures = self.planned = self.opportunistic = self.defects = self.detections = 0
+
+    @property
+    def pf_rng(self) -> np.random.Generator:
+        """Generator of this position's P-F intervals (created on first use)."""
+        if self._pf_rng is None:
+            self._pf_rng = self._streams.position(*self._key, PF)
+        return self._pf_rng
+
+    @property
+    def repair_rng(self) -> np.random.Generator:
+        """Generator of the stop-duration quantiles of this position's lives."""
+        if self._repair_rng is None:
+            self._repair_rng = self._streams.position(*self._key, STOP)
+        return self._repair_rng
+
+    @property
+    def det_rng(self) -> np.random.Generator:
+        """Generator of this position's detection draws (created on first use)."""
+        if self._det_rng is None:
+            self._det_rng = self._streams.position(*self._key, DETECTION)
+        return self._det_rng
+
+
+class UnitRunner:
+    """The process of one machine unit.
+
+    Parameters
+    ----------
+    ctx
+        Shared state of the replication.
+    machine
+        The machine type.
+    machine_index, unit_number
+        Indexes used to key the random streams.
+    unit_index
+        Index of the unit in the fleet (for groups).
+    unit_id
+        The unit's name.
+    """
+
+    def __init__(
+        self,
+        ctx: SimContext,
+        machine: Machine,
+        machine_index: int,
+        unit_number: int,
+        unit_index: int,
+        unit_id: str,
+    ) -> None:
+        self.ctx = ctx
+        self.env = ctx.env
+        self.rec = ctx.recorder
+        self.counts = ctx.recorder.counts
+        self.log = ctx.recorder.log if ctx.recorder.keep_events else None
+        self.machine = machine
+        self.id = unit_id
+        self.index = unit_index
+        self.share = machine.operating_share
+        self.start_age_h = machine.starting_age_h
+        self.positions = [
+            PositionState(p, ctx.stores[p.bearing_id], ctx.streams, (machine_index, unit_number, j))
+            for j, p in enumerate(machine.positions)
+        ]
+        self.clock_op = 0.0
+        self.t_sync = 0.0
+        self.running = True
+        self.pending: list[PositionState] = []
+        self.start_at = INF
+        self.crew_asked = False
+        self.crew_req: simpy.Event | None = None
+        self.wake: simpy.Event | None = None
+        self._timer: simpy.Event | None = None
+        self._timer_at = INF
+        self._timer_op: float | None = None
+        self.phase = RUNNING
+        self.phase_t = 0.0
+        self.phase_h = [0.0] * 5
+        self.stops = 0
+        spec = ctx.crews_spec
+        self.random_stops = spec.planned_repair.kind != "fixed" or spec.unplanned_repair.kind != "fixed"
+        for p in self.positions:
+            self._install(p)
+
+    # --- clock, phases, timer ---------------------------------------------------------
+    def _sync(self) -> None:
+        now = self.env.now
+        if self.running:
+            self.clock_op += self.share * (now - self.t_sync)
+        self.t_sync = now
+
+    def _phase(self, phase: int) -> None:
+        now = self.env.now
+        self.phase_h[self.phase] += now - self.phase_t
+        self.phase = phase
+        self.phase_t = now
+
+    def _poke(self) -> None:
+        w = self.wake
+        if w is not None and not w.triggered:
+            w.succeed()
+
+    def _arm(self, at: float, op_target: float | None) -> None:
+        self._timer_op = op_target
+        if self._timer is not None and self._timer_at == at:
+            return
+        t = self.env.timeout(at - self.env.now)
+        t.callbacks.append(self._timer_fired)
+        self._timer = t
+        self._timer_at = at
+
+    def _timer_fired(self, ev: simpy.Event) -> None:
+        if ev is not self._timer:
+            return  # superseded
+        self._timer = None
+        target = self._timer_op
+        if target is not None and self.running:
+            self._sync()
+            if self.clock_op < target:  # rounding of (target − clock) / share
+                self.clock_op = target
+        self._poke()
+
+    def _go_down(self, phase: int) -> None:
+        self._sync()
+        self.running = False
+        self._timer = None
+        self._phase(phase)
+        self.stops += 1
+        self.ctx.groups.unit_down(self.index, self.env.now)
+
+    def _go_up(self) -> None:
+        self._sync()
+        self.running = True
+        self._phase(RUNNING)
+        self.ctx.groups.unit_up(self.index, self.env.now)
+        if self.log is not None:
+            self.log(self.env.now, self.id, "", "up")
+
+    # --- lives ---------------------------------------------------------------------
+    def _install(self, p: PositionState) -> None:
+        """Fit a new bearing in ``p`` (or, for k = 0, take the one fitted at the start)."""
+        clock = self.clock_op
+        k = p.k
+        age0 = self.start_age_h if k == 0 else 0.0
+        sampler = self.ctx.life_sampler
+        if sampler is not None:
+            life = float(sampler(self.id, p.id, k))
+        elif k == 0:
+            life = float(p.life.residual_sample(p.life_rng, age0))
+        else:
+            life = float(p.life.sample(p.life_rng))
+        pf = p.policy.pf_interval
+        pf_h = pf.sample(p.pf_rng) if pf is not None else 0.0
+        if self.random_stops:
+            p.stop_u = float(p.repair_rng.random())
+        p.k = k + 1
+        p.installed_op = clock - age0
+        p.defect_op = clock + life
+        p.fail_op = p.defect_op + pf_h
+        p.due_op = p.installed_op + p.interval_h if p.is_age and p.interval_h else INF
+        p.defect_seen = p.detected = p.failed = p.pending = False
+        p.start_at = INF
+        p.claim = None
+
+    def _defect(self, p: PositionState) -> None:
+        p.defect_seen = True
+        p.defects += 1
+        self.counts["defects"] += 1
+        if self.log is not None and p.fail_op > p.defect_op:
+            self.log(self.env.now, self.id, p.id, "defect")
+
+    def _fail(self, p: PositionState) -> None:
+        p.failed = True
+        p.failures += 1
+        counts = self.counts
+        counts["failures"] += 1
+        if p.is_condition:
+            counts["failures_after_detection" if p.detected else "missed_defects"] += 1
+        if self.log is not None:
+            self.log(self.env.now, self.id, p.id, "failure")
+        if p.claim is None:
+            p.claim = p.store.demand(self.id, p.id, self._poke, failure=True)
+        elif not p.claim.filled:  # a planned request was already waiting for a spare
+            p.store.expedite(p.claim, self.id, p.id)
+
+    # --- requests from policies --------------------------------------------------------
+    def _request(self, p: PositionState, start_at: float) -> None:
+        if p.failed:
+            return  # it is about to be changed anyway
+        if p.pending:
+            if start_at < p.start_at:
+                p.start_at = start_at
+                self.start_at = min(self.start_at, start_at)
+            return
+        p.pending = True
+        p.start_at = start_at
+        self.pending.append(p)
+        if start_at < self.start_at:
+            self.start_at = start_at
+        if p.claim is None:
+            p.claim = p.store.demand(self.id, p.id, self._poke)
+
+    def request_planned(self, positions: list[PositionState], start_at: float) -> None:
+        """Ask for planned replacement of ``positions`` at calendar hour ``start_at`` or later."""
+        for p in positions:
+            self._request(p, start_at)
+        self._poke()
+
+    def inspect(self, positions: list[PositionState]) -> None:
+        """One inspection visit of this unit, covering ``positions`` (skipped while stopped)."""
+        if not self.running:
+            return
+        self._sync()
+        now = self.env.now
+        self.counts["inspections"] += 1
+        if self.log is not None:
+            self.log(now, self.id, "", "inspection")
+        clock = self.clock_op
+        found = False
+        for p in positions:
+            if p.detected or p.failed or p.defect_op > clock or p.fail_op <= clock:
+                continue
+            if p.det_rng.random() < p.policy.detection:
+                p.detected = True
+                p.detections += 1
+                self.counts["detections"] += 1
+                if self.log is not None:
+                    self.log(now, self.id, p.id, "detection")
+                self._request(p, now + p.policy.respond_within_h)
+                found = True
+            else:
+                self.counts["missed_inspections"] += 1
+        if found:
+            self._poke()
+
+    # --- the process ---------------------------------------------------------------
+    def run(self) -> Generator[simpy.Event, Any, None]:
+        """The unit's SimPy process: run, stop, repair, run again, ..."""
+        while True:
+            stop = yield from self._run()
+            if stop == _FAILURE:
+                yield from self._corrective_stop()
+            else:
+                yield from self._planned_stop()
+
+    def _run(self) -> Generator[simpy.Event, Any, int]:
+        env = self.env
+        while True:
+            self._sync()
+            clock = self.clock_op
+            now = env.now
+            nxt = INF
+            failed: list[PositionState] = []
+            for p in self.positions:
+                if not p.defect_seen:
+                    if p.defect_op <= clock:
+                        self._defect(p)
+                    elif p.defect_op < nxt:
+                        nxt = p.defect_op
+                if p.fail_op <= clock:
+                    failed.append(p)
+                    continue
+                if p.fail_op < nxt:
+                    nxt = p.fail_op
+                if p.due_op <= clock:
+                    p.due_op = INF
+                    self._request(p, now)
+                elif p.due_op < nxt:
+                    nxt = p.due_op
+            if failed:
+                for p in failed:
+                    self._fail(p)
+                return _FAILURE
+            if self.pending and self._job_ready(now):
+                return _PLANNED
+            at, op_target = INF, None
+            if nxt < INF and self.share > 0.0:
+                at, op_target = now + (nxt - clock) / self.share, nxt
+            if self.pending and now < self.start_at < at:
+                at, op_target = self.start_at, None
+            self.wake = env.event()
+            if at < INF:
+                self._arm(at, op_target)
+            yield self.wake
+
+    def _job_ready(self, now: float) -> bool:
+        """Drive the pending planned job; True when the unit should stop for it now.
+
+        The crew is asked for once every pending spare is on hand and the start
+        time has come. Work requested after that (whose spare may still be on
+        its way) does not hold the crew back: the stop changes what it can.
+        """
+        if not self.crew_asked:
+            for p in self.pending:
+                if not p.claim.filled:  # type: ignore[union-attr]
+                    return False
+            if now < self.start_at:
+                return False
+            self.crew_asked = True
+            self.crew_req = self.ctx.crews.request(PLANNED, self._poke)
+        return CrewPool.granted(self.crew_req)
+
+    def _corrective_stop(self) -> Generator[simpy.Event, Any, None]:
+        env = self.env
+        crews = self.ctx.crews
+        self._go_down(WAITING_SPARE)
+        if self.crew_asked:  # a planned job was queuing for a crew: give it up for now
+            crews.withdraw(self.crew_req)
+            self.crew_asked = False
+            self.crew_req = None
+        failed = [p for p in self.positions if p.failed]
+        while not all(p.claim.filled for p in failed):  # type: ignore[union-attr]
+            self.wake = env.event()
+            yield self.wake
+        self._phase(WAITING_CREW)
+        req = crews.request(UNPLANNED)
+        if req is not None and not req.triggered:
+            yield req
+        self._phase(REPAIR)
+        if self.log is not None:
+            self.log(env.now, self.id, "", "work")
+        work = self._work_list(failed)
+        duration = self.ctx.crews_spec.unplanned_repair.quantile(failed[0].stop_u)
+        if duration > 0.0:
+            yield env.timeout(duration)
+        self._renew(work)
+        crews.release(req, duration)
+        self._go_up()
+
+    def _planned_stop(self) -> Generator[simpy.Event, Any, None]:
+        env = self.env
+        self._go_down(PLANNED_WORK)
+        if self.log is not None:
+            self.log(env.now, self.id, "", "stop")
+        req = self.crew_req
+        self.crew_asked = False
+        self.crew_req = None
+        work = self._work_list([])
+        if not work:  # cannot happen: asked for a crew only with spares on hand
+            self.ctx.crews.release(req, 0.0)
+            self._go_up()
+            return
+        lead = next((p for p, kind in work if kind == "planned"), work[0][0])
+        duration = self.ctx.crews_spec.planned_repair.quantile(lead.stop_u)
+        if duration > 0.0:
+            yield env.timeout(duration)
+        self._renew(work)
+        self.ctx.crews.release(req, duration)
+        self._go_up()
+
+    def _work_list(self, failed: list[PositionState]) -> list[tuple[PositionState, str]]:
+        """Positions changed in this stop: failed, planned with spares, opportunistic."""
+        work = [(p, "corrective") for p in failed]
+        clock = self.clock_op
+        for p in self.positions:
+            if p.failed:
+                continue
+            if p.pending:
+                if p.claim is not None and p.claim.filled:
+                    work.append((p, "planned"))
+                continue
+            share = p.policy.opportunistic_share
+            if (
+                share is not None
+                and p.interval_h
+                and clock - p.installed_op >= share * p.interval_h
+                and p.store.try_issue()
+            ):
+                work.append((p, "opportunistic"))
+        return work
+
+    def _renew(self, work: list[tuple[PositionState, str]]) -> None:
+        now = self.env.now
+        counts = self.counts
+        for p, kind in work:
+            if kind == "planned":
+                p.planned += 1
+                counts["planned"] += 1
+            elif kind == "opportunistic":
+                p.opportunistic += 1
+                counts["opportunistic"] += 1
+            if self.log is not None:
+                self.log(now, self.id, p.id, kind)
+            self._install(p)
+        self.pending = [p for p in self.pending if p.pending]
+        self.start_at = min((p.start_at for p in self.pending), default=INF)
+
+    # --- end of the run ----------------------------------------------------------------
+    def finish(self, horizon_h: float) -> tuple[dict[str, Any], list[dict[str, Any]]]:
+        """Close the books at the horizon: the unit's row and its positions' rows."""
+        self._sync()
+        self._phase(self.phase)
+        h = self.phase_h
+        down = h[WAITING_SPARE] + h[WAITING_CREW] + h[REPAIR] + h[PLANNED_WORK]
+        unit_row = {
+            "unit": self.id,
+            "machine": self.machine.id,
+            "running_h": h[RUNNING],
+            "operating_h": h[RUNNING] * self.share,
+            "waiting_spare_h": h[WAITING_SPARE],
+            "waiting_crew_h": h[WAITING_CREW],
+            "repair_h": h[REPAIR],
+            "planned_h": h[PLANNED_WORK],
+            "down_h": down,
+            "availability": h[RUNNING] / horizon_h,
+            "failures": sum(p.failures for p in self.positions),
+            "stops": self.stops,
+        }
+        rows = [
+            {
+                "unit": self.id,
+                "position": p.id,
+                "machine": self.machine.id,
+                "bearing": p.bearing_id,
+                "policy": p.policy.kind,
+                "failures": p.failures,
+                "planned": p.planned,
+                "opportunistic": p.opportunistic,
+                "defects": p.defects,
+                "detections": p.detections,
+                "age_end_h": self.clock_op - p.installed_op,
+            }
+            for p in self.positions
+        ]
+        return unit_row, rows

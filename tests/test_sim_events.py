@@ -1,0 +1,466 @@
+"""Exact event logs of the engine with fixed lifetimes (no randomness).
+
+Every life comes from a ``life_sampler`` table and every duration is fixed,
+so each log below is worked out by hand from the engine's documented rules
+(see the comments) and pinned exactly.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from fleetsim.errors import InputError
+from fleetsim.life import LifeDistribution
+from fleetsim.scenario.model import (
+    Bearing,
+    Costs,
+    Crews,
+    Duration,
+    Group,
+    Machine,
+    Policy,
+    Position,
+    Scenario,
+    Stock,
+    Study,
+)
+from fleetsim.sim import simulate
+
+LIFE = LifeDistribution(shape=1.5, scale_h=10_000.0)  # unused when lives are tabled
+NEVER = 1e12
+B = "FB-1"
+
+
+def pos(pid: str, policy: Policy | None = None, bearing: str = B) -> Position:
+    return Position(pid, bearing, LIFE, policy or Policy())
+
+
+B2 = "FR-2"
+
+
+def scenario(machines, *, stores=None, crews=None, groups=(), costs=None, horizon=500.0):
+    return Scenario(
+        study=Study("test", horizon, 1, 0),
+        costs=costs or Costs(),
+        bearings={B: Bearing(B, "ball", 10_000.0, price=100.0),
+                  B2: Bearing(B2, "roller", 20_000.0, price=300.0)},
+        machines=tuple(machines),
+        groups=tuple(groups),
+        stores=stores or {},
+        crews=crews or Crews(),
+    )
+
+
+def lives(table):
+    """life_sampler from {(unit, position): [life_0, life_1, ...]}; later lives never end."""
+
+    def sampler(unit: str, position: str, k: int) -> float:
+        seq = table.get((unit, position), [])
+        return seq[k] if k < len(seq) else NEVER
+
+    return sampler
+
+
+def fixed(h: float) -> Duration:
+    return Duration.fixed(h)
+
+
+def test_failure_waits_for_the_replenishment_order() -> None:
+    # Stock 1, (s, S) = (0, 1), lead 200 h; one crew, repair 8 h.
+    sc = scenario(
+        [Machine("P1", 1, 1.0, 0.0, (pos("de"),))],
+        stores={B: Stock(1, 0, 1, fixed(200.0))},
+        crews=Crews(1, fixed(4.0), fixed(8.0)),
+        costs=Costs(planned_replacement=50.0, failure=1000.0, downtime_per_hour=10.0,
+                    holding_rate_per_year=0.25),
+    )
+    r = simulate(sc, 1, life_sampler=lives({("P1", "de"): [100.0, 50.0]}))
+    assert r.event_log() == [
+        # t=100: the spare on the shelf is issued; position 0 <= s: order S − 0 = 1 (arrives 300)
+        (100.0, "P1", "de", "failure"),
+        (100.0, "", B, "order"),
+        (100.0, "P1", "", "work"),
+        (108.0, "P1", "de", "corrective"),
+        (108.0, "P1", "", "up"),
+        # second life 50 h: fails at 158 with an empty shelf; position 0 + 1 − 1 = 0: order 1
+        (158.0, "P1", "de", "failure"),
+        (158.0, "P1", "de", "stockout"),
+        (158.0, "", B, "order"),
+        (300.0, "", B, "delivery"),  # first order arrives: goes to the waiting failure
+        (300.0, "P1", "", "work"),
+        (308.0, "P1", "de", "corrective"),
+        (308.0, "P1", "", "up"),
+        (358.0, "", B, "delivery"),
+    ]
+    u = r.units.loc["P1"]
+    assert u["waiting_spare_h"] == 142.0
+    assert u["waiting_crew_h"] == 0.0
+    assert u["repair_h"] == 16.0
+    assert u["planned_h"] == 0.0
+    assert u["down_h"] == 158.0
+    assert u["availability"] == pytest.approx((500.0 - 158.0) / 500.0)
+    assert u["operating_h"] == pytest.approx(342.0)
+    s = r.spares.loc[B]
+    assert (s["demands"], s["issued"], s["stockouts"], s["orders"]) == (2, 2, 1, 2)
+    assert s["fill_rate"] == 0.5
+    # On hand: 1 on [0, 100), 0 on [100, 358), 1 on [358, 500).
+    assert s["mean_on_hand"] == pytest.approx((100.0 + 142.0) / 500.0)
+    assert r.counts["failures"] == 2 and r.counts["stockouts"] == 1
+    years = 500.0 / 8766.0
+    assert r.costs["failure_labour"] == 2 * (50.0 + 1000.0)
+    assert r.costs["parts"] == 200.0
+    assert r.costs["downtime"] == 158.0 * 10.0
+    assert r.costs["holding"] == pytest.approx(0.25 * 100.0 * (242.0 / 500.0) * years)
+    assert r.costs["total"] == pytest.approx(sum(v for k, v in r.costs.items() if k != "total"))
+    # The flat figures agree with the tables.
+    f = r.figures()
+    assert f["failures"] == 2.0 and f["stockouts"] == 1.0
+    assert f["downtime.waiting_spare_h"] == 142.0 and f["downtime.total_h"] == 158.0
+    assert f["availability.P1"] == pytest.approx(342.0 / 500.0) == f["availability"]
+    assert f["spares.FB-1.fill_rate"] == 0.5 and f["spares.FB-1.issued"] == 2.0
+    assert f["cost.total"] == pytest.approx(r.costs["total"])
+    assert f["cost.per_operating_h"] == pytest.approx(r.costs["total"] / 342.0)
+    assert f["group.fleet.had_down"] == 1.0 and f["group.fleet.first_down_h"] == 100.0
+
+
+def test_crew_queue_first_come_first_served_but_failures_first() -> None:
+    # One crew. A#1 fails at 100 (repair 10 h → 110). B's age replacement falls due
+    # at 102 and queues (planned, B keeps running). A#2 fails at 105 and goes
+    # before B (failures first): crew 110 → 120. B stops at 120, planned 4 h.
+    sc = scenario(
+        [
+            Machine("A", 2, 1.0, 0.0, (pos("p"),)),
+            Machine("B", 1, 1.0, 0.0, (pos("p", Policy("age", interval_h=102.0)),)),
+        ],
+        crews=Crews(1, fixed(4.0), fixed(10.0)),
+        horizon=200.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("A#1", "p"): [100.0], ("A#2", "p"): [105.0]}))
+    assert r.event_log() == [
+        (100.0, "A#1", "p", "failure"),
+        (100.0, "A#1", "", "work"),
+        (105.0, "A#2", "p", "failure"),
+        (110.0, "A#1", "p", "corrective"),
+        (110.0, "A#1", "", "up"),
+        (110.0, "A#2", "", "work"),
+        (120.0, "A#2", "p", "corrective"),
+        (120.0, "A#2", "", "up"),
+        (120.0, "B", "", "stop"),
+        (124.0, "B", "p", "planned"),
+        (124.0, "B", "", "up"),
+    ]
+    assert r.units.loc["A#2", "waiting_crew_h"] == 5.0
+    assert r.units.loc["A#2", "repair_h"] == 10.0
+    assert r.units.loc["B", "planned_h"] == 4.0
+    assert r.units.loc["B", "waiting_crew_h"] == 0.0  # B ran while its job queued
+    assert r.crew_busy_h == 24.0
+
+
+def test_emergency_order_serves_the_failure_that_placed_it() -> None:
+    # Shelf empty, (s, S) = (0, 1): the start-up review orders 1 (lead 500 h).
+    # The failure at 100 finds no spare: one emergency order (24 h, premium 1000),
+    # counted in the inventory position, so no second normal order.
+    sc = scenario(
+        [Machine("P1", 1, 1.0, 0.0, (pos("de"),))],
+        stores={B: Stock(0, 0, 1, fixed(500.0), fixed(24.0), 1000.0)},
+        crews=Crews(None, fixed(4.0), fixed(8.0)),
+        horizon=700.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("P1", "de"): [100.0]}))
+    assert r.event_log() == [
+        (0.0, "", B, "order"),
+        (100.0, "P1", "de", "failure"),
+        (100.0, "P1", "de", "stockout"),
+        (100.0, "P1", "de", "emergency_order"),
+        (124.0, "", B, "delivery"),
+        (124.0, "P1", "", "work"),
+        (132.0, "P1", "de", "corrective"),
+        (132.0, "P1", "", "up"),
+        (500.0, "", B, "delivery"),
+    ]
+    assert r.units.loc["P1", "waiting_spare_h"] == 24.0
+    assert r.spares.loc[B, "emergency_orders"] == 1
+    assert r.spares.loc[B, "orders"] == 1
+    assert r.costs["emergency"] == 1000.0
+    assert r.counts["emergency_orders"] == 1
+
+
+def test_age_replacement_at_the_interval_in_operating_hours() -> None:
+    # Operating share 0.5: position a (age 100 h) is due at clock 100 = t 200.
+    # b runs to failure at clock 130: the unit restarts at t 204 at clock 100,
+    # so b fails at 204 + 30/0.5 = 264; repair 10 h. a is next due at clock 200:
+    # 274 + (200 − 130)/0.5 = 414.
+    sc = scenario(
+        [Machine("U", 1, 0.5, 0.0, (pos("a", Policy("age", interval_h=100.0)), pos("b")))],
+        crews=Crews(None, fixed(4.0), fixed(10.0)),
+        costs=Costs(planned_replacement=50.0, failure=1000.0),
+        horizon=450.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("U", "b"): [130.0]}))
+    assert r.event_log() == [
+        (200.0, "U", "", "stop"),
+        (204.0, "U", "a", "planned"),
+        (204.0, "U", "", "up"),
+        (264.0, "U", "b", "failure"),
+        (264.0, "U", "", "work"),
+        (274.0, "U", "b", "corrective"),
+        (274.0, "U", "", "up"),
+        (414.0, "U", "", "stop"),
+        (418.0, "U", "a", "planned"),
+        (418.0, "U", "", "up"),
+    ]
+    u = r.units.loc["U"]
+    assert (u["planned_h"], u["repair_h"], u["down_h"]) == (8.0, 10.0, 18.0)
+    assert u["operating_h"] == pytest.approx(0.5 * (450.0 - 18.0))
+    ages = r.positions["age_end_h"]
+    assert ages.loc[("U", "a")] == pytest.approx(216.0 - 200.0)
+    assert ages.loc[("U", "b")] == pytest.approx(216.0 - 130.0)
+    assert r.costs["planned_labour"] == 2 * 50.0
+    assert r.costs["failure_labour"] == 1050.0
+    assert r.costs["parts"] == 3 * 100.0
+
+
+def test_starting_age_counts_towards_the_age_interval() -> None:
+    sc = scenario(
+        [Machine("U", 1, 1.0, 60.0, (pos("a", Policy("age", interval_h=100.0)),))],
+        horizon=150.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({}))
+    assert r.event_log() == [
+        (40.0, "U", "", "stop"),
+        (40.0, "U", "a", "planned"),
+        (40.0, "U", "", "up"),
+        (140.0, "U", "", "stop"),
+        (140.0, "U", "a", "planned"),
+        (140.0, "U", "", "up"),
+    ]
+
+
+def test_block_replacement_changes_all_block_positions_of_the_unit() -> None:
+    # a, b on a 300 h machine-wide block; c runs to failure. b fails at 250 and is
+    # changed (repair 10 h); the block at 300 still changes a and b (blind to age).
+    machine = Machine(
+        "U", 1, 1.0, 0.0,
+        (pos("a", Policy("block", interval_h=300.0)), pos("b", Policy("block", interval_h=300.0)),
+         pos("c")),
+    )  # fmt: skip
+    sc = scenario([machine], crews=Crews(None, fixed(5.0), fixed(10.0)), horizon=550.0)
+    r = simulate(sc, 1, life_sampler=lives({("U", "b"): [250.0]}))
+    assert r.event_log() == [
+        (250.0, "U", "b", "failure"),
+        (250.0, "U", "", "work"),
+        (260.0, "U", "b", "corrective"),
+        (260.0, "U", "", "up"),
+        (300.0, "U", "", "stop"),
+        (305.0, "U", "a", "planned"),
+        (305.0, "U", "b", "planned"),
+        (305.0, "U", "", "up"),
+    ]
+    assert r.counts["planned"] == 2 and r.counts["failures"] == 1
+    assert r.units.loc["U", "stops"] == 2
+
+
+def test_block_per_position_keeps_separate_calendars() -> None:
+    machine = Machine(
+        "U", 1, 1.0, 0.0,
+        (pos("a", Policy("block", interval_h=200.0, block_scope="position")),
+         pos("b", Policy("block", interval_h=300.0, block_scope="position"))),
+    )  # fmt: skip
+    sc = scenario([machine], crews=Crews(None, fixed(5.0), fixed(10.0)), horizon=650.0)
+    log = simulate(sc, 1, life_sampler=lives({})).event_log()
+    planned = [(t, p) for t, _u, p, k in log if k == "planned"]
+    assert planned == [(205.0, "a"), (305.0, "b"), (405.0, "a"), (605.0, "a"), (605.0, "b")]
+
+
+def test_planned_job_waits_for_its_spare_while_the_unit_runs() -> None:
+    # Age due at 100 with an empty shelf: the job waits for the delivery at 150
+    # (the unit keeps running, no downtime), then stops.
+    sc = scenario(
+        [Machine("U", 1, 1.0, 0.0, (pos("a", Policy("age", interval_h=100.0)),))],
+        stores={B: Stock(0, -1, 0, fixed(50.0))},
+        crews=Crews(None, fixed(4.0), fixed(8.0)),
+        horizon=200.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({}))
+    assert r.event_log() == [
+        (100.0, "U", "a", "stockout"),
+        (100.0, "", B, "order"),
+        (150.0, "", B, "delivery"),
+        (150.0, "U", "", "stop"),
+        (154.0, "U", "a", "planned"),
+        (154.0, "U", "", "up"),
+    ]
+    assert r.units.loc["U", "waiting_spare_h"] == 0.0
+    assert r.units.loc["U", "planned_h"] == 4.0
+
+
+def test_queued_planned_job_does_not_hold_the_crew_for_a_late_spare() -> None:
+    # One crew, busy on X from 90 to 140. U's position a falls due at 100 (spare on
+    # hand) and queues for the crew; b (bearing FR-2, empty shelf, lead 100 h) falls
+    # due at 110. At 140 the crew does a only; b follows when its spare arrives.
+    sc = scenario(
+        [
+            Machine("X", 1, 1.0, 0.0, (pos("p"),)),
+            Machine("U", 1, 1.0, 0.0, (pos("a", Policy("age", interval_h=100.0)),
+                                       pos("b", Policy("age", interval_h=110.0), bearing=B2))),
+        ],
+        stores={B2: Stock(0, -1, 0, fixed(100.0))},
+        crews=Crews(1, fixed(4.0), fixed(50.0)),
+        horizon=230.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("X", "p"): [90.0]}))
+    assert r.event_log() == [
+        (90.0, "X", "p", "failure"),
+        (90.0, "X", "", "work"),
+        (110.0, "U", "b", "stockout"),
+        (110.0, "", B2, "order"),
+        (140.0, "X", "p", "corrective"),
+        (140.0, "X", "", "up"),
+        (140.0, "U", "", "stop"),
+        (144.0, "U", "a", "planned"),
+        (144.0, "U", "", "up"),
+        (210.0, "", B2, "delivery"),
+        (210.0, "U", "", "stop"),
+        (214.0, "U", "b", "planned"),
+        (214.0, "U", "", "up"),
+    ]
+
+
+def test_failure_while_planned_job_waits_takes_its_spare_request() -> None:
+    # Age due at 100, shelf empty, order (lead 50) arrives 150; the bearing fails
+    # at 120 (operating age 120): the failure takes over the waiting request
+    # (no second demand) and waits for the same delivery.
+    sc = scenario(
+        [Machine("U", 1, 1.0, 0.0, (pos("a", Policy("age", interval_h=100.0)),))],
+        stores={B: Stock(0, -1, 0, fixed(50.0))},
+        crews=Crews(None, fixed(4.0), fixed(8.0)),
+        horizon=200.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("U", "a"): [120.0]}))
+    assert r.event_log() == [
+        (100.0, "U", "a", "stockout"),
+        (100.0, "", B, "order"),
+        (120.0, "U", "a", "failure"),
+        (150.0, "", B, "delivery"),
+        (150.0, "U", "", "work"),
+        (158.0, "U", "a", "corrective"),
+        (158.0, "U", "", "up"),
+    ]
+    assert r.spares.loc[B, "demands"] == 1
+    assert r.units.loc["U", "waiting_spare_h"] == 30.0
+    assert r.counts["planned"] == 0
+
+
+def test_detection_schedules_replacement_and_opportunistic_sibling() -> None:
+    # de: condition monitoring every 100 h, P-F 150 h, perfect detection, respond
+    # within 24 h. Its defect appears at 250 (failure would be at 400); the
+    # inspection at 300 finds it; the stop at 324 also changes nde, whose age
+    # (324 h) is beyond 0.5 × 400 h.
+    cond = Policy("condition", inspection_every_h=100.0, pf_interval=fixed(150.0),
+                  detection=1.0, respond_within_h=24.0)
+    opp = Policy("run-to-failure", interval_h=400.0, opportunistic_share=0.5)
+    sc = scenario(
+        [Machine("U", 1, 1.0, 0.0, (pos("de", cond), pos("nde", opp)))],
+        crews=Crews(1, fixed(6.0), fixed(10.0)),
+        costs=Costs(inspection=20.0, planned_replacement=50.0),
+        horizon=450.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("U", "de"): [250.0]}))
+    assert r.event_log() == [
+        (100.0, "U", "", "inspection"),
+        (200.0, "U", "", "inspection"),
+        (250.0, "U", "de", "defect"),
+        (300.0, "U", "", "inspection"),
+        (300.0, "U", "de", "detection"),
+        (324.0, "U", "", "stop"),
+        (330.0, "U", "de", "planned"),
+        (330.0, "U", "nde", "opportunistic"),
+        (330.0, "U", "", "up"),
+        (400.0, "U", "", "inspection"),
+    ]
+    c = r.counts
+    assert (c["inspections"], c["detections"], c["planned"], c["opportunistic"]) == (4, 1, 1, 1)
+    assert (c["failures"], c["missed_defects"], c["defects"]) == (0, 0, 1)
+    assert r.costs["inspection"] == 80.0
+    assert r.costs["planned_labour"] == 100.0
+
+
+def test_missed_defect_and_failure_after_detection() -> None:
+    # Detection probability 0: the defect at 250 fails at 400 unseen. With a long
+    # response (200 h) and perfect detection, it is found at 300 and fails at 400
+    # before the planned change at 500.
+    for detection, respond, missed, after in ((0.0, 24.0, 1, 0), (1.0, 200.0, 0, 1)):
+        cond = Policy("condition", inspection_every_h=100.0, pf_interval=fixed(150.0),
+                      detection=detection, respond_within_h=respond)
+        sc = scenario([Machine("U", 1, 1.0, 0.0, (pos("de", cond),))],
+                      crews=Crews(1, fixed(6.0), fixed(10.0)), horizon=450.0)
+        r = simulate(sc, 1, life_sampler=lives({("U", "de"): [250.0]}))
+        c = r.counts
+        assert (c["failures"], c["missed_defects"], c["failures_after_detection"]) == (1, missed, after)
+        assert c["planned"] == 0
+        assert (400.0, "U", "de", "failure") in r.event_log()
+
+
+def test_group_down_time_and_first_down_event() -> None:
+    # 2-out-of-3 group. G#1 fails at 100 (repair 50 h → 150), G#2 at 120 (→ 170):
+    # the group is down from 120 to 150; the fleet follows the group.
+    sc = scenario(
+        [Machine("G", 3, 1.0, 0.0, (pos("p"),)), Machine("X", 1, 1.0, 0.0, (pos("p"),))],
+        groups=[Group("duty", ("G",), 2)],
+        crews=Crews(None, fixed(5.0), fixed(50.0)),
+        horizon=300.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("G#1", "p"): [100.0], ("G#2", "p"): [120.0],
+                                            ("X", "p"): [10.0]}))
+    g = r.groups
+    assert g.loc["duty", "down_h"] == 30.0
+    assert g.loc["duty", "down_events"] == 1
+    assert g.loc["duty", "first_down_h"] == 120.0
+    assert bool(g.loc["fleet", "had_down"]) and g.loc["fleet", "first_down_h"] == 120.0
+    assert g.loc["fleet", "down_h"] == 30.0
+    # Without groups the fleet is down whenever any unit is: X at 10–60, G#1 100–170.
+    r2 = simulate(scenario(list(sc.machines), crews=sc.crews, horizon=300.0), 1,
+                  life_sampler=lives({("G#1", "p"): [100.0], ("G#2", "p"): [120.0],
+                                      ("X", "p"): [10.0]}))
+    assert r2.groups.loc["fleet", "first_down_h"] == 10.0
+    assert r2.groups.loc["fleet", "down_h"] == 50.0 + 70.0
+    assert r2.groups.loc["fleet", "down_events"] == 2
+
+
+def test_stop_in_progress_at_the_horizon_is_counted_up_to_the_horizon() -> None:
+    sc = scenario([Machine("U", 1, 1.0, 0.0, (pos("p"),))],
+                  crews=Crews(None, fixed(5.0), fixed(100.0)), horizon=150.0)
+    r = simulate(sc, 1, life_sampler=lives({("U", "p"): [100.0]}))
+    assert r.units.loc["U", "repair_h"] == 50.0
+    assert r.units.loc["U", "availability"] == pytest.approx(100.0 / 150.0)
+
+
+def test_same_seed_same_result_and_seed_not_consumed() -> None:
+    life = LifeDistribution(shape=1.5, scale_h=300.0)
+    m = Machine("U", 3, 0.8, 50.0, (Position("a", B, life, Policy("age", interval_h=250.0)),
+                                    Position("b", B, life, Policy())))
+    sc = scenario([m], stores={B: Stock(2, 1, 3, Duration("exponential", 60.0))},
+                  crews=Crews(1, Duration("exponential", 5.0), Duration("lognormal", 8.0, 20.0)),
+                  horizon=5000.0)
+    seed = np.random.SeedSequence(1234)
+    a = simulate(sc, seed)
+    b = simulate(sc, seed)
+    assert a.event_log() == b.event_log() and len(a.event_log()) > 50
+    assert a.costs == b.costs
+    c = simulate(sc, np.random.SeedSequence(1235))
+    assert c.event_log() != a.event_log()
+    quiet = simulate(sc, seed, keep_events=False)
+    assert quiet.events.empty and quiet.counts == a.counts
+
+
+def test_bad_scenarios_raise_input_error() -> None:
+    with pytest.raises(InputError, match="interval"):
+        simulate(scenario([Machine("U", 1, 1.0, 0.0, (pos("a", Policy("age")),))]), 1)
+    with pytest.raises(InputError, match="need"):
+        simulate(scenario([Machine("U", 2, 1.0, 0.0, (pos("a"),))],
+                          groups=[Group("g", ("U",), 3)]), 1)
+    with pytest.raises(InputError, match="bearing"):
+        simulate(scenario([Machine("U", 1, 1.0, 0.0, (pos("a", bearing="nope"),))]), 1)
+    with pytest.raises(InputError, match="horizon"):
+        simulate(scenario([Machine("U", 1, 1.0, 0.0, (pos("a"),))]), 1, horizon_h=-1.0)

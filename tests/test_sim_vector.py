@@ -1,0 +1,157 @@
+"""The vectorised engine against closed forms (fixed seeds, standard-error tolerances)."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from scipy import integrate, stats
+
+from fleetsim.life import BearingType, LifeDistribution
+from fleetsim.plan.delay_time import failure_share
+from fleetsim.plan.renewal import renewal_count_variance, renewal_function
+from fleetsim.scenario.model import (
+    Bearing,
+    Costs,
+    Crews,
+    Duration,
+    Group,
+    Machine,
+    Policy,
+    Position,
+    Scenario,
+    Study,
+)
+from fleetsim.sim.vector import simulate_vector
+
+LIFE = LifeDistribution(shape=1.5, scale_h=20_000.0, location_h=1_000.0)
+H = 87_660.0
+COSTS = Costs(planned_replacement=100.0, failure=500.0)
+
+
+def fleet(policy: Policy, *, units: int = 50, positions: int = 4, life: LifeDistribution = LIFE,
+          repair: Duration | None = None, costs: Costs | None = COSTS, groups=(),
+          horizon_h: float = H) -> Scenario:
+    pos = tuple(Position(f"p{j}", "B1", life, policy) for j in range(positions))
+    rep = repair or Duration.fixed(0.0)
+    return Scenario(
+        Study("t", horizon_h, 100, 1),
+        costs or Costs(),
+        {"B1": Bearing("B1", BearingType.BALL, 1e4, price=40.0)},
+        (Machine("m", units, 1.0, 0.0, pos),),
+        groups=groups,
+        crews=Crews(None, rep, rep),
+    )
+
+
+def run(scenario: Scenario, reps: int, seed: int = 1) -> dict[str, np.ndarray]:
+    rows = [simulate_vector(scenario, np.random.SeedSequence(seed, spawn_key=(i,))) for i in range(reps)]
+    return {k: np.array([r[k] for r in rows]) for k in rows[0]}
+
+
+def test_same_seed_same_figures() -> None:
+    sc = fleet(Policy("age", 12_000.0), repair=Duration("exponential", 8.0))
+    a = simulate_vector(sc, np.random.SeedSequence(3))
+    b = simulate_vector(sc, np.random.SeedSequence(3))
+    assert a == b
+
+
+def test_run_to_failure_matches_renewal_function_both_paths() -> None:
+    # Renewal theory (Karlin & Taylor; Cox 1962): E N(t) = M(t), Var N(t) from the
+    # second-moment equation; positions independent, so the fleet total has mean
+    # n·M(t) and variance n·Var N(t).
+    m, v = float(renewal_function(LIFE, H)), float(renewal_count_variance(LIFE, H))
+    reps, n = 100, 200
+    fast = run(fleet(Policy()), reps)["failures"]
+    # A block interval beyond the horizon forces the lane engine with the same lives.
+    lanes = run(fleet(Policy("block", 1e12)), reps)["failures"]
+    se = math.sqrt(n * v / reps)
+    assert abs(fast.mean() - n * m) < 4 * se
+    assert abs(lanes.mean() - n * m) < 4 * se
+    assert np.array_equal(fast, lanes)  # same lives, same counts: the two paths agree exactly
+
+
+def test_age_replacement_cost_rate_matches_renewal_reward() -> None:
+    # Barlow & Proschan: C(T) = [c_p R(T) + c_f F(T)] / ∫₀ᵀ R(t) dt (zero stop times).
+    # Price 40 is part of both c_p and c_f (engine convention).
+    T = 12_000.0
+    costs = Costs(planned_replacement=100.0, failure=500.0)
+    cp, cf = 100.0 + 40.0, 100.0 + 500.0 + 40.0
+    r = float(LIFE.reliability(T))
+    mean_cycle = integrate.quad(lambda t: float(LIFE.reliability(t)), 0, T, points=[1_000.0])[0]
+    rate = (cp * r + cf * (1 - r)) / mean_cycle  # per position-hour
+    out = run(fleet(Policy("age", T), costs=costs, horizon_h=200_000.0), 60)
+    per_h = out["cost_total"] / (200 * 200_000.0)
+    # Start-up transient: all positions start new, so over a finite horizon the
+    # mean differs from the long-run rate by O(1/t); 200,000 h is ~16 cycles.
+    se = per_h.std(ddof=1) / math.sqrt(per_h.size)
+    assert abs(per_h.mean() - rate) < 4 * se + 0.01 * rate
+
+
+def test_block_replacement_matches_renewal_function() -> None:
+    # Barlow & Proschan: failures per block interval = M(T) for each position.
+    T = 10_000.0
+    blocks = 8
+    out = run(fleet(Policy("block", T), horizon_h=T * blocks + 1.0), 60)
+    m, v = float(renewal_function(LIFE, T)), float(renewal_count_variance(LIFE, T))
+    n = 200 * blocks
+    se = math.sqrt(n * v / 60)
+    assert abs(out["failures"].mean() - n * m) < 4 * se
+    assert (out["planned_replacements"] == 200 * blocks).all()
+
+
+def test_condition_policy_matches_delay_time_model() -> None:
+    # Christer's delay-time model: with defects arriving at random relative to the
+    # inspections (exponential life, mean >> Δ) and perfect detection, the share of
+    # defects that become failures is b(Δ) = (1/Δ)∫₀^Δ F_h(u) du; with detection
+    # probability p the geometric extension of fleetsim.plan.delay_time applies.
+    life = LifeDistribution(shape=1.0, scale_h=40_000.0)
+    delta = 720.0
+    for pf, p in [(Duration("exponential", 500.0), 1.0), (Duration("weibull", 900.0, shape=2.0), 0.6)]:
+        policy = Policy("condition", inspection_every_h=delta, pf_interval=pf, detection=p)
+        out = run(fleet(policy, life=life, units=100, positions=2, horizon_h=200_000.0), 20)
+        f, d = out["failures"].sum(), out["detections"].sum()
+        share = f / (f + d)
+        delay = stats.expon(scale=500.0) if pf.kind == "exponential" else stats.weibull_min(2.0, scale=900.0)
+        b = float(failure_share(delay, delta, p))
+        se = math.sqrt(b * (1 - b) / (f + d))
+        assert abs(share - b) < 4 * se, (pf.kind, share, b, se)
+
+
+def test_run_to_failure_is_the_limit_of_no_detection() -> None:
+    # Detection probability 0 turns a condition policy into run-to-failure: same
+    # failures as run-to-failure on the same seed (P-F interval zero).
+    life = LifeDistribution(shape=1.3, scale_h=30_000.0)
+    cond = run(fleet(Policy("condition", inspection_every_h=500.0, detection=0.0), life=life), 10)
+    rtf = run(fleet(Policy("block", 1e12), life=life), 10)
+    assert np.array_equal(cond["failures"], rtf["failures"])
+    assert cond["detections"].sum() == 0 and cond["inspections"].sum() > 0
+
+
+def test_common_random_numbers_shrink_paired_differences() -> None:
+    # Same seed for two policies → the same k-th life of each position: the variance
+    # of paired differences is far below that of independent runs. The ratio of the
+    # two sample variances is tested against the F distribution's 0.1 % quantile
+    # (independent streams would give a ratio near 1).
+    reps = 40
+    a = run(fleet(Policy()), reps, seed=9)["cost_total"]
+    b = run(fleet(Policy("age", 30_000.0)), reps, seed=9)["cost_total"]
+    b_other = run(fleet(Policy("age", 30_000.0)), reps, seed=10)["cost_total"]
+    ratio = np.var(a - b, ddof=1) / np.var(a - b_other, ddof=1)
+    assert ratio < stats.f.ppf(0.001, reps - 1, reps - 1)
+
+
+def test_k_out_of_n_group_downtime_matches_binomial() -> None:
+    # A 2-out-of-3 group of independent units, each down a share q of the time
+    # (alternating renewal: q = E[repair] / (E[life] + E[repair])), is down a share
+    # Σ_{j>=2} C(3,j) q^j (1−q)^{3−j} of the time in the long run (binomial sum).
+    life = LifeDistribution(shape=1.0, scale_h=1_000.0)
+    repair = Duration("exponential", 250.0)
+    sc = fleet(Policy(), life=life, units=3, positions=1, repair=repair,
+               groups=(Group("g", ("m",), 2),), horizon_h=400_000.0)
+    out = run(sc, 30)
+    q = 250.0 / 1_250.0
+    expected = stats.binom.sf(1, 3, q)
+    share = out["group_downtime_h:g"] / 400_000.0
+    se = share.std(ddof=1) / math.sqrt(share.size)
+    assert abs(share.mean() - expected) < 4 * se
