@@ -1,0 +1,259 @@
+"""``fleetsim check``: validate a scenario file and show each position's life model."""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+import click
+
+from fleetsim import SAFETY_CAUTION
+from fleetsim.cli.common import echo_json, fmt, table
+from fleetsim.scenario import (
+    HOURS_PER_YEAR,
+    Duration,
+    Machine,
+    Policy,
+    Position,
+    Scenario,
+    load_scenario,
+)
+
+_COPY = re.compile(r"^(?P<base>.+)#(?P<k>\d+)$")
+
+
+def describe_duration(d: Duration | None) -> str:
+    """A short text for a fixed or random duration."""
+    if d is None:
+        return "—"
+    if d.kind == "fixed":
+        return f"{d.value_h:g} h"
+    if d.kind == "exponential":
+        return f"exponential, mean {d.value_h:g} h"
+    if d.kind == "lognormal":
+        return f"lognormal, median {d.value_h:g} h, p90 {d.p90_h:g} h"
+    return f"Weibull, shape {d.shape:g}, scale {d.value_h:g} h"
+
+
+def describe_policy(p: Policy) -> str:
+    """A short text for a maintenance policy."""
+    if p.kind == "run-to-failure":
+        return "run to failure"
+    if p.kind == "age":
+        text = f"age {p.interval_h:,.0f} h"
+    elif p.kind == "block":
+        text = f"block {p.interval_h:,.0f} h calendar ({p.block_scope})"
+    else:
+        text = (
+            f"inspect every {p.inspection_every_h:,.0f} h, P-F {describe_duration(p.pf_interval)}, "
+            f"detection {p.detection:g}"
+        )
+    if p.opportunistic_share is not None:
+        text += f", opportunistic ≥ {p.opportunistic_share:g}·interval"
+    return text
+
+
+def _policy_dict(p: Policy) -> dict[str, Any]:
+    return {
+        "kind": p.kind,
+        "interval_h": p.interval_h,
+        "block_scope": p.block_scope if p.kind == "block" else None,
+        "inspection_every_h": p.inspection_every_h,
+        "pf_interval_mean_h": None if p.pf_interval is None else p.pf_interval.mean_h,
+        "detection": p.detection if p.kind == "condition" else None,
+        "respond_within_h": p.respond_within_h if p.kind == "condition" else None,
+        "opportunistic_share": p.opportunistic_share,
+    }
+
+
+def position_row(scenario: Scenario, machine: Machine, pos: Position) -> dict[str, Any]:
+    """The derived life model of one position, as a JSON-ready dict."""
+    d = pos.derived
+    return {
+        "machine": machine.id,
+        "units": machine.count,
+        "position": pos.id,
+        "bearing": pos.bearing_id,
+        "bearing_type": scenario.bearings[pos.bearing_id].bearing_type.value,
+        "life_source": "ratings" if d is not None else "given",
+        "equivalent_load_N": None if d is None else d.equivalent_load_N,
+        "speed_rpm": None if d is None else d.speed_rpm,
+        "rating_life_h": None if d is None else d.rating_life_h,
+        "a_iso": None if d is None else d.a_iso,
+        "modified_life_h": None if d is None else d.modified_life_h,
+        "static_safety": None if d is None else d.static_safety,
+        "field_factor": pos.field_factor,
+        "life": pos.life.as_dict(),
+        "life_mean_h": pos.life.mean_h,
+        "policy": _policy_dict(pos.policy),
+    }
+
+
+def _collapsed(machine: Machine) -> list[tuple[Position, int, str]]:
+    """Positions with runs of identical ``id#k`` copies folded into one row."""
+    out: list[tuple[Position, int, str]] = []
+    for pos in machine.positions:
+        m = _COPY.match(pos.id)
+        if out and m:
+            first, n, label = out[-1]
+            m0 = _COPY.match(first.id)
+            if (
+                m0
+                and m0["base"] == m["base"]
+                and int(m["k"]) == int(m0["k"]) + n
+                and (first.bearing_id, first.life, first.policy, first.field_factor)
+                == (pos.bearing_id, pos.life, pos.policy, pos.field_factor)
+            ):
+                out[-1] = (first, n + 1, f"{m0['base']}#{m0['k']}–{m['k']}")
+                continue
+        out.append((pos, 1, pos.id))
+    return out
+
+
+def _columns(rows: list[list[str]], right: set[int]) -> str:
+    widths = [max(len(r[i]) for r in rows) for i in range(len(rows[0]))]
+    lines = []
+    for j, r in enumerate(rows):
+        cells = [
+            c.rjust(w) if i in right else c.ljust(w)
+            for i, (c, w) in enumerate(zip(r, widths, strict=True))
+        ]
+        lines.append("  ".join(cells).rstrip())
+        if j == 0:
+            lines.append("  ".join("-" * w for w in widths))
+    return "\n".join(lines)
+
+
+def check_report(scenario: Scenario) -> str:
+    """The readable ``check`` output: a summary and one row per position kind."""
+    s = scenario
+    units = sum(m.count for m in s.machines)
+    summary = [
+        ("scenario", s.study.name),
+        ("file", s.source),
+        ("sha256", s.digest[:16] + "…" if s.digest else "—"),
+        ("horizon", f"{s.study.horizon_h:,.0f} h ({s.study.horizon_h / HOURS_PER_YEAR:.3g} years)"),
+        ("replications", f"{s.study.replications} (seed {s.study.seed})"),
+        ("life model", s.life_model),
+        (
+            "fleet",
+            f"{len(s.machines)} machine types, {units} units, {s.position_count} bearing positions",
+        ),
+        (
+            "groups",
+            ", ".join(
+                f"{g.id} ({g.need} of {sum(s.machine(m).count for m in g.machines)})"
+                for g in s.groups
+            )
+            or "—",
+        ),
+        (
+            "stores",
+            ", ".join(
+                f"{b} (s={st.reorder_point}, S={st.order_up_to})" for b, st in s.stores.items()
+            )
+            or "unlimited spares",
+        ),
+        ("crews", "unlimited" if s.crews.count is None else str(s.crews.count)),
+        ("unplanned repair", describe_duration(s.crews.unplanned_repair)),
+        ("planned repair", describe_duration(s.crews.planned_repair)),
+    ]
+    header = [
+        "machine",
+        "units",
+        "position",
+        "bearing",
+        "P N",
+        "L10 h",
+        "a_ISO",
+        "field",
+        "shape",
+        "scale h",
+        "location h",
+        "policy",
+    ]
+    rows = [header]
+    for m in s.machines:
+        for pos, _n, label in _collapsed(m):
+            d = pos.derived
+            rows.append(
+                [
+                    m.id,
+                    str(m.count),
+                    label,
+                    pos.bearing_id,
+                    "given" if d is None else fmt(d.equivalent_load_N, ",.0f"),
+                    "—" if d is None else fmt(d.rating_life_h, ",.0f"),
+                    "—" if d is None else fmt(d.a_iso, ".3g"),
+                    fmt(pos.field_factor, "g"),
+                    fmt(pos.life.shape, ".4g"),
+                    fmt(pos.life.scale_h, ",.0f"),
+                    fmt(pos.life.location_h, ",.0f"),
+                    describe_policy(pos.policy),
+                ]
+            )
+    notes = (
+        "P: equivalent load (application factor included); L10: basic rating life; "
+        "shape/scale/location: the three-parameter Weibull life in operating hours "
+        "(a_ISO and field factor applied)."
+    )
+    return "\n".join(
+        [
+            table(summary, "Scenario"),
+            "",
+            _columns(rows, right={1, 4, 5, 6, 7, 8, 9, 10}),
+            "",
+            notes,
+            SAFETY_CAUTION,
+        ]
+    )
+
+
+def check_json(scenario: Scenario) -> dict[str, Any]:
+    """The ``check --json`` object."""
+    s = scenario
+    return {
+        "scenario": s.study.name,
+        "source": s.source,
+        "sha256": s.digest,
+        "study": {
+            "horizon_h": s.study.horizon_h,
+            "replications": s.study.replications,
+            "seed": s.study.seed,
+        },
+        "life_model": s.life_model,
+        "machines": [
+            {
+                "id": m.id,
+                "count": m.count,
+                "operating_share": m.operating_share,
+                "operating_hours_per_year": m.operating_share * HOURS_PER_YEAR,
+                "starting_age_h": m.starting_age_h,
+                "units": m.unit_ids(),
+            }
+            for m in s.machines
+        ],
+        "groups": [
+            {
+                "id": g.id,
+                "need": g.need,
+                "machines": list(g.machines),
+                "units": sum(s.machine(m).count for m in g.machines),
+            }
+            for g in s.groups
+        ],
+        "positions": [position_row(s, m, p) for m in s.machines for p in m.positions],
+        "caution": SAFETY_CAUTION,
+    }
+
+
+@click.command()
+@click.argument("scenario_file", metavar="SCENARIO", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+def check(scenario_file: str, as_json: bool) -> None:
+    """Validate a scenario file and show the derived life model of every position."""
+    scenario = load_scenario(scenario_file)
+    if as_json:
+        echo_json(check_json(scenario))
+    else:
+        click.echo(check_report(scenario))

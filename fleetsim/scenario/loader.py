@@ -1,0 +1,401 @@
+"""Read a scenario file (TOML) into the validated, frozen :class:`Scenario`.
+
+The format is documented key by key in ``docs/scenario-format.md``. In short:
+every physical quantity is a string with a unit (``"4.5 kN"``, ``"1480 rpm"``,
+``"21 d"``); bare numbers only for counts, shares, probabilities, money,
+κ, e_C and factors. Unknown keys are errors with a did-you-mean. Every error
+is one :class:`~fleetsim.errors.InputError` whose ``where`` is
+``"<file>: <key path>"`` (for example
+``"pumps.toml: machine[0].position[1].radial_load"``).
+
+Decisions fixed here:
+
+* ``operating_hours_per_year`` is a time quantity meaning hours of running per
+  year of 365.25 days (``"6000 h"``), at most 8766 h; default continuous.
+* A position's explicit ``life = {shape, scale, location}`` is a field
+  distribution in operating hours: ``scale`` and ``location`` carry time
+  units. The ``[life] model`` table, by contrast, is in units of L10 (bare
+  numbers).
+* ``count`` on a position expands it into ``count`` identical positions named
+  ``"<id>#1" … "<id>#<count>"``. Names may not contain ``#``.
+* A position's ``policy`` table replaces the default ``[policy]`` entirely.
+* A group's ``machines`` lists machine ids; the group's n is the sum of their
+  ``count`` (all units of each machine belong to it). :attr:`Group.machines`
+  holds those machine ids.
+* ``field_factor`` multiplies every life of the position (scale and location),
+  whether derived from ratings or given explicitly.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import tomllib
+import warnings
+from collections.abc import Mapping
+from os import PathLike
+from pathlib import Path
+from typing import Any
+
+from fleetsim.errors import InputError, LifeModelWarning
+from fleetsim.life import BearingType, LoadFactors, WeibullShape, life_shape
+from fleetsim.scenario.machines import (
+    FIELD_LIFE_KEYS,
+    MACHINE_KEYS,
+    BearingIndex,
+    LifeDefaults,
+    read_machines,
+)
+from fleetsim.scenario.model import (
+    Bearing,
+    Costs,
+    Crews,
+    Group,
+    Machine,
+    Policy,
+    Scenario,
+    Stock,
+    Study,
+)
+from fleetsim.scenario.policies import read_policy
+from fleetsim.scenario.reader import Table, join, show, suggest
+
+SECTIONS = ("study", "costs", "life", "bearing", "machine", "group", "policy", "stores", "crews")
+STUDY_KEYS = ("name", "horizon", "replications", "seed")
+COSTS_KEYS = (
+    "currency",
+    "planned_replacement",
+    "failure",
+    "downtime_per_hour",
+    "inspection",
+    "holding_rate",
+    "discount_rate",
+)
+LIFE_KEYS = ("model", "viscosity_ratio", "contamination")
+BEARING_KEYS = (
+    "id",
+    "type",
+    "dynamic_rating",
+    "static_rating",
+    "fatigue_limit",
+    "price",
+    "lead_time",
+    "e",
+    "X",
+    "Y",
+)
+GROUP_KEYS = ("id", "machines", "need")
+STOCK_KEYS = (
+    "initial",
+    "reorder_point",
+    "order_up_to",
+    "lead_time",
+    "emergency_lead_time",
+    "emergency_premium",
+)
+CREW_KEYS = ("count", "planned_repair", "unplanned_repair")
+
+
+# ---------------------------------------------------------------------------------------
+# entry points
+# ---------------------------------------------------------------------------------------
+def load_scenario(path: str | PathLike[str]) -> Scenario:
+    """Read and validate a scenario file.
+
+    Parameters
+    ----------
+    path
+        A TOML file. Messages name it as given.
+
+    Returns
+    -------
+    Scenario
+
+    Raises
+    ------
+    InputError
+        When the file cannot be read, is not TOML, or fails validation.
+    """
+    name = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError(name, "scenario file not found") from None
+    except UnicodeDecodeError:
+        raise InputError(name, "expected a UTF-8 text file (TOML)") from None
+    except OSError as exc:
+        raise InputError(name, f"cannot read the scenario file ({exc.strerror or exc})") from None
+    return parse_scenario(text, source=name)
+
+
+def parse_scenario(text: str, source: str = "<memory>") -> Scenario:
+    """Parse and validate scenario text (TOML).
+
+    Parameters
+    ----------
+    text
+        The document.
+    source
+        Name used in messages and kept in :attr:`Scenario.source`.
+
+    Returns
+    -------
+    Scenario
+        With :attr:`Scenario.digest` the SHA-256 of ``text`` (UTF-8).
+    """
+    try:
+        document = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(source, f"TOML syntax error: {exc}") from None
+    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+    return build_scenario(document, source=source, digest=digest)
+
+
+def build_scenario(
+    document: Mapping[str, Any], source: str = "<memory>", digest: str = ""
+) -> Scenario:
+    """Validate an already parsed document (a dict shaped like the TOML file).
+
+    Useful from a notebook; :func:`parse_scenario` calls it after parsing.
+    """
+    root = Table(document, "", source, SECTIONS)
+    study = _study(root.table("study", STUDY_KEYS, required=True), source)
+    costs = _costs(root.table("costs", COSTS_KEYS))
+    defaults = _life_defaults(root.table("life", LIFE_KEYS))
+    bearings, bearing_paths, bearing_lead = _bearings(
+        root.tables("bearing", BEARING_KEYS, required=True)
+    )
+    default_policy = Policy()
+    if root.has("policy"):
+        default_policy = read_policy(root.raw("policy"), "policy", source)
+    machines = read_machines(
+        root.tables("machine", MACHINE_KEYS, required=True),
+        BearingIndex(bearings, bearing_paths),
+        defaults,
+        default_policy,
+    )
+    groups = _groups(root.tables("group", GROUP_KEYS), machines)
+    stores = _stores(root, bearings, bearing_lead)
+    crews = _crews(root.table("crews", CREW_KEYS))
+    return Scenario(
+        study=study,
+        costs=costs,
+        bearings=bearings,
+        machines=machines,
+        groups=groups,
+        stores=stores,
+        crews=crews,
+        life_model=defaults.model.name,
+        source=source,
+        digest=digest,
+    )
+
+
+# ---------------------------------------------------------------------------------------
+# settings sections
+# ---------------------------------------------------------------------------------------
+def _study(t: Table | None, source: str) -> Study:
+    assert t is not None
+    stem = Path(source).stem if not source.startswith("<") else "scenario"
+    name = t.text("name", stem or "scenario")
+    horizon = t.quantity("horizon", "time", positive=True)
+    reps = t.integer("replications", 100, minimum=1, what="a number of replications")
+    seed = t.integer("seed", 0, minimum=0, what="a seed (whole number >= 0)")
+    return Study(name=name, horizon_h=horizon, replications=reps, seed=seed)
+
+
+def _costs(t: Table | None) -> Costs:
+    if t is None:
+        return Costs()
+    money = {"minimum": 0.0, "what": "an amount of money"}
+    return Costs(
+        currency=t.text("currency", "EUR"),
+        planned_replacement=t.number("planned_replacement", 0.0, **money),
+        failure=t.number("failure", 0.0, **money),
+        downtime_per_hour=t.number("downtime_per_hour", 0.0, **money),
+        inspection=t.number("inspection", 0.0, **money),
+        holding_rate_per_year=t.number(
+            "holding_rate", 0.0, minimum=0.0, maximum=1.0, what="a share of part value per year"
+        ),
+        discount_rate_per_year=t.number(
+            "discount_rate",
+            0.0,
+            minimum=0.0,
+            maximum=1.0,
+            exclusive_maximum=True,
+            what="a discount rate per year",
+        ),
+    )
+
+
+def _life_defaults(t: Table | None) -> LifeDefaults:
+    if t is None:
+        return LifeDefaults(life_shape("iso281"), None, None)
+    model: WeibullShape
+    raw = t.raw("model", "iso281")
+    if isinstance(raw, Mapping):
+        m = Table(raw, join(t.path, "model"), t.source, FIELD_LIFE_KEYS)
+        l10 = "(in units of L10, a bare number)"
+        model = WeibullShape(
+            shape=m.number("shape", minimum=0.0, exclusive_minimum=True, what="a Weibull shape"),
+            location=m.number("location", minimum=0.0, what=f"a location {l10}"),
+            scale=m.number("scale", minimum=0.0, exclusive_minimum=True, what=f"a scale {l10}"),
+        )
+        f10 = model.failure_at_l10()
+        if abs(f10 - 0.10) > 0.01:
+            warnings.warn(
+                f"{m.where()}: this model gives F(L10) = {f10:.3f}, not 0.10; "
+                "its lives will not match the rating life L10",
+                LifeModelWarning,
+                stacklevel=2,
+            )
+    else:
+        name = t.text("model", "iso281", choices=("iso281", "textbook"))
+        model = life_shape(name)
+    return LifeDefaults(
+        model=model,
+        viscosity_ratio=t.number(
+            "viscosity_ratio", None, minimum=0.0, exclusive_minimum=True, what="a viscosity ratio κ"
+        ),
+        contamination=t.probability("contamination", None, what="a contamination factor e_C"),
+    )
+
+
+def _bearings(
+    tables: list[Table],
+) -> tuple[dict[str, Bearing], dict[str, str], dict[str, Any]]:
+    bearings: dict[str, Bearing] = {}
+    paths: dict[str, str] = {}
+    lead: dict[str, Any] = {}
+    for t in tables:
+        bid = t.identifier()
+        if bid in bearings:
+            raise t.error("id", f"duplicate bearing id {bid!r} (first defined at {paths[bid]})")
+        kind = BearingType(t.text("type", choices=[k.value for k in BearingType]))
+        factors = None
+        if kind.needs_catalogue_factors:
+            factors = LoadFactors(
+                e=t.number("e", minimum=0.0, exclusive_minimum=True, what="the catalogue factor e"),
+                X=t.number("X", minimum=0.0, what="the catalogue factor X"),
+                Y=t.number("Y", minimum=0.0, what="the catalogue factor Y"),
+            )
+        else:
+            for key in ("e", "X", "Y"):
+                if t.has(key):
+                    raise t.error(
+                        key,
+                        f"e, X and Y apply only to angular-contact-ball and tapered-roller "
+                        f"bearings; a {kind.value} bearing takes them from the ISO tables",
+                    )
+        bearings[bid] = Bearing(
+            id=bid,
+            bearing_type=kind,
+            dynamic_rating_N=t.quantity("dynamic_rating", "force", positive=True),
+            static_rating_N=t.quantity("static_rating", "force", None, positive=True),
+            fatigue_limit_N=t.quantity("fatigue_limit", "force", None, positive=True),
+            price=t.number("price", 0.0, minimum=0.0, what="a price"),
+            factors=factors,
+        )
+        paths[bid] = t.path
+        lead[bid] = t.duration("lead_time", None)
+    return bearings, paths, lead
+
+
+# ---------------------------------------------------------------------------------------
+# groups, stores, crews
+# ---------------------------------------------------------------------------------------
+def _groups(tables: list[Table], machines: tuple[Machine, ...]) -> tuple[Group, ...]:
+    by_id = {m.id: m for m in machines}
+    groups: list[Group] = []
+    seen: dict[str, str] = {}
+    for t in tables:
+        gid = t.identifier()
+        if gid in seen:
+            raise t.error("id", f"duplicate group id {gid!r} (first defined at {seen[gid]})")
+        seen[gid] = t.path
+        names = t.raw("machines", what="an array of machine ids")
+        if not isinstance(names, list) or not names:
+            raise t.error(
+                "machines", f"expected a non-empty array of machine ids, got {show(names)}"
+            )
+        members: list[str] = []
+        path = join(t.path, "machines")
+        for i, name in enumerate(names):
+            where = f"{t.source}: {join(path, i)}"
+            if not isinstance(name, str):
+                raise InputError(where, f"expected a machine id (text), got {show(name)}")
+            if name not in by_id:
+                hint = suggest(name.split("#")[0], by_id)
+                if "#" in name and name.split("#")[0] in by_id:
+                    hint = (
+                        "; a group takes whole machines (all their units): give the units "
+                        "that form a group their own [[machine]]"
+                    )
+                raise InputError(where, f"no [[machine]] with id {name!r}{hint}")
+            if name in members:
+                raise InputError(where, f"machine {name!r} is listed twice in group {gid!r}")
+            members.append(name)
+        n = sum(by_id[name].count for name in members)
+        need = t.integer("need", what="the number of units the group needs up (k of k-out-of-n)")
+        if not 1 <= need <= n:
+            raise t.error(
+                "need",
+                f"expected 1 <= need <= {n} (the group has {n} machine units), got {need}",
+            )
+        groups.append(Group(id=gid, machines=tuple(members), need=need))
+    return tuple(groups)
+
+
+def _stores(root: Table, bearings: dict[str, Bearing], lead: dict[str, Any]) -> dict[str, Stock]:
+    if not root.has("stores"):
+        return {}
+    raw = root.raw("stores")
+    if not isinstance(raw, Mapping):
+        raise root.error(
+            "stores", f"expected a table of [stores.<bearing id>] tables, got {show(raw)}"
+        )
+    stores: dict[str, Stock] = {}
+    for bid in raw:
+        if bid not in bearings:
+            raise InputError(
+                f"{root.source}: {join('stores', bid)}",
+                f"no [[bearing]] with id {bid!r}{suggest(bid, bearings)}",
+            )
+        t = Table(raw[bid], join("stores", bid), root.source, STOCK_KEYS)
+        count = {"what": "a number of bearings"}
+        s = t.integer("reorder_point", minimum=-1, **count)
+        big_s = t.integer("order_up_to", minimum=0, **count)
+        if not s < big_s:
+            raise t.error(
+                "reorder_point",
+                f"expected reorder_point s < order_up_to S, got s = {s} and S = {big_s}",
+            )
+        initial = t.integer("initial", big_s, minimum=0, **count)
+        lead_time = t.duration("lead_time", lead.get(bid))
+        if lead_time is None:
+            raise t.error(
+                "lead_time",
+                f"missing required key 'lead_time': give it here or on the bearing {bid!r}",
+            )
+        emergency = t.duration("emergency_lead_time", None)
+        premium = t.number("emergency_premium", 0.0, minimum=0.0, what="an amount of money")
+        if emergency is None and t.has("emergency_premium"):
+            raise t.error("emergency_premium", "an emergency premium needs emergency_lead_time")
+        stores[bid] = Stock(
+            initial=initial,
+            reorder_point=s,
+            order_up_to=big_s,
+            lead_time=lead_time,
+            emergency_lead_time=emergency,
+            emergency_premium=premium,
+        )
+    return stores
+
+
+def _crews(t: Table | None) -> Crews:
+    if t is None:
+        return Crews()
+    return Crews(
+        count=t.integer("count", None, minimum=1, what="a number of crews"),
+        planned_repair=t.duration("planned_repair", Crews().planned_repair),
+        unplanned_repair=t.duration("unplanned_repair", Crews().unplanned_repair),
+    )
