@@ -31,10 +31,14 @@ def cli() -> None:
 
 def _register() -> None:
     # One module per command family; each exposes click commands.
+    from fleetsim.cli import fit as fit_cmds
     from fleetsim.cli import life as life_cmds
+    from fleetsim.cli import scenario as scenario_cmds
 
     cli.add_command(life_cmds.life)
     cli.add_command(life_cmds.size)
+    cli.add_command(scenario_cmds.check)
+    cli.add_command(fit_cmds.fit)
 
 
 _register()

@@ -1,0 +1,297 @@
+"""``fleetsim fit``: fit life distributions to a plant's bearing records."""
+
+from __future__ import annotations
+
+import contextlib
+import math
+import os
+import tempfile
+import warnings
+from pathlib import Path
+from typing import Any
+
+import click
+
+from fleetsim import SAFETY_CAUTION
+from fleetsim.cli.common import echo_json, fmt, positive, quantity, table
+from fleetsim.errors import InputError
+from fleetsim.fit import (
+    B_LIVES,
+    CandidateFit,
+    CensoredSample,
+    FitError,
+    FitResult,
+    FitWarning,
+    compare_with_catalogue,
+    fit_records,
+    probability_plot,
+    read_records,
+)
+
+_PARAM_LABELS = {
+    "weibull": {"shape": "shape β", "scale_h": "scale η", "location_h": "location γ"},
+    "lognormal": {"shape": "σ (of ln h)", "scale_h": "median e^μ", "location_h": "location"},
+}
+
+
+def _hours(v: float) -> str:
+    if v is None or not math.isfinite(v):
+        return "—"
+    return f"{v:,.0f} h" if abs(v) >= 100 else f"{v:.3g} h"
+
+
+def _bounds(lo: float, hi: float, hours: bool) -> str:
+    if not (math.isfinite(lo) and math.isfinite(hi)):
+        return "[no bounds]"
+    if hours:
+        return f"[{_hours(lo)[:-2]} – {_hours(hi)}]"
+    return f"[{fmt(lo)} – {fmt(hi)}]"
+
+
+def _candidate_block(c: CandidateFit, best: bool) -> str:
+    labels = _PARAM_LABELS[c.distribution.family]
+    rows = []
+    for p in c.parameters:
+        hours = p.name.endswith("_h")
+        value = _hours(p.estimate) if hours else fmt(p.estimate)
+        rows.append((labels[p.name], f"{value:>12}  {_bounds(p.lower, p.upper, hours)}"))
+    for pc in B_LIVES:
+        b = c.b_life(pc)
+        rows.append((b.name, f"{_hours(b.estimate):>12}  {_bounds(b.lower, b.upper, True)}"))
+    for note in c.notes:
+        rows.append(("note", note))
+    title = f"{c.label}{' (best)' if best else ''} — {c.method}"
+    return table([(f"  {k}", v) for k, v in rows], title=title)
+
+
+def _records_line(s: CensoredSample) -> str:
+    found = f" ({s.n_intervals} found at inspection)" if s.n_intervals else ""
+    return (
+        f"{s.n_records} records: {s.n_failures} failures{found}, "
+        f"{s.n_suspensions} removed while good or still running"
+    )
+
+
+def _text(name: str | None, result: FitResult, comparison: Any) -> str:
+    s = result.sample
+    crit = result.rank_by
+    rows = [
+        ("Records", s.label),
+        ("Data", _records_line(s)),
+        (
+            "Bounds",
+            f"two-sided {100 * result.confidence:g} %; ranked by {crit} (smaller is better)",
+        ),
+    ]
+    bw = result.best_weibull
+    if bw is not None:
+        d = bw.distribution
+        rows.append(
+            (
+                "Life model",
+                f"{bw.label}: shape {fmt(d.shape)}, scale {_hours(d.scale_h)}, "
+                f"location {_hours(d.location_h)} (best Weibull candidate)",
+            )
+        )
+    head = table(rows)
+    deltas = [float(d) for d in result.summary[f"delta_{crit}"]]
+    lines = [f"{'rank':<6}{'model':<14}{'AICc':>11}{'BIC':>11}{'Δ' + crit:>10}  ln L"]
+    for i, (c, delta) in enumerate(zip(result.candidates, deltas, strict=True), start=1):
+        mark = "*" if i == 1 else (" " if c.identifiable else "!")
+        lines.append(
+            f"{str(i) + ' ' + mark:<6}{c.label:<14}{fmt(c.aicc, '.1f'):>11}{fmt(c.bic, '.1f'):>11}"
+            f"{fmt(delta, '.2f'):>10}  {fmt(c.log_likelihood, '.2f')}"
+        )
+    for model, reason in result.not_fitted:
+        lines.append(f"{'-':<6}{model:<14}  not fitted: {reason}")
+    lines.append("(* best; ! not identifiable, never chosen)")
+    blocks = [head, "\n".join(lines)]
+    blocks += [_candidate_block(c, i == 0) for i, c in enumerate(result.candidates)]
+    if comparison is not None:
+        blocks.append(
+            table(
+                [
+                    ("Catalogue L10", _hours(comparison.catalog_l10_h)),
+                    ("Field B10", f"{_hours(comparison.field_b10.estimate)} ({result.best.label})"),
+                    (
+                        "Field factor",
+                        f"{fmt(comparison.factor, '.3g')} "
+                        f"{_bounds(comparison.factor_lower, comparison.factor_upper, False)}"
+                        "  (B10 / L10; use as field_factor in a scenario)",
+                    ),
+                    ("Verdict", comparison.verdict),
+                ]
+            )
+        )
+    return "\n\n".join(blocks)
+
+
+def _json(name: str | None, result: FitResult, comparison: Any) -> dict[str, Any]:
+    s = result.sample
+    crit = result.rank_by
+    deltas = [float(d) for d in result.summary[f"delta_{crit}"]]
+    cands = []
+    for i, (c, delta) in enumerate(zip(result.candidates, deltas, strict=True), start=1):
+        cands.append(
+            {
+                "rank": i,
+                "model": c.model,
+                "label": c.label,
+                "best": i == 1,
+                "identifiable": c.identifiable,
+                "log_likelihood": c.log_likelihood,
+                "AICc": c.aicc,
+                "BIC": c.bic,
+                f"delta_{crit}": delta,
+                "distribution": c.distribution.as_dict(),
+                "parameters": {p.name: p.as_dict() for p in c.parameters},
+                **{f"B{pc:g}_h": c.b_life(pc).as_dict() for pc in B_LIVES},
+                "method": c.method,
+                "notes": list(c.notes),
+            }
+        )
+    bw = result.best_weibull
+    prof = result.location_profile
+    return {
+        "group": name,
+        "records": {
+            "n": s.n_records,
+            "failures": s.n_failures,
+            "found_at_inspection": s.n_intervals,
+            "suspensions": s.n_suspensions,
+        },
+        "best": result.best.model,
+        "best_weibull": bw.model if bw else None,
+        "life_distribution": bw.distribution.to_life_distribution().as_dict() if bw else None,
+        "candidates": cands,
+        "not_fitted": [{"model": m, "reason": r} for m, r in result.not_fitted],
+        "location_profile": None
+        if prof is None
+        else {
+            "estimate_h": prof.estimate_h,
+            "lower_h": prof.lower_h,
+            "upper_h": prof.upper_h,
+            "limit_h": prof.limit_h,
+            "identifiable": prof.identifiable,
+            "reason": prof.reason,
+        },
+        "catalogue": comparison.as_dict() if comparison is not None else None,
+    }
+
+
+def _plot_folder(path: str) -> Path:
+    """The folder the plot goes to; InputError when it does not exist."""
+    parent = Path(path).parent
+    if not parent.is_dir():
+        raise InputError("--plot", f"the folder {str(parent)!r} does not exist")
+    return parent
+
+
+def _write_png(fig: Any, path: str) -> None:
+    """Write a figure as PNG atomically: a temporary file beside it, then os.replace."""
+    target = Path(path)
+    parent = _plot_folder(path)
+    fd, tmp = tempfile.mkstemp(dir=parent, prefix=f".{target.name}.", suffix=".png")
+    os.close(fd)
+    try:
+        fig.savefig(tmp, format="png", dpi=150)
+        os.replace(tmp, target)
+    except OSError as exc:
+        raise InputError("--plot", f"cannot write {path!r} ({exc.strerror})") from None
+    finally:
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(tmp)
+
+
+@click.command("fit")
+@click.argument("records", metavar="RECORDS.csv")
+@click.option(
+    "--group-by",
+    type=click.Choice(["position", "bearing"]),
+    help="Fit each position or each bearing designation separately.",
+)
+@click.option(
+    "--catalog-l10",
+    "catalog_l10",
+    metavar="Q",
+    help="Catalogue rating life L10 with a unit, e.g. '40000 h': gives the field factor B10/L10.",
+)
+@click.option(
+    "--confidence",
+    type=click.FloatRange(0.5, 0.999),
+    default=0.90,
+    show_default=True,
+    help="Two-sided level of the bounds.",
+)
+@click.option("--rank-by", type=click.Choice(["AICc", "BIC"]), default="AICc", show_default=True)
+@click.option("--plot", "plot_path", metavar="PNG", help="Write a Weibull probability plot.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+def fit(
+    records: str,
+    group_by: str | None,
+    catalog_l10: str | None,
+    confidence: float,
+    rank_by: str,
+    plot_path: str | None,
+    as_json: bool,
+) -> None:
+    """Fit Weibull (2P, 3P) and lognormal lives to bearing records.
+
+    RECORDS.csv has one row per bearing life with columns hours, outcome
+    (failed, removed-while-good, still-running), optional position, bearing,
+    machine, note, and hours_from/hours_to for failures found at an
+    inspection. Candidates are ranked by AICc; bounds are two-sided.
+    """
+    l10_h = positive(quantity(catalog_l10, "time", "--catalog-l10"), "--catalog-l10", "life")
+    if plot_path:
+        _plot_folder(plot_path)
+    recs = read_records(records)
+    samples: dict[str | None, CensoredSample]
+    if group_by:
+        samples = dict(recs.groups(group_by))
+    else:
+        samples = {None: recs.sample()}
+    results: dict[str | None, FitResult] = {}
+    errors: dict[str | None, str] = {}
+    for name, sample in samples.items():
+        try:
+            results[name] = fit_records(sample, confidence=confidence, rank_by=rank_by)
+        except FitError as exc:
+            if group_by is None:
+                raise
+            errors[name] = str(exc)
+            warnings.warn(f"not fitted: {exc}", FitWarning, stacklevel=1)
+    if not results:
+        raise InputError(records, "no group could be fitted: " + "; ".join(errors.values()))
+    comparisons = {
+        name: compare_with_catalogue(r, l10_h) if l10_h is not None else None
+        for name, r in results.items()
+    }
+    if plot_path:
+        from matplotlib.figure import Figure
+
+        fig = Figure(figsize=(7.5, 5.5), layout="constrained")
+        ax = fig.add_subplot()
+        for name, r in results.items():
+            probability_plot(r, ax, label=f"{group_by} {name}" if name is not None else None)
+        _write_png(fig, plot_path)
+    if as_json:
+        echo_json(
+            {
+                "records": records,
+                "group_by": group_by,
+                "confidence": confidence,
+                "rank_by": rank_by,
+                "groups": [_json(n, r, comparisons[n]) for n, r in results.items()]
+                + [{"group": n, "error": e} for n, e in errors.items()],
+                "plot": plot_path,
+                "caution": SAFETY_CAUTION,
+            }
+        )
+        return
+    parts = [_text(n, r, comparisons[n]) for n, r in results.items()]
+    parts += [f"{group_by} {n}: not fitted: {e}" for n, e in errors.items()]
+    if plot_path:
+        parts.append(f"Probability plot written to {plot_path}")
+    click.echo(("\n\n" + "=" * 72 + "\n\n").join(parts))
+    click.echo(f"\n{SAFETY_CAUTION}")

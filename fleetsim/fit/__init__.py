@@ -1,0 +1,41 @@
+"""Field records → fitted life distributions.
+
+Read a plant's bearing records (:func:`read_records`), fit two- and
+three-parameter Weibull and lognormal lives with right and interval
+censoring (:func:`fit_records`), rank them by AICc or BIC, and compare the
+field B10 with the catalogue L10 (:func:`compare_with_catalogue`). The
+``reliability`` package is used only through :mod:`fleetsim.fit.adapter`.
+Knows nothing of simulation; never prints or plots as a side effect
+(:func:`probability_plot` draws only on the axes it is given or creates).
+"""
+
+from fleetsim.fit.candidates import B_LIVES, MODELS, CandidateFit, Estimate, FittedDistribution
+from fleetsim.fit.catalogue import CatalogueComparison, compare_with_catalogue
+from fleetsim.fit.errors import FitError, FitWarning
+from fleetsim.fit.fitting import FitResult, fit_records
+from fleetsim.fit.location import LocationProfile, profile_location
+from fleetsim.fit.plot import plotting_positions, probability_plot
+from fleetsim.fit.records import OUTCOMES, FieldRecords, read_records
+from fleetsim.fit.sample import CensoredSample
+
+__all__ = [
+    "B_LIVES",
+    "MODELS",
+    "OUTCOMES",
+    "CandidateFit",
+    "CatalogueComparison",
+    "CensoredSample",
+    "Estimate",
+    "FieldRecords",
+    "FitError",
+    "FitResult",
+    "FitWarning",
+    "FittedDistribution",
+    "LocationProfile",
+    "compare_with_catalogue",
+    "fit_records",
+    "plotting_positions",
+    "probability_plot",
+    "profile_location",
+    "read_records",
+]
