@@ -43,6 +43,8 @@ def survival_curve(
         Columns ``time_h, reliability, low, high``.
     """
     x = np.asarray(first_down_h, dtype=float)
+    # The engines record the horizon (or NaN) for "no down event": never down within it.
+    x = np.where(np.isnan(x) | (x >= horizon_h), np.inf, x)
     n = x.size
     t = np.linspace(0.0, horizon_h, points)
     up = np.array([(x > ti).sum() for ti in t])

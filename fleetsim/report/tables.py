@@ -1,0 +1,192 @@
+"""Tables of a study: the headline table, a plain-text summary and the CSV files.
+
+CSV files have one leading ``variant`` column so that several variants fit in
+one file:
+
+``replications.csv``
+    One row per variant and replication, one column per figure.
+``summary.csv``
+    One row per variant and figure: mean, std, sem, ci_low, ci_high, p05,
+    p50, p95, n.
+``headline.csv``
+    The headline figures with their 95 % intervals (per-year figures already
+    divided by the horizon in years).
+``events.csv``
+    The event log of the first replication (only when a study kept one).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from pathlib import Path
+
+import pandas as pd
+
+from fleetsim.report.headline import Headline, headline_figures
+from fleetsim.report.text import fmt_number, variant_labels
+from fleetsim.study.result import StudyResult
+
+HEADLINE_COLUMNS = (
+    "variant",
+    "figure",
+    "label",
+    "unit",
+    "mean",
+    "ci_low",
+    "ci_high",
+    "n",
+    "method",
+)
+
+
+def _labels(results: Sequence[StudyResult], labels: Sequence[str] | None) -> list[str]:
+    return list(labels) if labels is not None else variant_labels(results)
+
+
+def headline_table(
+    results: Sequence[StudyResult], labels: Sequence[str] | None = None
+) -> pd.DataFrame:
+    """The headline figures of every variant, one row per variant and figure.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``variant, figure, label, unit, mean, ci_low, ci_high, n, method``.
+    """
+    rows = []
+    for r, label in zip(results, _labels(results, labels), strict=True):
+        for h in headline_figures(r):
+            rows.append({"variant": label, **h.as_dict()})
+    return pd.DataFrame(rows, columns=list(HEADLINE_COLUMNS))
+
+
+#: Short row names of the terminal table.
+SHORT_NAMES: dict[str, str] = {
+    "cost_per_year": "Cost",
+    "availability": "Availability",
+    "failures_per_year": "Failures",
+    "planned_replacements_per_year": "Planned changes",
+    "downtime_crew_h_per_year": "Down: crew",
+    "downtime_spares_h_per_year": "Down: spares",
+    "downtime_repair_h_per_year": "Down: repair",
+    "downtime_planned_h_per_year": "Down: planned",
+    "inspections_per_year": "Inspections",
+    "detections_per_year": "Detections",
+    "missed_defects_per_year": "Missed defects",
+    "fleet_no_down": "No fleet down event",
+}
+_COUNTS = {"failures", "changes", "inspections", "detections", "defects", "count"}
+
+
+def _short_unit(unit: str) -> str:
+    if unit == "share":
+        return "%"
+    head, sep, _ = unit.rpartition("/year")
+    if not sep:
+        return unit
+    return "/yr" if head in _COUNTS else f"{head}/yr"
+
+
+def short_name(h: Headline, horizon_years: float) -> str:
+    """Compact row name of a headline figure, with its unit."""
+    prefix, _, key = h.figure.partition(":")
+    if prefix == "spares_per_year":
+        name = f"Spares {key}"
+    elif prefix == "group_no_down":
+        name = f"No down event, {key}"
+    else:
+        name = SHORT_NAMES.get(h.figure, h.label)
+    if h.method == "clopper-pearson":
+        name += f", {horizon_years:.3g} y"
+    return f"{name} ({_short_unit(h.unit)})"
+
+
+def _cell(h: Headline) -> str:
+    def num(x: float) -> str:
+        return f"{100.0 * x:.2f}" if h.is_share and math.isfinite(x) else fmt_number(x)
+
+    if not (math.isfinite(h.ci_low) and math.isfinite(h.ci_high)):
+        return num(h.mean)
+    return f"{num(h.mean)} [{num(h.ci_low)}, {num(h.ci_high)}]"
+
+
+def summary_table(results: Sequence[StudyResult], labels: Sequence[str] | None = None) -> str:
+    """A compact plain-text table of the headline figures, for the terminal.
+
+    One column per variant; each cell is ``mean [95 % CI low, high]``; shares
+    are in percent. Lines end without trailing spaces; the text ends with a
+    newline.
+    """
+    labels = _labels(results, labels)
+    lines = []
+    for r, label in zip(results, labels, strict=True):
+        lines.append(
+            f"{label}: study {r.scenario.study.name!r}, {r.horizon_years:.3g} years, "
+            f"{len(r.replications)} replications, seed {r.seed}, engine {r.engine}"
+        )
+    order: list[str] = []
+    names: dict[str, str] = {}
+    cells: dict[tuple[str, int], str] = {}
+    for k, r in enumerate(results):
+        for h in headline_figures(r):
+            if h.figure not in names:
+                order.append(h.figure)
+                names[h.figure] = short_name(h, r.horizon_years)
+            cells[(h.figure, k)] = _cell(h)
+    header = ["mean [95 % CI]", *labels]
+    body = [[names[f]] + [cells.get((f, k), "-") for k in range(len(results))] for f in order]
+    widths = [max(len(row[c]) for row in [header, *body]) for c in range(len(header))]
+
+    def fmt(row: list[str]) -> str:
+        return "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
+
+    lines += ["", fmt(header), "  ".join("-" * w for w in widths)]
+    lines += [fmt(row) for row in body]
+    return "\n".join(lines) + "\n"
+
+
+def _with_variant(frame: pd.DataFrame, label: str) -> pd.DataFrame:
+    out = frame.copy()
+    out.insert(0, "variant", label)
+    return out
+
+
+def write_tables(
+    results: Sequence[StudyResult], directory: Path, labels: Sequence[str] | None = None
+) -> dict[str, Path]:
+    """Write the CSV tables of the module docstring into ``directory``.
+
+    Returns
+    -------
+    dict
+        ``{"replications": path, "summary": path, "headline": path}`` and
+        ``"events"`` when any study kept an event log.
+    """
+    labels = _labels(results, labels)
+    directory = Path(directory)
+    directory.mkdir(parents=True, exist_ok=True)
+    frames = {
+        "replications": [
+            _with_variant(r.replications, lab) for r, lab in zip(results, labels, strict=True)
+        ],
+        "summary": [
+            _with_variant(r.summary.rename_axis("figure").reset_index(), lab)
+            for r, lab in zip(results, labels, strict=True)
+        ],
+        "events": [
+            _with_variant(r.events, lab)
+            for r, lab in zip(results, labels, strict=True)
+            if r.events is not None and not r.events.empty
+        ],
+    }
+    paths: dict[str, Path] = {}
+    for name, parts in frames.items():
+        if parts:
+            paths[name] = directory / f"{name}.csv"
+            pd.concat(parts, ignore_index=True).to_csv(
+                paths[name], index=False, lineterminator="\n"
+            )
+    paths["headline"] = directory / "headline.csv"
+    headline_table(results, labels).to_csv(paths["headline"], index=False, lineterminator="\n")
+    return paths

@@ -1,0 +1,427 @@
+"""Writing a report directory, atomically.
+
+A report directory holds::
+
+    report.html          one self-contained page (figures embedded, inline CSS)
+    summary.json         seed, versions, scenario digest, headline figures with CIs
+    replications.csv     one row per variant and replication
+    summary.csv          mean, spread and CI of every figure, per variant
+    headline.csv         the headline figures with their CIs
+    events.csv           event log of the first replication (when kept)
+    figures/*.png        every figure of the page
+
+Everything is built in a hidden sibling directory and swapped into place only
+when complete (rename the old report away, rename the new one in, delete the
+old one), so an interrupted run never leaves a half-written report and never
+destroys the previous one. Should a writer be killed outright, the next write
+to the same place deletes its half-built directory and, if it died between
+the two renames, first puts the previous report back. Figures are drawn on ``matplotlib.figure.Figure``
+objects without pyplot, so writing a report changes no backend or global
+setting.
+"""
+
+from __future__ import annotations
+
+import glob
+import io
+import json
+import os
+import secrets
+import shutil
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import pandas as pd
+
+from fleetsim.errors import InputError
+from fleetsim.report import figures, fleet_figures, summary_json, tables
+from fleetsim.report.executive import default_executive_summary
+from fleetsim.report.figures import DEFAULT_MARKED_RELIABILITY
+from fleetsim.report.headline import CAUSES, has_inspections, recommended_index
+from fleetsim.report.page import FigureImage, render_page
+from fleetsim.report.palette import report_style
+from fleetsim.report.text import variant_labels
+from fleetsim.study.result import StudyResult
+
+if TYPE_CHECKING:
+    from matplotlib.axes import Axes
+
+HTML_NAME = "report.html"
+SUMMARY_NAME = "summary.json"
+FIGURES_DIR = "figures"
+DEFAULT_DPI = 110
+#: Width of every figure, inches (about the page width at the default dpi).
+WIDTH_IN = 8.5
+
+
+@dataclass(frozen=True)
+class ReportPaths:
+    """Where the files of a written report are.
+
+    Attributes
+    ----------
+    root
+        The report directory.
+    html
+        ``report.html``.
+    summary_json
+        ``summary.json``.
+    figures
+        PNG files by figure name.
+    tables
+        CSV files by table name (``replications``, ``summary``, ``headline``, ``events``).
+    """
+
+    root: Path
+    html: Path
+    summary_json: Path
+    figures: dict[str, Path] = field(default_factory=dict)
+    tables: dict[str, Path] = field(default_factory=dict)
+
+    def files(self) -> list[Path]:
+        """Every file of the report."""
+        return [self.html, self.summary_json, *self.tables.values(), *self.figures.values()]
+
+
+def _png(draw: Callable[[Axes], object], size_in: tuple[float, float], dpi: int) -> bytes:
+    from matplotlib.figure import Figure
+
+    with report_style():
+        fig = Figure(figsize=size_in, layout="constrained")
+        draw(fig.add_subplot())
+        buf = io.BytesIO()
+        fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": None})
+    return buf.getvalue()
+
+
+@dataclass(frozen=True)
+class _Plan:
+    name: str
+    title: str
+    caption: str
+    draw: Callable[[Axes], object]
+    size_in: tuple[float, float]
+
+
+def _figure_plans(
+    results: Sequence[StudyResult],
+    labels: list[str],
+    best: int,
+    *,
+    sweep: pd.DataFrame | None,
+    sweep_analytic: pd.DataFrame | None,
+    recommended_stock: Mapping[str, float] | None,
+    life_reliability: float,
+) -> list[_Plan]:
+    n = len(results)
+    r_best = results[best]
+    currency = results[0].scenario.costs.currency
+    plans = [
+        _Plan(
+            "life",
+            "Life of each bearing position",
+            "Share of bearings still free of a detectable defect against operating hours, for each "
+            "bearing position (positions with the same life share a curve). Dots mark L10, the life "
+            f"at 90 % reliability; diamonds mark the life at {100 * life_reliability:g} % reliability.",
+            lambda ax: figures.plot_life_distributions(
+                results[0].scenario, ax, reliability=life_reliability
+            ),
+            (WIDTH_IN, 4.2),
+        ),
+    ]
+    if all("cost_per_year" in r.replications for r in results):
+        plans.append(
+            _Plan(
+                "cost_per_year",
+                "Cost per year by variant",
+                "Expected total cost per year of each variant with its 95 % confidence interval; the "
+                "recommended variant (lowest expected cost) is green, today's practice blue.",
+                lambda ax: figures.plot_cost_per_year(results, ax, labels=labels, recommended=best),
+                (WIDTH_IN, 1.3 + 0.5 * n),
+            )
+        )
+    if sweep is not None:
+        plans.append(
+            _Plan(
+                "cost_rate_sweep",
+                "Cost rate against interval",
+                "Simulated cost rate at each interval with 95 % confidence intervals; the star marks the "
+                "lowest simulated cost"
+                + (
+                    ", the dotted line the closed-form optimum."
+                    if sweep_analytic is not None
+                    else "."
+                ),
+                lambda ax: figures.plot_cost_rate_sweep(
+                    sweep, ax, analytic=sweep_analytic, currency=currency
+                ),
+                (WIDTH_IN, 4.0),
+            )
+        )
+    machines = len(fleet_figures.union_keys(results, "availability")) + 1
+    if any("availability" in r.replications for r in results):
+        plans.append(
+            _Plan(
+                "availability",
+                "Availability by machine type",
+                "Share of calendar time the machines are up, for the whole fleet and each machine type, "
+                "with 95 % confidence intervals, for each variant.",
+                lambda ax: fleet_figures.plot_availability(results, ax, labels=labels),
+                (WIDTH_IN, 1.4 + 0.3 * machines * max(n, 1.5)),
+            )
+        )
+    if any(c in r.replications for r in results for c, _ in CAUSES):
+        plans.append(
+            _Plan(
+                "downtime_by_cause",
+                "Downtime by cause",
+                "Machine-unit hours down per year, split into waiting for a crew, waiting for a spare, "
+                "unplanned repair and planned work; the whisker is the 95 % interval of the total.",
+                lambda ax: fleet_figures.plot_downtime_by_cause(results, ax, labels=labels),
+                (WIDTH_IN, 1.7 + 0.5 * n),
+            )
+        )
+    if any(r.keys("spares_per_year") for r in results):
+        plans.append(
+            _Plan(
+                "spares",
+                "Spares issued per bearing per year",
+                "Spares of each bearing issued per year in each replication (dots) and their spread "
+                "(boxes: quartiles, whiskers up to 1.5 × the interquartile range)"
+                + (
+                    "; the dashed marks are the recommended stock levels."
+                    if recommended_stock
+                    else "."
+                ),
+                lambda ax: fleet_figures.plot_spares(
+                    results, ax, labels=labels, recommended_stock=recommended_stock
+                ),
+                (WIDTH_IN, 4.0),
+            )
+        )
+    if figures.reliability_curves(r_best):
+        plans.append(
+            _Plan(
+                "system_reliability",
+                f"System reliability over the horizon ({labels[best]})",
+                "Probability that the fleet, and each k-out-of-n group, has had no down event by each "
+                "time, with the exact 95 % binomial band, for the recommended variant.",
+                lambda ax: figures.plot_system_reliability(r_best, ax),
+                (WIDTH_IN, 4.0),
+            )
+        )
+    if any(has_inspections(r) for r in results):
+        plans.append(
+            _Plan(
+                "inspections",
+                "Inspections: detections, missed defects and failures",
+                "Defects found by inspection, defects that reached failure although inspected inside "
+                "their P-F window, and failures, per year, for the variants that inspect.",
+                lambda ax: fleet_figures.plot_inspections(results, ax, labels=labels),
+                (WIDTH_IN, 4.0),
+            )
+        )
+    return plans
+
+
+def _is_report_dir(path: Path) -> bool:
+    try:
+        doc = json.loads((path / SUMMARY_NAME).read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return False
+    return isinstance(doc, dict) and doc.get("report_format") == summary_json.REPORT_FORMAT
+
+
+def _check_target(out_dir: Path) -> None:
+    if out_dir.exists() and not out_dir.is_dir():
+        raise InputError(str(out_dir), "expected a directory for the report, found a file")
+    if out_dir.is_dir() and any(out_dir.iterdir()) and not _is_report_dir(out_dir):
+        raise InputError(
+            str(out_dir),
+            "the directory exists and is not a fleetsim report; refusing to replace it "
+            "(choose an empty or new directory)",
+        )
+
+
+def _sibling(out_dir: Path, kind: str) -> Path:
+    while True:
+        path = out_dir.parent / f".{out_dir.name}.{kind}-{os.getpid()}-{secrets.token_hex(4)}"
+        try:
+            path.mkdir()
+        except FileExistsError:
+            continue
+        return path
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
+def _recover(out_dir: Path) -> None:
+    """Clean up after a writer that was killed: restore its old report, drop its half-built one.
+
+    Only siblings left by processes that no longer run are touched.
+    """
+    prefix = f".{out_dir.name}."
+    for path in sorted(out_dir.parent.glob(glob.escape(prefix) + "*-*-*")):
+        kind, _, rest = path.name[len(prefix) :].partition("-")
+        pid = rest.partition("-")[0]
+        if kind not in ("new", "old") or not pid.isdigit() or not path.is_dir():
+            continue
+        if int(pid) == os.getpid() or _alive(int(pid)):
+            continue
+        if kind == "old" and not out_dir.exists():
+            path.rename(out_dir)
+        else:
+            shutil.rmtree(path, ignore_errors=True)
+
+
+def _swap_in(new: Path, out_dir: Path) -> None:
+    """Replace ``out_dir`` by ``new``: rename the old away, rename the new in, delete the old."""
+    if not out_dir.exists():
+        new.rename(out_dir)
+        return
+    old = _sibling(out_dir, "old")
+    old.rmdir()
+    out_dir.rename(old)
+    try:
+        new.rename(out_dir)
+    except BaseException:
+        old.rename(out_dir)
+        raise
+    shutil.rmtree(old, ignore_errors=True)
+
+
+def write_report(
+    results: Sequence[StudyResult],
+    out_dir: str | Path,
+    *,
+    title: str,
+    executive_summary: list[str] | None = None,
+    extra: Mapping[str, Any] | None = None,
+    sweep: pd.DataFrame | None = None,
+    sweep_analytic: pd.DataFrame | None = None,
+    recommended_stock: Mapping[str, float] | None = None,
+    life_reliability: float = DEFAULT_MARKED_RELIABILITY,
+    dpi: int = DEFAULT_DPI,
+) -> ReportPaths:
+    """Write the report of one or more study variants into ``out_dir``, atomically.
+
+    Parameters
+    ----------
+    results
+        One study per variant; the first is today's practice.
+    out_dir
+        The report directory (created, or replaced when it holds an earlier
+        fleetsim report; any other non-empty directory is refused).
+    title
+        Title of the page.
+    executive_summary
+        Paragraphs for the top of the page (default: built from the results,
+        see :func:`~fleetsim.report.executive.default_executive_summary`).
+    extra
+        Further JSON-like results (numbers, text, lists, mappings, tables) to
+        store in ``summary.json`` and list on the page.
+    sweep
+        Interval sweep, columns ``interval_h, mean, ci_low, ci_high`` (cost per
+        year): adds the cost-rate figure.
+    sweep_analytic
+        Closed-form cost curve for the sweep, columns ``interval_h, cost_rate``.
+    recommended_stock
+        Recommended stock level (units on hand) by bearing id.
+    life_reliability
+        Reliability whose life is marked on the life figure besides L10.
+    dpi
+        Resolution of the figures.
+
+    Returns
+    -------
+    ReportPaths
+        The final paths of every file.
+
+    Raises
+    ------
+    InputError
+        For no results, a target that is a file or a foreign directory, or
+        extra data that cannot be stored as JSON.
+    """
+    results = list(results)
+    if not results:
+        raise InputError("results", "expected at least one study result")
+    out_dir = Path(os.path.abspath(out_dir))
+    if out_dir.parent.is_dir():
+        _recover(out_dir)
+    _check_target(out_dir)
+    labels = variant_labels(results)
+    best = recommended_index(results)
+    paragraphs = (
+        list(executive_summary)
+        if executive_summary is not None
+        else default_executive_summary(
+            results, labels=labels, recommended_stock=recommended_stock, sweep=sweep
+        )
+    )
+    # Everything that can fail on bad input is checked before anything is written.
+    doc = summary_json.summary_document(
+        results,
+        labels,
+        title=title,
+        executive_summary=paragraphs,
+        recommended_stock=recommended_stock,
+        sweep=sweep,
+        extra=extra,
+    )
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    work = _sibling(out_dir, "new")
+    try:
+        table_paths = tables.write_tables(results, work, labels)
+        fig_dir = work / FIGURES_DIR
+        fig_dir.mkdir()
+        images = []
+        for plan in _figure_plans(
+            results,
+            labels,
+            best,
+            sweep=sweep,
+            sweep_analytic=sweep_analytic,
+            recommended_stock=recommended_stock,
+            life_reliability=life_reliability,
+        ):
+            png = _png(plan.draw, plan.size_in, dpi)
+            (fig_dir / f"{plan.name}.png").write_bytes(png)
+            images.append(FigureImage(plan.name, plan.title, plan.caption, png))
+        (work / SUMMARY_NAME).write_bytes(summary_json.dumps(doc).encode("utf-8"))
+        files = [SUMMARY_NAME, *(p.name for p in table_paths.values())]
+        files += [f"{FIGURES_DIR}/{im.name}.png" for im in images]
+        page = render_page(
+            results,
+            labels,
+            title=title,
+            executive_summary=paragraphs,
+            recommended=best,
+            figures=images,
+            files=files,
+            extra=doc.get("extra"),
+            generated=datetime.now(UTC).strftime("%Y-%m-%d"),
+        )
+        (work / HTML_NAME).write_bytes(page.encode("utf-8"))
+        _swap_in(work, out_dir)
+    except BaseException:
+        shutil.rmtree(work, ignore_errors=True)
+        raise
+    return ReportPaths(
+        root=out_dir,
+        html=out_dir / HTML_NAME,
+        summary_json=out_dir / SUMMARY_NAME,
+        figures={im.name: out_dir / FIGURES_DIR / f"{im.name}.png" for im in images},
+        tables={name: out_dir / p.name for name, p in table_paths.items()},
+    )
