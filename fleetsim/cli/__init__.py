@@ -34,11 +34,14 @@ def _register() -> None:
     from fleetsim.cli import fit as fit_cmds
     from fleetsim.cli import life as life_cmds
     from fleetsim.cli import scenario as scenario_cmds
+    from fleetsim.cli import study as study_cmds
 
     cli.add_command(life_cmds.life)
     cli.add_command(life_cmds.size)
     cli.add_command(scenario_cmds.check)
     cli.add_command(fit_cmds.fit)
+    cli.add_command(study_cmds.run)
+    cli.add_command(study_cmds.sweep)
 
 
 _register()

@@ -59,7 +59,10 @@ from fleetsim.scenario.model import (
 from fleetsim.scenario.policies import read_policy
 from fleetsim.scenario.reader import Table, join, show, suggest
 
-SECTIONS = ("study", "costs", "life", "bearing", "machine", "group", "policy", "stores", "crews")
+SECTIONS = (
+    "study", "costs", "life", "bearing", "machine", "group", "policy", "stores", "crews",
+    "variant",  # read by fleetsim.study.variants
+)
 STUDY_KEYS = ("name", "horizon", "replications", "seed")
 COSTS_KEYS = (
     "currency",

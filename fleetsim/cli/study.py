@@ -1,0 +1,268 @@
+"""``fleetsim run`` and ``fleetsim sweep``: simulate a fleet, compare variants, write the report."""
+
+from __future__ import annotations
+
+import os
+import re
+import sys
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+import click
+
+from fleetsim import SAFETY_CAUTION
+from fleetsim.cli.common import echo_json
+from fleetsim.errors import InputError
+
+ENGINE_CHOICE = click.Choice(["auto", "des", "vector"])
+OBJECTIVES = {
+    "cost": ("cost_per_year", min),
+    "availability": ("availability", max),
+    "reliability": ("fleet_down", min),
+}
+
+
+def _slug(name: str) -> str:
+    s = re.sub(r"[^A-Za-z0-9._-]+", "-", name).strip("-._").lower()
+    return s or "study"
+
+
+class _Progress:
+    """A tqdm bar on standard error when it is a terminal (and not --quiet)."""
+
+    def __init__(self, quiet: bool, label: str) -> None:
+        self.bar: Any = None
+        self.label = label
+        self.enabled = not quiet and sys.stderr.isatty()
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.enabled:
+            return
+        if self.bar is None:
+            from tqdm import tqdm
+
+            self.bar = tqdm(total=total, desc=self.label, unit="rep", file=sys.stderr, leave=False)
+        self.bar.n = done
+        self.bar.refresh()
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.close()
+
+
+def _note(quiet: bool, text: str) -> None:
+    if not quiet:
+        click.echo(text, err=True)
+
+
+def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
+    options = [
+        click.option("--replications", "-n", type=int, default=None,
+                     help="Replications (default: the scenario's)."),
+        click.option("--seed", type=int, default=None, help="Study seed (default: the scenario's)."),
+        click.option("--out", "out", type=click.Path(file_okay=False), default=None,
+                     help="Report directory (default: reports/<study name>)."),
+        click.option("--engine", type=ENGINE_CHOICE, default="auto", show_default=True,
+                     help="des (SimPy), vector (independent positions only) or auto."),
+        click.option("--workers", type=int, default=1, show_default=True,
+                     help="Processes for the replications (0 = all cores)."),
+        click.option("--cluster", default=None,
+                     help="Dask scheduler address tcp://HOST:PORT, or 'local' for a local cluster."),
+        click.option("--resume", is_flag=True,
+                     help="Continue an interrupted run from its checkpoint in the report directory."),
+        click.option("--quiet", "-q", is_flag=True, help="No progress bar or notes on standard error."),
+        click.option("--json", "as_json", is_flag=True, help="Print one JSON object."),
+    ]
+    for opt in reversed(options):
+        fn = opt(fn)
+    return fn
+
+
+def _check_options(replications: int | None, workers: int) -> None:
+    if replications is not None and replications < 1:
+        raise InputError("--replications", f"expected at least 1, got {replications}")
+    _workers(workers)
+
+
+def _workers(n: int) -> int:
+    if n < 0:
+        raise InputError("--workers", f"expected 0 (all cores) or more, got {n}")
+    return n or (os.cpu_count() or 1)
+
+
+def _run_variants(variants, *, replications, seed, engine, workers, cluster, quiet, resume,
+                  out_dir: Path):  # type: ignore[no-untyped-def]
+    from fleetsim.study import run_study
+
+    ck_dir = out_dir.parent / f".{out_dir.name}.checkpoints"
+    if not resume and ck_dir.exists():
+        for f in ck_dir.glob("*.jsonl"):
+            f.unlink()
+    ck_dir.mkdir(parents=True, exist_ok=True)
+    results = []
+    for k, v in enumerate(variants):
+        bar = _Progress(quiet, v.name[:30])
+        try:
+            results.append(run_study(
+                v.scenario, replications=replications, seed=seed, engine=engine,
+                workers=workers, cluster=cluster, progress=bar, label=v.name,
+                checkpoint=ck_dir / f"variant-{k}.jsonl", keep_events=(k == 0),
+            ))
+        finally:
+            bar.close()
+    return results, ck_dir
+
+
+def _finish(results, out_dir: Path, ck_dir: Path, title: str, as_json: bool, quiet: bool,
+            extra: dict[str, Any], **report_kw: Any) -> None:  # type: ignore[no-untyped-def]
+    from fleetsim.report import summary_table, write_report
+    from fleetsim.study.advice import recommended_stock
+
+    stock = {}
+    for advice in recommended_stock(results[0]):
+        stock[advice.bearing] = advice.base_stock
+    extra = dict(extra)
+    extra["recommended_stock_95pct_fill_rate"] = {
+        a.bearing: {"base_stock": a.base_stock, "fill_rate": a.fill_rate,
+                    "demand_per_year": a.demand_per_year, "lead_time_h": a.lead_time_h,
+                    "current_order_up_to": a.current_order_up_to}
+        for a in recommended_stock(results[0])
+    }
+    paths = write_report(results, out_dir, title=title, extra=extra,
+                         recommended_stock=stock or None, **report_kw)
+    for f in ck_dir.glob("*.jsonl"):
+        f.unlink()
+    try:
+        ck_dir.rmdir()
+    except OSError:
+        pass
+    if as_json:
+        import json
+
+        summary = json.loads(Path(paths.summary_json).read_text())
+        summary["report"] = str(paths.html)
+        summary["elapsed_s"] = sum(r.elapsed_s for r in results)
+        echo_json(summary)
+        return
+    click.echo(summary_table(results).rstrip())
+    if stock:
+        click.echo("\nRecommended stock for a 95 % fill rate (Palm's theorem on the simulated demand):")
+        for a in recommended_stock(results[0]):
+            click.echo(f"  {a.bearing}: {a.base_stock} on hand (now S = {a.current_order_up_to}); "
+                       f"demand {a.demand_per_year:.2f}/year, lead time {a.lead_time_h / 24:.0f} d")
+    click.echo(f"\nReport: {paths.html}")
+    click.echo(f"\n{SAFETY_CAUTION}")
+    _note(quiet, f"{sum(len(r.replications) for r in results)} replications in "
+                 f"{sum(r.elapsed_s for r in results):.1f} s")
+
+
+@click.command()
+@click.argument("scenario", type=click.Path(dir_okay=False))
+@_common
+def run(scenario: str, replications: int | None, seed: int | None, out: str | None, engine: str,
+        workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool) -> None:
+    """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
+    _check_options(replications, workers)
+    from fleetsim.study import choose_engine
+    from fleetsim.study.variants import file_variants, read_document
+
+    document, text = read_document(scenario)
+    import hashlib
+
+    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+    variants = file_variants(document, scenario, digest)
+    base = variants[0].scenario
+    chosen, why = choose_engine(base, engine)
+    _note(quiet, f"{base.study.name}: {len(variants)} variant(s), engine {chosen} ({why})")
+    out_dir = Path(out) if out else Path("reports") / _slug(base.study.name)
+    results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
+                                workers=_workers(workers), cluster=cluster, quiet=quiet,
+                                resume=resume, out_dir=out_dir)
+    _finish(results, out_dir, ck, base.study.name, as_json, quiet,
+            {"scenario_file": Path(scenario).name, "engine_choice": why})
+
+
+def _parse_vary(items: tuple[str, ...]) -> list[tuple[str, list[Any]]]:
+    from fleetsim.study.variants import parse_values
+
+    out = []
+    for item in items:
+        key, sep, values = item.partition("=")
+        if not sep or not key.strip():
+            raise InputError("--vary", f"expected KEY=VALUES such as policy.interval=20000 h,30000 h, got {item!r}")
+        out.append((key.strip(), parse_values(values, f"--vary {key.strip()}")))
+    return out
+
+
+@click.command()
+@click.argument("scenario", type=click.Path(dir_okay=False))
+@click.option("--vary", multiple=True, required=True,
+              help="KEY=V1,V2,... or KEY=START:STOP:STEP UNIT; several --vary make a grid.")
+@click.option("--objective", type=click.Choice(list(OBJECTIVES)), default="cost", show_default=True,
+              help="What the best variant optimises: cost per year, availability or reliability.")
+@_common
+def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: int | None,
+          seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
+          resume: bool, quiet: bool, as_json: bool) -> None:
+    """Run every combination of --vary values on common random numbers and mark the best."""
+    _check_options(replications, workers)
+    import hashlib
+
+    import pandas as pd
+
+    from fleetsim.study.advice import analytic_cost_curve
+    from fleetsim.study.summary import estimate
+    from fleetsim.study.variants import grid_variants, read_document
+
+    document, text = read_document(scenario)
+    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+    varies = _parse_vary(vary)
+    variants = grid_variants(document, varies, scenario, digest)
+    if len(variants) > 200:
+        raise InputError("--vary", f"the grid has {len(variants)} variants; expected at most 200")
+    base = variants[0].scenario
+    _note(quiet, f"{base.study.name}: sweeping {len(variants)} variant(s)")
+    out_dir = Path(out) if out else Path("reports") / (_slug(base.study.name) + "-sweep")
+    results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
+                                workers=_workers(workers), cluster=cluster, quiet=quiet,
+                                resume=resume, out_dir=out_dir)
+    figure, pick = OBJECTIVES[objective]
+    means = [float(r.replications[figure].mean()) for r in results]
+    best = means.index(pick(means))
+    extra: dict[str, Any] = {
+        "objective": figure, "best_variant": variants[best].name,
+        "varied": [{"key": k, "values": [str(v) for v in vals]} for k, vals in varies],
+    }
+    sweep_table = None
+    analytic = None
+    if len(varies) == 1 and varies[0][0] == "policy.interval":
+        hours = [r.scenario.machines[0].positions[0].policy.interval_h for r in results]
+        rows = []
+        for h, r in zip(hours, results, strict=True):
+            est = estimate(r.replications["cost_per_year"])
+            rows.append({"interval_h": h, "mean": est.mean, "ci_low": est.low, "ci_high": est.high})
+        sweep_table = pd.DataFrame(rows)
+        if all(h is not None for h in hours):
+            lo, hi = min(hours), max(hours)
+            grid = [lo + (hi - lo) * k / 200 for k in range(201)]
+            analytic = analytic_cost_curve(base, grid)
+            if analytic is not None:
+                i = int(analytic["cost_rate"].idxmin())
+                extra["analytic_optimum_interval_h"] = float(analytic["interval_h"][i])
+                extra["analytic_optimum_cost_per_year"] = float(analytic["cost_rate"][i])
+                extra["analytic_note"] = ("closed-form age replacement (Barlow & Proschan), "
+                                          "without waiting for spares or crews")
+    _finish(results, out_dir, ck, f"{base.study.name}: sweep", as_json, quiet, extra,
+            sweep=sweep_table, sweep_analytic=analytic)
+    if not as_json:
+        est = estimate(results[best].replications[figure])
+        click.echo(f"\nBest on {figure}: {variants[best].name} — {est.mean:,.4g} "
+                   f"(95 % CI {est.low:,.4g} to {est.high:,.4g})")
+        if "analytic_optimum_interval_h" in extra:
+            click.echo(f"Closed-form optimum interval (quick estimate): "
+                       f"{extra['analytic_optimum_interval_h']:,.0f} h at "
+                       f"{extra['analytic_optimum_cost_per_year']:,.0f} per year "
+                       f"(within the swept range)")
+
+

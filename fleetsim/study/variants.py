@@ -1,0 +1,230 @@
+"""Variants of a scenario: key-path overrides of its document, for comparisons and sweeps.
+
+A scenario file may list variants to compare with the base case ("today's
+practice")::
+
+    [[variant]]
+    name = "Run to failure"
+    set = { policy = { kind = "run-to-failure" } }
+
+    [[variant]]
+    name = "Vibration route every 4 weeks"
+    set = { "policy" = { kind = "condition", inspection_every = "4 weeks",
+            pf_interval = "60 d", detection = 0.8, respond_within = "3 d" } }
+
+Each key of ``set`` is a *key path* into the document: dotted names, with
+``[i]`` for the i-th entry of an array of tables or ``[id]`` for the entry
+whose ``id`` is ``id`` — ``policy.interval``, ``stores.WB-50.initial``,
+``machine[north-pump-1].position[pump-radial].policy``. The value replaces
+whatever was there. ``fleetsim sweep --vary KEY=VALUES`` uses the same paths.
+"""
+
+from __future__ import annotations
+
+import copy
+import itertools
+import re
+import tomllib
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from fleetsim.errors import InputError
+from fleetsim.scenario import build_scenario
+from fleetsim.scenario.model import Scenario
+
+_STEP = re.compile(r"^([^\[\]]+)((?:\[[^\]]+\])*)$")
+
+
+@dataclass(frozen=True)
+class Variant:
+    """A named set of overrides and the scenario it gives."""
+
+    name: str
+    overrides: tuple[tuple[str, Any], ...]
+    scenario: Scenario
+
+
+def read_document(path: str | Path) -> tuple[dict[str, Any], str]:
+    """The parsed TOML document of a scenario file and its text."""
+    name = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError(name, "scenario file not found") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(name, f"cannot read the scenario file ({exc})") from None
+    try:
+        return tomllib.loads(text), text
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(name, f"TOML syntax error: {exc}") from None
+
+
+def _steps(path: str, where: str) -> list[str | int]:
+    out: list[str | int] = []
+    for part in path.split("."):
+        m = _STEP.match(part.strip())
+        if not m:
+            raise InputError(where, f"expected a key path like policy.interval or "
+                                    f"machine[0].position[drive-end].policy, got {path!r}")
+        out.append(m.group(1))
+        for idx in re.findall(r"\[([^\]]+)\]", m.group(2)):
+            out.append(int(idx) if idx.strip().lstrip("-").isdigit() else idx.strip())
+    return out
+
+
+def set_path(document: Mapping[str, Any], path: str, value: Any, where: str = "") -> dict[str, Any]:
+    """A deep copy of ``document`` with the value at ``path`` replaced.
+
+    Raises
+    ------
+    InputError
+        When the path does not lead into the document (an index or id that is
+        not there, a name under a value that is not a table).
+    """
+    where = where or path
+    doc = copy.deepcopy(dict(document))
+    steps = _steps(path, where)
+    node: Any = doc
+    for i, step in enumerate(steps):
+        last = i == len(steps) - 1
+        if isinstance(step, int):
+            if not isinstance(node, list) or not -len(node) <= step < len(node):
+                raise InputError(where, f"no entry [{step}] at {path!r}")
+            if last:
+                node[step] = value
+            else:
+                node = node[step]
+            continue
+        if isinstance(node, list):  # an id among an array of tables
+            matches = [j for j, item in enumerate(node) if isinstance(item, dict) and item.get("id") == step]
+            if not matches:
+                ids = [item.get("id") for item in node if isinstance(item, dict)]
+                raise InputError(where, f"no entry with id {step!r} at {path!r} (ids: {ids})")
+            if last:
+                node[matches[0]] = value
+            else:
+                node = node[matches[0]]
+            continue
+        if not isinstance(node, dict):
+            raise InputError(where, f"{path!r} goes below a value that is not a table")
+        if last:
+            node[step] = value
+        else:
+            nxt = node.get(step)
+            if nxt is None:
+                nxt = node[step] = {}
+            node = nxt
+    return doc
+
+
+def parse_value(text: str) -> Any:
+    """A command-line value: a TOML value when it parses as one, else the string itself."""
+    try:
+        return tomllib.loads(f"v = {text}")["v"]
+    except tomllib.TOMLDecodeError:
+        return text.strip()
+
+
+def parse_values(text: str, where: str) -> list[Any]:
+    """``"a,b,c"`` or a range ``"START:STOP:STEP UNIT"`` (inclusive of STOP when it falls on a step)."""
+    text = text.strip()
+    rng = re.fullmatch(r"([-+0-9.eE]+):([-+0-9.eE]+):([-+0-9.eE]+)\s*(.*)", text)
+    if rng:
+        try:
+            start, stop, step = (float(rng.group(k)) for k in (1, 2, 3))
+        except ValueError:
+            raise InputError(where, f"expected START:STOP:STEP [unit], got {text!r}") from None
+        if step <= 0 or stop < start:
+            raise InputError(where, f"expected STOP >= START and STEP > 0, got {text!r}")
+        n = int((stop - start) / step + 1e-9) + 1
+        if n > 1000:
+            raise InputError(where, f"the range gives {n} values; expected at most 1000")
+        unit = rng.group(4).strip()
+        values = [start + k * step for k in range(n)]
+        return [f"{v:g} {unit}" if unit else (int(v) if float(v).is_integer() else v) for v in values]
+    parts = [p for p in (s.strip() for s in _split_top(text)) if p]
+    if not parts:
+        raise InputError(where, "expected at least one value")
+    return [parse_value(p) for p in parts]
+
+
+def _split_top(text: str) -> list[str]:
+    """Split on commas outside braces, brackets and quotes."""
+    out, depth, quote, cur = [], 0, "", []
+    for ch in text:
+        if quote:
+            quote = "" if ch == quote else quote
+        elif ch in "\"'":
+            quote = ch
+        elif ch in "{[":
+            depth += 1
+        elif ch in "}]":
+            depth -= 1
+        elif ch == "," and depth == 0:
+            out.append("".join(cur))
+            cur = []
+            continue
+        cur.append(ch)
+    out.append("".join(cur))
+    return out
+
+
+def _label(value: Any) -> str:
+    if isinstance(value, dict):
+        return ", ".join(f"{k}={_label(v)}" for k, v in value.items())
+    return str(value)
+
+
+def build_variant(document: Mapping[str, Any], overrides: Sequence[tuple[str, Any]], name: str,
+                  source: str, digest: str) -> Variant:
+    """Apply overrides to a document and validate the result."""
+    doc = {k: v for k, v in document.items() if k != "variant"}
+    for path, value in overrides:
+        doc = set_path(doc, path, value, where=f"{source}: variant {name!r}: {path}")
+    try:
+        sc = build_scenario(doc, source=f"{source} [{name}]", digest=digest)
+    except InputError as exc:
+        raise InputError(exc.where, exc.expected) from None
+    return Variant(name=name, overrides=tuple(overrides), scenario=sc)
+
+
+def file_variants(document: Mapping[str, Any], source: str, digest: str) -> list[Variant]:
+    """The base case and the ``[[variant]]`` entries of a scenario document."""
+    base_name = "Today's practice"
+    raw = document.get("variant", [])
+    if not isinstance(raw, list):
+        raise InputError(f"{source}: variant", "expected [[variant]] tables")
+    out = [build_variant(document, [], base_name, source, digest)]
+    seen = {base_name}
+    for i, entry in enumerate(raw):
+        where = f"{source}: variant[{i}]"
+        if not isinstance(entry, dict):
+            raise InputError(where, "expected a table with name and set")
+        extra = set(entry) - {"name", "set", "description"}
+        if extra:
+            raise InputError(f"{where}.{sorted(extra)[0]}", "expected only name, set and description")
+        name = entry.get("name")
+        if not isinstance(name, str) or not name.strip():
+            raise InputError(f"{where}.name", "expected a non-empty name")
+        if name in seen:
+            raise InputError(f"{where}.name", f"expected a unique name, {name!r} is used twice")
+        seen.add(name)
+        sets = entry.get("set", {})
+        if not isinstance(sets, dict) or not sets:
+            raise InputError(f"{where}.set", "expected a table of key paths and values")
+        out.append(build_variant(document, list(sets.items()), name, source, digest))
+    return out
+
+
+def grid_variants(document: Mapping[str, Any], varies: Sequence[tuple[str, list[Any]]],
+                  source: str, digest: str) -> list[Variant]:
+    """Every combination of the ``--vary`` values (a grid), in order."""
+    out = []
+    keys = [k for k, _ in varies]
+    for combo in itertools.product(*[vals for _, vals in varies]):
+        pairs = list(zip(keys, combo, strict=True))
+        name = "; ".join(f"{k}={_label(v)}" for k, v in pairs)
+        out.append(build_variant(document, pairs, name, source, digest))
+    return out

@@ -1,0 +1,166 @@
+"""``fleetsim run`` and ``fleetsim sweep``: outputs, variants, resume, bad input."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from fleetsim.cli import main
+from fleetsim.study.variants import parse_values, set_path
+
+SMALL = """
+[study]
+name = "Small <plant>"
+horizon = "5 years"
+replications = 12
+seed = 5
+
+[costs]
+planned_replacement = 300
+failure = 2000
+downtime_per_hour = 50
+
+[[bearing]]
+id = "QB-1"
+type = "ball"
+dynamic_rating = "30 kN"
+static_rating = "18 kN"
+price = 60
+
+[[machine]]
+id = "fan"
+count = 4
+  [[machine.position]]
+  id = "de"
+  bearing = "QB-1"
+  radial_load = "4 kN"
+  speed = "1500 rpm"
+  [[machine.position]]
+  id = "nde"
+  bearing = "QB-1"
+  radial_load = "3 kN"
+  speed = "1500 rpm"
+
+[policy]
+kind = "age"
+interval = "12000 h"
+
+[crews]
+planned_repair = "4 h"
+unplanned_repair = "10 h"
+
+[[variant]]
+name = "Run to failure"
+set = { policy = { kind = "run-to-failure" } }
+"""
+
+
+@pytest.fixture()
+def small(tmp_path: Path) -> Path:
+    p = tmp_path / "small.toml"
+    p.write_text(SMALL)
+    return p
+
+
+def test_run_writes_the_report_and_json(small: Path, tmp_path: Path, capsys) -> None:
+    out = tmp_path / "rep"
+    code = main(["run", str(small), "--out", str(out), "--json", "--quiet"])
+    assert code == 0
+    obj = json.loads(capsys.readouterr().out)
+    assert (out / "report.html").exists() and (out / "summary.json").exists()
+    assert (out / "replications.csv").exists()
+    text = (out / "report.html").read_text()
+    assert "Small &lt;plant&gt;" in text and "<plant>" not in text
+    assert "qualified, licensed engineer" in text
+    assert obj["report"].endswith("report.html")
+    # The same seed gives the same summary.json.
+    first = (out / "summary.json").read_bytes()
+    assert main(["run", str(small), "--out", str(out), "--quiet", "--workers", "2"]) == 0
+    capsys.readouterr()
+    assert (out / "summary.json").read_bytes() == first
+
+
+def test_run_table_output_names_both_variants(small: Path, tmp_path: Path, capsys) -> None:
+    assert main(["run", str(small), "--out", str(tmp_path / "r"), "--quiet"]) == 0
+    out = capsys.readouterr().out
+    assert "Today's practice" in out and "Run to failure" in out and "Report:" in out
+
+
+def test_sweep_marks_the_best_and_the_analytic_optimum(small: Path, tmp_path: Path, capsys) -> None:
+    code = main(["sweep", str(small), "--vary", "policy.interval=6000:18000:6000 h",
+                 "--out", str(tmp_path / "s"), "--quiet", "--replications", "8"])
+    assert code == 0
+    out = capsys.readouterr().out
+    assert "Best on cost_per_year" in out and "Closed-form optimum interval" in out
+    assert (tmp_path / "s" / "figures" / "cost_rate_sweep.png").exists()
+
+
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (["run", "missing.toml"], "missing.toml"),
+        (["sweep", "{small}", "--vary", "policy.interval"], "--vary"),
+        (["sweep", "{small}", "--vary", "machine[9].count=2"], "no entry [9]"),
+        (["sweep", "{small}", "--vary", "policy.interval=5 kN"], "policy.interval"),
+        (["run", "{small}", "--engine", "vector", "--replications", "0"], "--replications"),
+        (["run", "{small}", "--workers", "-1"], "--workers"),
+    ],
+)
+def test_bad_input_is_one_line(args, fragment, small: Path, tmp_path: Path, capsys,
+                               monkeypatch) -> None:
+    monkeypatch.chdir(tmp_path)
+    code = main([a.replace("{small}", str(small)) for a in args])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert err.startswith("fleetsim: error:") and err.count("\n") == 1
+    assert fragment in err
+
+
+def test_key_paths_and_values() -> None:
+    doc = {"machine": [{"id": "a", "count": 1, "position": [{"id": "x"}]}], "policy": {"kind": "age"}}
+    assert set_path(doc, "machine[a].position[x].speed", "5 rpm")["machine"][0]["position"][0]["speed"] == "5 rpm"
+    assert set_path(doc, "machine[0].count", 3)["machine"][0]["count"] == 3
+    assert set_path(doc, "policy.interval", "1 h")["policy"] == {"kind": "age", "interval": "1 h"}
+    assert doc["policy"] == {"kind": "age"}  # not modified
+    assert parse_values("1:3:1", "x") == [1, 2, 3]
+    assert parse_values("10:20:5 h", "x") == ["10 h", "15 h", "20 h"]
+    assert parse_values('"a", {kind = "age", interval = "5 h"}', "x") == [
+        "a", {"kind": "age", "interval": "5 h"}]
+
+
+def test_interrupted_run_resumes_to_the_same_result(small: Path, tmp_path: Path, capsys,
+                                                    monkeypatch) -> None:
+    import fleetsim.study.study as study_mod
+
+    clean = tmp_path / "clean"
+    assert main(["run", str(small), "--out", str(clean), "--quiet"]) == 0
+    real = study_mod.replicate
+    calls = {"n": 0}
+
+    def flaky(payload, seed):  # type: ignore[no-untyped-def]
+        calls["n"] += 1
+        if calls["n"] == 17:  # during the second variant
+            raise KeyboardInterrupt
+        return real(payload, seed)
+
+    out = tmp_path / "resumed"
+    monkeypatch.setattr(study_mod, "replicate", flaky)
+    assert main(["run", str(small), "--out", str(out), "--quiet"]) == 130
+    assert not (out / "summary.json").exists()
+    checkpoints = list((tmp_path / ".resumed.checkpoints").glob("*.jsonl"))
+    assert len(checkpoints) == 2
+    resumed_calls = {"n": 0}
+
+    def counting(payload, seed):  # type: ignore[no-untyped-def]
+        resumed_calls["n"] += 1
+        return real(payload, seed)
+
+    monkeypatch.setattr(study_mod, "replicate", counting)
+    assert main(["run", str(small), "--out", str(out), "--quiet", "--resume"]) == 0
+    # 2 variants × 12 replications; 16 had finished before the interruption.
+    assert resumed_calls["n"] == 24 - 16
+    capsys.readouterr()
+    assert (out / "summary.json").read_bytes() == (clean / "summary.json").read_bytes()
+    assert not (tmp_path / ".resumed.checkpoints").exists()
