@@ -14,10 +14,8 @@ $(STAMP): pyproject.toml
 	touch $(STAMP)
 
 demo: $(STAMP)
-	$(BIN)/fleetsim life --type ball --dynamic-rating "30.7 kN" --static-rating "19 kN" \
-	    --radial-load "3.2 kN" --axial-load "1.1 kN" --speed "1480 rpm" --reliability 0.95
 	$(BIN)/fleetsim check scenarios/pump_stations.toml
-	$(BIN)/fleetsim run scenarios/pump_stations.toml --replications 100 --seed 1
+	$(BIN)/fleetsim run scenarios/pump_stations.toml
 
 test: $(STAMP)
 	$(BIN)/python -m pytest

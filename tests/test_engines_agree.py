@@ -75,3 +75,22 @@ def test_engines_agree_in_distribution(name: str) -> None:
         se = math.sqrt(a.var(ddof=1) / a.size + b.var(ddof=1) / b.size)
         assert abs(a.mean() - b.mean()) < 4 * se, (name, fig, a.mean(), b.mean(), se)
         assert stats.ks_2samp(a, b).pvalue > 0.001, (name, fig)
+
+
+def test_engines_agree_on_fleet_down_events_with_instant_stops() -> None:
+    # With zero stop durations and no groups the fleet is down (for an instant) at
+    # every stop; both engines count such down events (a long-lived fleet, so that
+    # the first down event often falls inside the horizon and often not).
+    life = LifeDistribution(shape=1.4, scale_h=600_000.0, location_h=1_500.0)
+    positions = (Position("a", "B1", life, Policy("age", 400_000.0)),
+                 Position("b", "B1", life, Policy()))
+    sc = Scenario(Study("instant", 87_660.0, 150, 3), Costs(failure=100.0),
+                  {"B1": Bearing("B1", BearingType.BALL, 4e4, price=10.0)},
+                  (Machine("fan", 3, 0.9, 0.0, positions),))
+    des = run_study(sc, engine="des", seed=1, keep_events=False).replications
+    vec = run_study(sc, engine="vector", seed=2, keep_events=False).replications
+    for fig in ["fleet_down", "fleet_first_down_h", "failures"]:
+        a, b = des[fig].to_numpy(), vec[fig].to_numpy()
+        se = math.sqrt(a.var(ddof=1) / a.size + b.var(ddof=1) / b.size)
+        assert abs(a.mean() - b.mean()) < 4 * se, (fig, a.mean(), b.mean(), se)
+    assert 0.2 < des["fleet_down"].mean() < 0.8

@@ -38,7 +38,7 @@ from fleetsim.scenario.model import Duration, Machine, Scenario
 
 _LIFE, _PF, _DET, _REPAIR_F, _REPAIR_P = range(5)
 _EPS = 1e-9
-_BLOCK_ROWS = 16
+_BLOCK_ROWS = 4
 
 
 class _Matrix:
@@ -93,6 +93,7 @@ class _Tally:
     downtime_planned_h: float = 0.0
     issued: np.ndarray | None = None  # per position index
     intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] | None = None  # (unit, start, end)
+    first_stop_h: float = math.inf  # first stop of any unit (for a fleet without groups)
 
 
 def _life_params(machine: Machine) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -269,8 +270,9 @@ class _Lanes:
         else:
             d = _duration_quantile(self.crews.planned_repair, self.rng_plan.random(n))
             tl.downtime_planned_h += float(np.minimum(d, self.horizon_h - t[u]).sum())
+        tl.intervals.append((u, t[u].copy(), np.minimum(t[u] + d, self.horizon_h)))
+        tl.first_stop_h = min(tl.first_stop_h, float(t[u].min()))
         if np.any(d > 0):
-            tl.intervals.append((u, t[u].copy(), np.minimum(t[u] + d, self.horizon_h)))
             self.t[u] = t[u] + d
             # planned changes, block dates and inspections that fell in the stop happen after it
             late = self.next_insp[u] < self.t[u]
@@ -281,54 +283,84 @@ class _Lanes:
 
 
 def _renewal_lanes(machine: Machine, scenario: Scenario, rngs: list[np.random.Generator],
-                   horizon_h: float) -> _Tally:
-    """Fast path: each position an independent renewal process (run-to-failure/age)."""
+                   horizon_h: float, need_intervals: bool) -> _Tally:
+    """Fast path: each position an independent renewal process (run-to-failure/age).
+
+    Every position still inside the horizon advances by exactly one renewal per
+    round, so round k uses row k of the life matrix; positions that have passed
+    the horizon are dropped from the working arrays after each round.
+    """
     U, P = machine.count, len(machine.positions)
+    n = U * P
     shape, scale, loc = _life_params(machine)
     T = np.array([p.policy.interval_h if p.policy.kind == "age" else math.inf
                   for p in machine.positions])
     share = machine.operating_share
+    crews = scenario.crews
+    stops_vary = not (crews.unplanned_repair.kind == "fixed" and crews.planned_repair.kind == "fixed")
+    d_fail, d_plan = crews.unplanned_repair.value_h, crews.planned_repair.value_h
+    timed_stops = stops_vary or d_fail > 0 or d_plan > 0
     lifeM, rf, rp = _Matrix(rngs[_LIFE], U, P), rngs[_REPAIR_F], rngs[_REPAIR_P]
     tally = _Tally(failures=np.zeros(U, dtype=np.int64), planned=np.zeros(U, dtype=np.int64),
                    issued=np.zeros(P, dtype=np.int64), intervals=[])
-    t = np.zeros((U, P))
-    k = np.zeros((U, P), dtype=np.int64)
-    uu, pp = np.indices((U, P))
+    # working arrays over the positions still inside the horizon (flat index u·P + p)
+    idx = np.arange(n)
+    pos = np.tile(np.arange(P), U)
+    b, inv_b, eta, x0, cut0 = shape[pos], 1.0 / shape[pos], scale[pos], loc[pos], T[pos]
+    t = np.zeros(n)
+    fails = np.zeros(n, dtype=np.int64)
+    plans = np.zeros(n, dtype=np.int64)
     a0 = machine.starting_age_h
-    rows = 0
-    active = np.ones((U, P), dtype=bool)
-    while active.any():
-        u, p = uu[active], pp[active]
-        x = lifeM.take(k[u, p], u, p)
-        b, eta, x0 = shape[p], scale[p], loc[p]
-        first = k[u, p] == 0
-        z0 = np.where(first & (a0 > 0), (np.maximum(a0 - x0, 0.0) / eta) ** b, 0.0)
-        age0 = np.where(first, a0, 0.0)
-        life = x0 + eta * (z0 - np.log1p(-x)) ** (1.0 / b) - age0
-        cut = np.maximum(T[p] - age0, 0.0)
+    first_stop = math.inf
+    k = 0
+    while idx.size:
+        while k >= lifeM.data.shape[0]:
+            lifeM.data = np.concatenate([lifeM.data, lifeM.rng.random((_BLOCK_ROWS, U, P))])
+        row = lifeM.data[k].reshape(-1)
+        x = row if idx.size == n else row[idx]
+        e = -np.log1p(-x)  # standard exponential
+        if k == 0 and a0 > 0:
+            z0 = (np.maximum(a0 - x0, 0.0) / eta) ** b
+            life = x0 + eta * (z0 + e) ** inv_b - a0
+            cut = np.maximum(cut0 - a0, 0.0)
+        else:
+            life = x0 + eta * e**inv_b
+            cut = cut0
         failed = life < cut
-        run = np.minimum(life, cut) / share
-        end = t[u, p] + run
+        end = t + np.minimum(life, cut) / share
         inside = end < horizon_h
-        fu, fp = u[inside & failed], p[inside & failed]
-        pu, pp_ = u[inside & ~failed], p[inside & ~failed]
-        np.add.at(tally.failures, fu, 1)
-        np.add.at(tally.planned, pu, 1)
-        np.add.at(tally.issued, p[inside], 1)
-        d = np.zeros(u.size)
-        nf, npl = int((inside & failed).sum()), int((inside & ~failed).sum())
-        d[inside & failed] = _duration_quantile(scenario.crews.unplanned_repair, rf.random(nf))
-        d[inside & ~failed] = _duration_quantile(scenario.crews.planned_repair, rp.random(npl))
-        dd = np.minimum(d, np.maximum(horizon_h - end, 0.0))
-        tally.downtime_repair_h += float(dd[inside & failed].sum())
-        tally.downtime_planned_h += float(dd[inside & ~failed].sum())
-        if np.any(dd[inside] > 0):
-            tally.intervals.append((u[inside], end[inside], end[inside] + dd[inside]))
-        t[u, p] = np.where(inside, end + d, horizon_h)
-        k[u, p] += 1
-        active = t < horizon_h
-        rows += 1
-    del fu, fp, pu, pp_
+        f_in = inside & failed
+        p_in = inside & ~failed
+        fails[idx[f_in]] += 1
+        plans[idx[p_in]] += 1
+        ends = end[inside]
+        if ends.size:
+            first_stop = min(first_stop, float(ends.min()))
+        if timed_stops:
+            if stops_vary:
+                d = np.zeros(idx.size)
+                d[f_in] = _duration_quantile(crews.unplanned_repair, rf.random(int(f_in.sum())))
+                d[p_in] = _duration_quantile(crews.planned_repair, rp.random(int(p_in.sum())))
+            else:
+                d = np.where(failed, d_fail, d_plan)
+            dd = np.minimum(d, horizon_h - end)
+            tally.downtime_repair_h += float(dd[f_in].sum())
+            tally.downtime_planned_h += float(dd[p_in].sum())
+            nxt = end + d
+        else:
+            dd = None
+            nxt = end
+        if need_intervals:
+            stop_len = dd[inside] if dd is not None else 0.0
+            tally.intervals.append((idx[inside] // P, ends, ends + stop_len))
+        idx, t = idx[inside], nxt[inside]
+        b, inv_b, eta, x0, cut0 = b[inside], inv_b[inside], eta[inside], x0[inside], cut0[inside]
+        k += 1
+    per_unit = fails.reshape(U, P)
+    tally.failures += per_unit.sum(axis=1)
+    tally.planned += plans.reshape(U, P).sum(axis=1)
+    tally.issued += (per_unit + plans.reshape(U, P)).sum(axis=0)
+    tally.first_stop_h = first_stop
     return tally
 
 
@@ -356,7 +388,7 @@ def simulate_machine(machine: Machine, machine_index: int, scenario: Scenario,
         for purpose in range(5)
     ]
     if _renewal_exact(machine, scenario):
-        return _renewal_lanes(machine, scenario, rngs, horizon_h)
+        return _renewal_lanes(machine, scenario, rngs, horizon_h, bool(scenario.groups))
     lanes = _Lanes(machine, scenario, rngs, horizon_h)
     while lanes.step():
         pass
@@ -364,17 +396,27 @@ def simulate_machine(machine: Machine, machine_index: int, scenario: Scenario,
 
 
 def _group_rows(scenario: Scenario, intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]],
-                horizon_h: float) -> list[dict]:
+                horizon_h: float, first_stop_h: float) -> list[dict]:
     """Replay unit stops through the group tracker of the discrete-event engine."""
     from fleetsim.sim.groups import GroupTracker
 
     n = sum(m.count for m in scenario.machines)
     groups = [(g.id, g.need, scenario.group_members(g)) for g in scenario.groups]
+    if not groups:
+        # The fleet is down while any unit is down; only its first down event is reported.
+        down = first_stop_h < horizon_h
+        return [{"group": "fleet", "had_down": down,
+                 "first_down_h": first_stop_h if down else math.nan, "down_h": math.nan}]
     tracker = GroupTracker(groups, n)
+    members = np.zeros(n, dtype=bool)
+    for _, _, m in groups:
+        members[m] = True
     if intervals:
         unit = np.concatenate([iv[0] for iv in intervals])
-        start = np.concatenate([iv[1] for iv in intervals])
-        end = np.concatenate([iv[2] for iv in intervals])
+        keep = members[unit]
+        unit = unit[keep]
+        start = np.concatenate([iv[1] for iv in intervals])[keep]
+        end = np.concatenate([iv[2] for iv in intervals])[keep]
         # events: (time, code, unit, +1 down / -1 up); a stop of zero length restarts after
         # every stop of the same instant, so simultaneous instant stops overlap.
         zero = end <= start
@@ -470,7 +512,8 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     costs["cost_total"] = sum(costs.values())
     costs["cost_per_year"] = costs["cost_total"] / years
     out.update(costs)
-    for row in _group_rows(scenario, intervals, H):
+    first_stop = min((tl.first_stop_h for tl in tallies), default=math.inf)
+    for row in _group_rows(scenario, intervals, H, first_stop):
         first = row["first_down_h"]
         first = H if (isinstance(first, float) and math.isnan(first)) else float(first)
         if row["group"] == "fleet":
