@@ -229,6 +229,18 @@ class LifeDistribution:
         u = rng.random(size)
         return self.location_h + self.scale_h * (-np.log1p(-u)) ** (1.0 / self.shape)
 
+    def life_from_uniform(self, u: float, age_h: float = 0.0) -> float:
+        """Life (remaining beyond ``age_h``) in hours for a uniform ``u`` in [0, 1).
+
+        The inverse-transform draw of :meth:`sample` (``age_h = 0``) and
+        :meth:`residual_sample`, for one scalar, without numpy overhead.
+        """
+        e = -math.log1p(-u)
+        if age_h > 0.0:
+            z0 = (max(age_h - self.location_h, 0.0) / self.scale_h) ** self.shape
+            return self.location_h + self.scale_h * (z0 + e) ** (1.0 / self.shape) - age_h
+        return self.location_h + self.scale_h * e ** (1.0 / self.shape)
+
     def residual_sample(
         self, rng: np.random.Generator, age_h: float, size: int | None = None
     ) -> Any:

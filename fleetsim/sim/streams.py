@@ -7,20 +7,21 @@ by the order in which the simulation happens to ask for it:
 ========================  =====================================================
 stream                    key appended to the replication's ``spawn_key``
 ========================  =====================================================
-life of a position        ``(0, machine, unit, position, 0)``
-P-F interval of it        ``(0, machine, unit, position, 1)``
-detection draws of it     ``(0, machine, unit, position, 2)``
-stop durations of it      ``(0, machine, unit, position, 3)`` (one uniform per life)
+lives of a machine type   ``(3, machine, 0)``: a :class:`UniformTable`
+P-F intervals             ``(3, machine, 1)``: a :class:`UniformTable`
+stop-duration quantiles   ``(3, machine, 5)``: a :class:`UniformTable`
+detection draws           ``(0, machine, unit, position, 2)``: a generator
 normal lead times         ``(2, bearing, 0)`` (bearing = index in sorted ids)
 emergency lead times      ``(2, bearing, 1)``
 ========================  =====================================================
 
-So the k-th life of a position is the k-th draw of its own generator whatever
-the policy, the crews or the stores (and so are its k-th P-F interval and the
-uniform that sets the duration of the stop ending its k-th life): two policies simulated on the same seed
-see the same underlying lives (common random numbers), and adding a machine
-or a bearing kind does not shift the streams of the others. Generators are
-created on first use (creating one costs tens of microseconds).
+A :class:`UniformTable` holds uniforms U[k, unit, position] drawn row block by
+row block from one generator: the k-th life of a position uses U[k, unit,
+position] whatever the policy, the crews or the stores, so two policies
+simulated on the same seed see the same underlying lives (common random
+numbers), and adding a machine or a bearing kind does not shift the streams of
+the others. The vectorised engine reads the same tables, so both engines draw
+the same lives. Generators are created on first use.
 
 The keys are derived with ``SeedSequence(entropy, spawn_key=...)`` directly,
 so :func:`simulate` never calls ``spawn`` on the caller's seed sequence (which
@@ -31,8 +32,49 @@ from __future__ import annotations
 
 import numpy as np
 
-LIFE, PF, DETECTION, STOP = 0, 1, 2, 3
-_POSITION, _BEARING = 0, 2
+LIFE, PF, DETECTION, STOP = 0, 1, 2, 5
+_POSITION, _BEARING, _TABLE = 0, 2, 3
+#: Rows drawn at a time by a :class:`UniformTable`.
+BLOCK_ROWS = 4
+
+
+class UniformTable:
+    """Uniforms U[k, unit, position] of one machine type, grown in blocks of rows.
+
+    Row k serves the k-th renewal of every position. The rows are the
+    generator's stream in C order, so U[k, u, p] does not depend on how many
+    rows were ever drawn.
+    """
+
+    __slots__ = ("rng", "shape", "data", "_rows")
+
+    def __init__(self, rng: np.random.Generator, units: int, positions: int) -> None:
+        self.rng = rng
+        self.shape = (units, positions)
+        self.data = rng.random((BLOCK_ROWS, units, positions))
+        self._rows = BLOCK_ROWS
+
+    def _grow(self, rows: int) -> None:
+        while rows > self._rows:
+            more = self.rng.random((BLOCK_ROWS, *self.shape))
+            self.data = np.concatenate([self.data, more])
+            self._rows += BLOCK_ROWS
+
+    def get(self, k: int, unit: int, position: int) -> float:
+        """U[k, unit, position] as a float."""
+        if k >= self._rows:
+            self._grow(k + 1)
+        return float(self.data[k, unit, position])
+
+    def take(self, k: np.ndarray, unit: np.ndarray, position: np.ndarray) -> np.ndarray:
+        """U[k, unit, position] for arrays of indexes."""
+        self._grow(int(k.max(initial=0)) + 1)
+        return self.data[k, unit, position]
+
+    def row(self, k: int) -> np.ndarray:
+        """Row k, shape (units, positions)."""
+        self._grow(k + 1)
+        return self.data[k]
 
 
 def as_seed_sequence(seed: np.random.SeedSequence | int) -> np.random.SeedSequence:
@@ -53,10 +95,25 @@ class Streams:
         The replication's seed sequence.
     """
 
-    __slots__ = ("_root",)
+    __slots__ = ("_root", "_tables")
 
     def __init__(self, root: np.random.SeedSequence) -> None:
         self._root = root
+        self._tables: dict[tuple[int, int], UniformTable] = {}
+
+    def generator(self, key: tuple[int, ...]) -> np.random.Generator:
+        """The generator keyed ``key`` below the replication's seed."""
+        return self._generator(key)
+
+    def table(self, machine: int, units: int, positions: int, purpose: int) -> UniformTable:
+        """The uniform table of one machine type for ``purpose`` (LIFE, PF or STOP)."""
+        key = (machine, purpose)
+        t = self._tables.get(key)
+        if t is None:
+            t = self._tables[key] = UniformTable(
+                self._generator((_TABLE, machine, purpose)), units, positions
+            )
+        return t
 
     def _generator(self, key: tuple[int, ...]) -> np.random.Generator:
         root = self._root

@@ -50,7 +50,7 @@ from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.records import Recorder
 from fleetsim.sim.stores import Claim, SpareStore, UnlimitedSupply
-from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
+from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams, UniformTable
 
 INF = math.inf
 _FAILURE, _PLANNED = 0, 1
@@ -82,7 +82,7 @@ class PositionState:
 
     __slots__ = (
         "id", "bearing_id", "policy", "life", "store", "interval_h", "is_age", "is_condition",
-        "life_rng", "_pf_rng", "_det_rng", "_repair_rng", "_key", "_streams",
+        "life_table", "pf_table", "stop_table", "unit_no", "slot", "_det_rng", "_key", "_streams",
         "k", "stop_u", "installed_op", "defect_op", "fail_op", "due_op", "defect_seen", "detected",
         "failed", "pending", "start_at", "claim",
         "failures", "planned", "opportunistic", "defects", "detections",
@@ -94,6 +94,7 @@ class PositionState:
         store: SpareStore | UnlimitedSupply,
         streams: Streams,
         key: tuple[int, int, int],
+        tables: tuple[UniformTable, UniformTable, UniformTable],
     ) -> None:
         self.id = spec.id
         self.bearing_id = spec.bearing_id
@@ -105,10 +106,9 @@ class PositionState:
         self.is_condition = spec.policy.kind == "condition"
         self._streams = streams
         self._key = key
-        self.life_rng = streams.position(*key, LIFE)
-        self._pf_rng: np.random.Generator | None = None
+        machine, self.unit_no, self.slot = key
+        self.life_table, self.pf_table, self.stop_table = tables
         self._det_rng: np.random.Generator | None = None
-        self._repair_rng: np.random.Generator | None = None
         self.k = 0
         self.stop_u = 0.5
         self.installed_op = self.defect_op = self.fail_op = self.due_op = 0.0
@@ -116,20 +116,6 @@ class PositionState:
         self.start_at = INF
         self.claim: Claim | None = None
         self.failures = self.planned = self.opportunistic = self.defects = self.detections = 0
-
-    @property
-    def pf_rng(self) -> np.random.Generator:
-        """Generator of this position's P-F intervals (created on first use)."""
-        if self._pf_rng is None:
-            self._pf_rng = self._streams.position(*self._key, PF)
-        return self._pf_rng
-
-    @property
-    def repair_rng(self) -> np.random.Generator:
-        """Generator of the stop-duration quantiles of this position's lives."""
-        if self._repair_rng is None:
-            self._repair_rng = self._streams.position(*self._key, STOP)
-        return self._repair_rng
 
     @property
     def det_rng(self) -> np.random.Generator:
@@ -175,8 +161,14 @@ class UnitRunner:
         self.index = unit_index
         self.share = machine.operating_share
         self.start_age_h = machine.starting_age_h
+        n_pos = len(machine.positions)
+        tables = tuple(
+            ctx.streams.table(machine_index, machine.count, n_pos, purpose)
+            for purpose in (LIFE, PF, STOP)
+        )
         self.positions = [
-            PositionState(p, ctx.stores[p.bearing_id], ctx.streams, (machine_index, unit_number, j))
+            PositionState(p, ctx.stores[p.bearing_id], ctx.streams,
+                          (machine_index, unit_number, j), tables)  # type: ignore[arg-type]
             for j, p in enumerate(machine.positions)
         ]
         self.clock_op = 0.0
@@ -262,14 +254,12 @@ class UnitRunner:
         sampler = self.ctx.life_sampler
         if sampler is not None:
             life = float(sampler(self.id, p.id, k))
-        elif k == 0:
-            life = float(p.life.residual_sample(p.life_rng, age0))
         else:
-            life = float(p.life.sample(p.life_rng))
+            life = p.life.life_from_uniform(p.life_table.get(k, p.unit_no, p.slot), age0)
         pf = p.policy.pf_interval
-        pf_h = pf.sample(p.pf_rng) if pf is not None else 0.0
+        pf_h = pf.quantile(p.pf_table.get(k, p.unit_no, p.slot)) if pf is not None else 0.0
         if self.random_stops:
-            p.stop_u = float(p.repair_rng.random())
+            p.stop_u = p.stop_table.get(k, p.unit_no, p.slot)
         p.k = k + 1
         p.installed_op = clock - age0
         p.defect_op = clock + life

@@ -35,31 +35,10 @@ from dataclasses import dataclass
 import numpy as np
 
 from fleetsim.scenario.model import Duration, Machine, Scenario
+from fleetsim.sim.streams import UniformTable
 
-_LIFE, _PF, _DET, _REPAIR_F, _REPAIR_P = range(5)
+_LIFE, _PF, _DET, _REPAIR_F, _REPAIR_P = 0, 1, 2, 3, 4
 _EPS = 1e-9
-_BLOCK_ROWS = 4
-
-
-class _Matrix:
-    """Uniform random numbers U[k, unit, position], grown in blocks of rows.
-
-    Row k is the k-th renewal of each position; rows are drawn from one
-    generator in a fixed block size, so U[k, u, p] does not depend on how many
-    rows were needed (common random numbers across policies).
-    """
-
-    def __init__(self, rng: np.random.Generator, units: int, positions: int) -> None:
-        self.rng = rng
-        self.shape = (units, positions)
-        self.data = rng.random((_BLOCK_ROWS, units, positions))
-
-    def take(self, k: np.ndarray, u: np.ndarray, p: np.ndarray) -> np.ndarray:
-        need = int(k.max(initial=0)) + 1
-        while need > self.data.shape[0]:
-            more = self.rng.random((_BLOCK_ROWS, *self.shape))
-            self.data = np.concatenate([self.data, more])
-        return self.data[k, u, p]
 
 
 def _duration_quantile(d: Duration | None, u: np.ndarray) -> np.ndarray:
@@ -132,8 +111,8 @@ class _Lanes:
         ]
         self.opp_age = np.array(opp, dtype=float)
         self.crews = scenario.crews
-        self.U_life = _Matrix(rngs[_LIFE], U, P)
-        self.U_pf = _Matrix(rngs[_PF], U, P)
+        self.U_life = UniformTable(rngs[_LIFE], U, P)
+        self.U_pf = UniformTable(rngs[_PF], U, P)
         self.rng_det = rngs[_DET]
         self.rng_fail = rngs[_REPAIR_F]
         self.rng_plan = rngs[_REPAIR_P]
@@ -300,7 +279,7 @@ def _renewal_lanes(machine: Machine, scenario: Scenario, rngs: list[np.random.Ge
     stops_vary = not (crews.unplanned_repair.kind == "fixed" and crews.planned_repair.kind == "fixed")
     d_fail, d_plan = crews.unplanned_repair.value_h, crews.planned_repair.value_h
     timed_stops = stops_vary or d_fail > 0 or d_plan > 0
-    lifeM, rf, rp = _Matrix(rngs[_LIFE], U, P), rngs[_REPAIR_F], rngs[_REPAIR_P]
+    lifeM, rf, rp = UniformTable(rngs[_LIFE], U, P), rngs[_REPAIR_F], rngs[_REPAIR_P]
     tally = _Tally(failures=np.zeros(U, dtype=np.int64), planned=np.zeros(U, dtype=np.int64),
                    issued=np.zeros(P, dtype=np.int64), intervals=[])
     # working arrays over the positions still inside the horizon (flat index u·P + p)
@@ -314,9 +293,7 @@ def _renewal_lanes(machine: Machine, scenario: Scenario, rngs: list[np.random.Ge
     first_stop = math.inf
     k = 0
     while idx.size:
-        while k >= lifeM.data.shape[0]:
-            lifeM.data = np.concatenate([lifeM.data, lifeM.rng.random((_BLOCK_ROWS, U, P))])
-        row = lifeM.data[k].reshape(-1)
+        row = lifeM.row(k).reshape(-1)
         x = row if idx.size == n else row[idx]
         e = -np.log1p(-x)  # standard exponential
         if k == 0 and a0 > 0:
