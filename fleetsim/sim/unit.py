@@ -190,6 +190,13 @@ class UnitRunner:
         self.random_stops = spec.planned_repair.kind != "fixed" or spec.unplanned_repair.kind != "fixed"
         for p in self.positions:
             self._install(p)
+        # Nothing outside the unit can wake it when every position is run-to-failure or
+        # age-replaced, spares are unlimited and crews too: it may then sleep on its own
+        # timer instead of a wake event poked by the timer (one event fewer per stop).
+        self.quiet = ctx.crews.resource is None and all(
+            p.policy.kind in ("run-to-failure", "age") and not p.store.limited
+            for p in self.positions
+        )
 
     # --- clock, phases, timer ---------------------------------------------------------
     def _sync(self) -> None:
@@ -385,6 +392,14 @@ class UnitRunner:
                 at, op_target = now + (nxt - clock) / self.share, nxt
             if self.pending and now < self.start_at < at:
                 at, op_target = self.start_at, None
+            if self.quiet and at < INF:
+                self._timer = None
+                yield env.timeout(at - now)
+                if op_target is not None and self.running:
+                    self._sync()
+                    if self.clock_op < op_target:  # rounding of (target − clock) / share
+                        self.clock_op = op_target
+                continue
             self.wake = env.event()
             if at < INF:
                 self._arm(at, op_target)
