@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from collections.abc import Callable, Sequence
 from typing import Any
 
@@ -13,6 +14,12 @@ from fleetsim.errors import InputError
 from fleetsim.units import Kind, parse_quantity
 
 EXIT_INPUT = 2
+
+
+def slug(name: str) -> str:
+    """A file-system-friendly name: letters, digits, dots, dashes."""
+    s = re.sub(r"[^A-Za-z0-9._-]+", "-", name).strip("-._").lower()
+    return s or "study"
 
 
 def fail(message: str, code: int = EXIT_INPUT) -> int:

@@ -189,30 +189,65 @@ def life(
 
 
 @click.command()
-@click.option("--type", "bearing_type", type=TYPE_CHOICE, required=True, help="ball or roller.")
-@click.option("--load", required=True, help="Equivalent dynamic load P, e.g. '4 kN'.")
-@click.option("--speed", required=True, help="Speed, e.g. '1480 rpm'.")
-@click.option("--life", "life_", required=True, help="Design life, e.g. '25000 h'.")
-@click.option("--reliability", type=float, required=True, help="Reliability at the design life.")
+@click.option("--type", "bearing_type", type=TYPE_CHOICE, default=None, help="ball or roller.")
+@click.option("--load", default=None, help="Equivalent dynamic load P, e.g. '4 kN'.")
+@click.option("--speed", default=None, help="Speed, e.g. '1480 rpm'.")
+@click.option("--life", "life_", required=True,
+              help="Design life, e.g. '25000 h'; with --scenario, the calendar period of the target.")
+@click.option("--reliability", type=float, required=True,
+              help="Reliability at the design life; with --scenario, the machine-level target.")
 @click.option("--model", type=MODEL_CHOICE, default="iso281", show_default=True,
               help="Life distribution in units of L10.")
 @click.option("--application-factor", type=float, default=1.0, show_default=True,
               help="Load (application) factor a_f.")
 @click.option("--catalog", type=click.Path(dir_okay=False), default=None,
               help="Bearing catalogue CSV to choose from.")
+@click.option("--scenario", type=click.Path(dir_okay=False), default=None,
+              help="Size every position of this scenario for a machine-level target, then "
+                   "simulate today's bearings and the new selection side by side.")
+@click.option("--machine", "machines", multiple=True, help="With --scenario: only these machines.")
+@click.option("--replications", "-n", type=int, default=None,
+              help="With --scenario: replications (default: the scenario's).")
+@click.option("--out", type=click.Path(file_okay=False), default=None,
+              help="With --scenario: report directory (default: reports/<study>-retrofit).")
+@click.option("--quiet", "-q", is_flag=True, help="No progress notes on standard error.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
 def size(
-    bearing_type: str,
-    load: str,
-    speed: str,
+    bearing_type: str | None,
+    load: str | None,
+    speed: str | None,
     life_: str,
     reliability: float,
     model: str,
     application_factor: float,
     catalog: str | None,
+    scenario: str | None,
+    machines: tuple[str, ...],
+    replications: int | None,
+    out: str | None,
+    quiet: bool,
     as_json: bool,
 ) -> None:
-    """Dynamic rating a position needs for a life at a reliability."""
+    """Dynamic rating a position needs for a life at a reliability.
+
+    With --scenario, size every position of a fleet for a machine-level
+    target and simulate today's bearings against the new selection.
+    """
+    if scenario is not None:
+        from fleetsim.cli.retrofit import size_scenario
+
+        for opt, value in (("--type", bearing_type), ("--load", load), ("--speed", speed)):
+            if value is not None:
+                raise InputError(opt, "not used with --scenario (loads and speeds come from the file)")
+        if catalog is None:
+            raise InputError("--catalog", "--scenario needs a bearing catalogue to choose from")
+        size_scenario(scenario, catalog, life_, reliability, machines, replications, out, quiet,
+                      as_json)
+        return
+    for opt, value in (("--type", bearing_type), ("--load", load), ("--speed", speed)):
+        if value is None:
+            raise InputError(opt, "required (or give --scenario)")
+    assert bearing_type is not None
     p = positive(quantity(load, "force", "--load"), "--load", "load")
     n = positive(quantity(speed, "speed", "--speed"), "--speed", "speed")
     life_h = positive(quantity(life_, "time", "--life"), "--life", "life")

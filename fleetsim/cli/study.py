@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import os
-import re
 import sys
 from collections.abc import Callable
 from pathlib import Path
@@ -12,7 +11,7 @@ from typing import Any
 import click
 
 from fleetsim import SAFETY_CAUTION
-from fleetsim.cli.common import echo_json
+from fleetsim.cli.common import echo_json, slug
 from fleetsim.errors import InputError
 
 ENGINE_CHOICE = click.Choice(["auto", "des", "vector"])
@@ -21,11 +20,6 @@ OBJECTIVES = {
     "availability": ("availability", max),
     "reliability": ("fleet_down", min),
 }
-
-
-def _slug(name: str) -> str:
-    s = re.sub(r"[^A-Za-z0-9._-]+", "-", name).strip("-._").lower()
-    return s or "study"
 
 
 class _Progress:
@@ -175,7 +169,7 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
     base = variants[0].scenario
     chosen, why = choose_engine(base, engine)
     _note(quiet, f"{base.study.name}: {len(variants)} variant(s), engine {chosen} ({why})")
-    out_dir = Path(out) if out else Path("reports") / _slug(base.study.name)
+    out_dir = Path(out) if out else Path("reports") / slug(base.study.name)
     results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
                                 workers=_workers(workers), cluster=cluster, quiet=quiet,
                                 resume=resume, out_dir=out_dir)
@@ -223,7 +217,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
         raise InputError("--vary", f"the grid has {len(variants)} variants; expected at most 200")
     base = variants[0].scenario
     _note(quiet, f"{base.study.name}: sweeping {len(variants)} variant(s)")
-    out_dir = Path(out) if out else Path("reports") / (_slug(base.study.name) + "-sweep")
+    out_dir = Path(out) if out else Path("reports") / (slug(base.study.name) + "-sweep")
     results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
                                 workers=_workers(workers), cluster=cluster, quiet=quiet,
                                 resume=resume, out_dir=out_dir)

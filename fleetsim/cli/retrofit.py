@@ -1,0 +1,95 @@
+"""``fleetsim size --scenario``: a reliability target → ratings → a new selection, simulated."""
+
+from __future__ import annotations
+
+import hashlib
+from pathlib import Path
+from typing import Any
+
+import click
+
+from fleetsim import SAFETY_CAUTION
+from fleetsim.cli.common import echo_json, fmt, quantity, slug
+from fleetsim.errors import InputError
+
+
+def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
+                  machines: tuple[str, ...], replications: int | None, out: str | None,
+                  quiet: bool, as_json: bool) -> None:
+    """Plan the retrofit, simulate both selections, print and write the report."""
+    from fleetsim.life import read_catalogue
+    from fleetsim.report import summary_table, write_report
+    from fleetsim.scenario import build_scenario
+    from fleetsim.study import compare, paired_table
+    from fleetsim.study.retrofit import machine_reliability, plan_retrofit
+    from fleetsim.study.variants import read_document
+
+    period_h = quantity(life, "time", "--life")
+    assert period_h is not None
+    if replications is not None and replications < 1:
+        raise InputError("--replications", f"expected at least 1, got {replications}")
+    try:
+        entries = read_catalogue(catalog)
+    except InputError as exc:
+        raise InputError(f"--catalog {exc.where}", exc.expected) from None
+    document, text = read_document(scenario_path)
+    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+    today = build_scenario({k: v for k, v in document.items() if k != "variant"},
+                           source=scenario_path, digest=digest)
+    plan = plan_retrofit(today, document, entries, target, period_h, list(machines) or None)
+    doc = {k: v for k, v in plan.document.items() if k != "variant"}
+    new = build_scenario(doc, source=f"{scenario_path} [new selection]", digest=digest)
+    rel_now = machine_reliability(today, period_h)
+    rel_new = machine_reliability(new, period_h)
+    if not quiet:
+        click.echo(f"Simulating today's bearings and the new selection "
+                   f"({today.study.replications if replications is None else replications} "
+                   f"replications each)...", err=True)
+    results = compare({"Today's bearings": today, "New selection": new},
+                      replications=replications, keep_events=False)
+    out_dir = Path(out) if out else Path("reports") / (slug(today.study.name) + "-retrofit")
+    years = period_h / 8766.0
+    rows = [
+        {"machine": c.machine, "position": c.position, "current_bearing": c.current_bearing,
+         "required_reliability": c.required_reliability, "required_rating_N": c.required_rating_N,
+         "selected": c.selected, "selected_rating_N": c.selected_rating_N, "note": c.note}
+        for c in plan.choices
+    ]
+    machines_out = {
+        m: {"today": rel_now[m], "new": rel_new[m], "target": target,
+            "meets_target": rel_new[m] >= target * (1 - 1e-12)}
+        for m in rel_now if not machines or m in machines
+    }
+    diffs = paired_table(results)
+    paths = write_report(results, out_dir, title=f"{today.study.name}: retrofit for "
+                         f"{target:.4g} over {years:.3g} years",
+                         extra={"target": target, "period_h": period_h, "positions": rows,
+                                "machine_reliability": machines_out})
+    if as_json:
+        obj: dict[str, Any] = {
+            "target": target, "period_h": period_h, "positions": rows,
+            "machine_reliability": machines_out,
+            "cost_per_year": {v: {"mean": r["mean"], "ci_low": r["ci_low"], "ci_high": r["ci_high"],
+                                  "diff_vs_today": r["diff_vs_first"], "diff_low": r["diff_low"],
+                                  "diff_high": r["diff_high"]}
+                              for v, r in diffs.iterrows()},
+            "report": str(paths.html), "caution": SAFETY_CAUTION,
+        }
+        echo_json(obj)
+        return
+    click.echo(f"Target: each machine {target:.4g} reliable over {years:.3g} years "
+               f"(positions in series, equal allocation)\n")
+    w = max(len(f"{r['machine']}/{r['position']}") for r in rows)
+    click.echo(f"{'position':<{w}}  {'today':<10} {'needs C':>9}  {'selected':<10} note")
+    for r in rows:
+        need = fmt(None if r["required_rating_N"] is None else r["required_rating_N"] / 1e3, ".4g", "kN")
+        click.echo(f"{r['machine'] + '/' + r['position']:<{w}}  {r['current_bearing']:<10} "
+                   f"{need:>9}  {r['selected'] or '—':<10} {r['note']}")
+    click.echo("")
+    for m, v in machines_out.items():
+        click.echo(f"{m}: reliability over the period {v['today']:.4f} today → {v['new']:.4f} "
+                   f"with the new selection ({'meets' if v['meets_target'] else 'misses'} "
+                   f"{target:.4g})")
+    click.echo("")
+    click.echo(summary_table(results).rstrip())
+    click.echo(f"\nReport: {paths.html}\n\n{SAFETY_CAUTION}")
