@@ -174,21 +174,54 @@ def throughput(sizes: list[int], des_max: int) -> dict:
     return out
 
 
-def worker_scaling(replications: int) -> dict:
+def _spin(n: int) -> int:
+    x = 0
+    for i in range(n):
+        x += i
+    return x
+
+
+def machine_scaling(repeats: int = 3, n: int = 10_000_000) -> float:
+    """What two processes give on this machine for plain Python work (the ceiling)."""
+    from concurrent.futures import ProcessPoolExecutor
+
+    ratios = []
+    with ProcessPoolExecutor(max_workers=2) as pool:
+        list(pool.map(_spin, [10, 10]))  # start both workers
+        for _ in range(repeats):
+            start = time.perf_counter()
+            _spin(n)
+            _spin(n)
+            one = time.perf_counter() - start
+            start = time.perf_counter()
+            list(pool.map(_spin, [n, n]))
+            two = time.perf_counter() - start
+            ratios.append(one / two)
+    ceiling = float(np.median(ratios))
+    print(f"\nMachine: two processes of plain Python give {ceiling:.2f}× one (median of {repeats}):"
+          " the ceiling for any worker speed-up here")
+    return ceiling
+
+
+def worker_scaling(replications: int, repeats: int = 3) -> dict:
+    """One against two workers, alternated ``repeats`` times; medians (this machine's
+    speed drifts by ±20 % over minutes, so single timings are not comparable)."""
     from fleetsim.study.engines import replicate
     from fleetsim.study.runner import run_replications
 
     sc = fleet(200, Policy("age", 30_000.0), repair_h=8.0)
-    times = {}
-    for w in (1, 2):
-        start = time.perf_counter()
-        run_replications(replicate, (sc, "des", HORIZON_H), replications=replications, seed=1,
-                         workers=w)
-        times[w] = time.perf_counter() - start
-    speedup = times[1] / times[2]
-    print(f"\nWorkers: {replications} DES replications of 200 positions: 1 worker {times[1]:.2f} s,"
-          f" 2 workers {times[2]:.2f} s, speed-up {speedup:.2f}×")
-    return {"one_s": times[1], "two_s": times[2], "speedup": speedup}
+    times: dict[int, list[float]] = {1: [], 2: []}
+    for _ in range(repeats):
+        for w in (1, 2):
+            start = time.perf_counter()
+            run_replications(replicate, (sc, "des", HORIZON_H), replications=replications,
+                             seed=1, workers=w)
+            times[w].append(time.perf_counter() - start)
+    one, two = float(np.median(times[1])), float(np.median(times[2]))
+    speedup = one / two
+    print(f"\nWorkers: {replications} DES replications of 200 positions (median of {repeats}): "
+          f"1 worker {one:.2f} s, 2 workers {two:.2f} s, speed-up {speedup:.2f}×")
+    return {"one_s": one, "two_s": two, "speedup": speedup, "all": times}
 
 
 def _memory_child(replications: int, positions: int) -> None:
@@ -244,11 +277,13 @@ def main() -> None:
           f"simpy {simpy.__version__}")
     if args.quick:
         figures = {"throughput": throughput([100, 1_000], des_max=1_000)}
+        figures["machine_ceiling"] = machine_scaling()
         figures["workers"] = worker_scaling(20)
         figures["memory"] = peak_memory(20, 1_000)
         figures["pump_demo"] = pump_demo(20)
     else:
         figures = {"throughput": throughput([100, 1_000, 10_000], des_max=10_000)}
+        figures["machine_ceiling"] = machine_scaling()
         figures["workers"] = worker_scaling(200)
         figures["memory"] = peak_memory(1_000, 10_000)
         figures["pump_demo"] = pump_demo(200)

@@ -88,3 +88,34 @@ def test_dask_local_cluster_gives_the_same_result() -> None:
     dask = run_replications(normal_task, (1.0, 2.0), replications=24, seed=11, workers=2,
                             cluster="local", chunk_size=5)
     assert one.equals(dask)
+
+
+def test_engine_choice_says_why() -> None:
+    from fleetsim.life import BearingType, LifeDistribution
+    from fleetsim.scenario.model import (
+        Bearing,
+        Costs,
+        Crews,
+        Machine,
+        Policy,
+        Position,
+        Scenario,
+        Stock,
+        Study,
+    )
+    from fleetsim.scenario.model import Duration as D
+    from fleetsim.study import choose_engine
+
+    life = LifeDistribution(1.5, 1e4)
+
+    def sc(units: int, **kw):  # type: ignore[no-untyped-def]
+        pos = (Position("a", "B", life, Policy()), Position("b", "B", life, Policy()))
+        return Scenario(Study("s", 1e4, 1, 1), Costs(), {"B": Bearing("B", BearingType.BALL, 1e4)},
+                        (Machine("m", units, 1.0, 0.0, pos),), **kw)
+
+    assert choose_engine(sc(200))[0] == "vector"
+    assert choose_engine(sc(10))[0] == "des"
+    assert "finite stores" in choose_engine(sc(200, stores={"B": Stock(1, 0, 1, D.fixed(1.0))}))[1]
+    assert "finite crews" in choose_engine(sc(200, crews=Crews(1)))[1]
+    with pytest.raises(InputError, match="--engine des"):
+        choose_engine(sc(200, crews=Crews(1)), "vector")

@@ -18,6 +18,8 @@ from fleetsim.errors import InputError
 from fleetsim.scenario.model import Scenario
 
 EngineName = Literal["des", "vector"]
+#: Below this many positions the discrete-event engine is about as fast (benchmarks/).
+VECTOR_MIN_POSITIONS = 200
 
 
 def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[EngineName, str]:
@@ -36,8 +38,11 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
     """
     independent = scenario.independent_positions
     if requested in (None, "auto"):
-        if independent:
+        if independent and scenario.position_count >= VECTOR_MIN_POSITIONS:
             return "vector", "no finite stores or crews: positions are independent, vectorised engine"
+        if independent:
+            return "des", (f"positions are independent but fewer than {VECTOR_MIN_POSITIONS}: "
+                           "the discrete-event engine is as fast here")
         why = "finite stores" if scenario.stores else "finite crews"
         return "des", f"{why} couple the positions: discrete-event engine"
     if requested == "vector":

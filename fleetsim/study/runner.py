@@ -41,6 +41,18 @@ def _run_chunk(task: ReplicationTask, payload: Any, seed: int, indexes: list[int
     return out
 
 
+_WORKER: dict[str, Any] = {}
+
+
+def _init_worker(task: ReplicationTask, payload: Any, seed: int) -> None:
+    """Process-pool initializer: receive the task and its payload once per worker."""
+    _WORKER.update(task=task, payload=payload, seed=seed)
+
+
+def _run_chunk_in_worker(indexes: list[int]) -> list[dict]:
+    return _run_chunk(_WORKER["task"], _WORKER["payload"], _WORKER["seed"], indexes)
+
+
 def _chunks(indexes: list[int], size: int) -> Iterable[list[int]]:
     for k in range(0, len(indexes), size):
         yield indexes[k : k + size]
@@ -155,10 +167,11 @@ def run_replications(
                 record(_run_chunk(task, payload, seed, chunk))
         else:
             size = chunk_size or max(1, math.ceil(len(todo) / (workers * 8)))
-            with ProcessPoolExecutor(max_workers=workers) as pool:
+            with ProcessPoolExecutor(
+                max_workers=workers, initializer=_init_worker, initargs=(task, payload, seed)
+            ) as pool:
                 pending: set[Future] = {
-                    pool.submit(_run_chunk, task, payload, seed, chunk)
-                    for chunk in _chunks(todo, size)
+                    pool.submit(_run_chunk_in_worker, chunk) for chunk in _chunks(todo, size)
                 }
                 while pending:
                     finished, pending = wait(pending, return_when=FIRST_COMPLETED)
