@@ -67,7 +67,9 @@ def plot_life_distributions(
 
     Positions with the same life distribution share one curve. Each curve
     carries a dot at its L10 (life at 90 % reliability) and a diamond at its
-    life at ``reliability``; dashed lines mark both reliabilities.
+    life at ``reliability``; dashed lines mark both reliabilities. A position
+    with a field factor also shows its catalogue life as a dashed curve of the
+    same colour.
 
     Parameters
     ----------
@@ -88,11 +90,11 @@ def plot_life_distributions(
         raise InputError(
             "reliability", f"expected a value strictly between 0 and 1, got {reliability}"
         )
-    curves: dict[tuple[float, float, float], tuple[LifeDistribution, list[str]]] = {}
+    curves: dict[tuple[float, float, float], tuple[LifeDistribution, list[str], float]] = {}
     for machine in scenario.machines:
         for pos in machine.positions:
             key = (pos.life.shape, pos.life.scale_h, pos.life.location_h)
-            entry = curves.setdefault(key, (pos.life, []))
+            entry = curves.setdefault(key, (pos.life, [], pos.field_factor))
             entry[1].append(f"{machine.id} / {pos.id} ({pos.bearing_id})")
     items = list(curves.values())
     shown, hidden = items[:max_curves], items[max_curves:]
@@ -102,21 +104,33 @@ def plot_life_distributions(
         if not shown:
             ax.text(0.5, 0.5, "no bearing positions", ha="center", transform=ax.transAxes)
             return ax
-        t_max = max(float(life.life_at_reliability(0.2)) for life, _ in shown)
+        t_max = max(
+            float(life.life_at_reliability(0.2)) / min(factor, 1.0) for life, _, factor in shown
+        )
         t = np.linspace(0.0, t_max, 400)
-        for i, (life, names) in enumerate(shown):
+        any_field = False
+        for i, (life, names, factor) in enumerate(shown):
             colour = series_colour(i)
             l10 = float(life.life_at_reliability(0.9))
             lr = float(life.life_at_reliability(reliability))
             more = f" and {len(names) - 1} more" if len(names) > 1 else ""
             label = f"{names[0]}{more}: L10 = {fmt_number(l10)} h"
             ax.plot(t, life.reliability(t), color=colour, label=mpl_text(label))
+            if factor != 1.0:
+                # the catalogue life this position would have without its field factor
+                any_field = True
+                catalogue = life.scaled(1.0 / factor)
+                ax.plot(t, catalogue.reliability(t), color=colour, linestyle="--", linewidth=1.0,
+                        alpha=0.8, gid="catalogue")
             (dot,) = ax.plot([l10], [0.9], "o", color=colour, markersize=6)
             dot.set_gid("L10")
             (diamond,) = ax.plot([lr], [reliability], "D", color=colour, markersize=5)
             diamond.set_gid(name_r)
         ax.axhline(0.9, color=OTHER, linestyle="--", linewidth=0.9)
         ax.axhline(reliability, color=OTHER, linestyle=":", linewidth=0.9)
+        if any_field:
+            ax.plot([], [], "--", color=COLOURS["ink"], linewidth=1.0,
+                    label="catalogue life (before the field factor)")
         ax.plot([], [], "o", color=COLOURS["ink"], label="L10: life at R = 90 %")
         ax.plot(
             [],
