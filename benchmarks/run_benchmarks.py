@@ -153,18 +153,26 @@ def throughput(sizes: list[int], des_max: int) -> dict:
                 d = py / timed(lambda i, sc=sc: des_run(sc, i))
                 out["engines"][f"des/{name}/{n}"] = d
                 print(f"{'des':<8} {name:<15} {n:>9} {d:>12,.0f}")
-    print("\nRun-to-failure against the yardsticks (zero repair time, same fleet)")
+    print("\nRun-to-failure against the yardsticks (zero repair time, same fleet; medians of 3)")
     print(f"{'positions':>9} {'bare simpy':>12} {'des':>12} {'des/simpy':>10} "
           f"{'bare numpy':>12} {'vector':>12} {'vec/numpy':>10} {'vec/des':>8}")
     for n in sizes:
         sc = fleet(n, Policy())
         py = position_years(sc)
-        vec = py / timed(lambda i, sc=sc: vector_run(sc, i))
-        npy = py / timed(lambda i, n=n: bare_numpy(n, i))
+        # Alternate each engine with its yardstick three times and take medians: the
+        # speed of this machine drifts by ±20 % over minutes.
+        runs: dict[str, list[float]] = {"vector": [], "bare_numpy": [], "des": [], "bare_simpy": []}
+        for _ in range(3):
+            runs["vector"].append(py / timed(lambda i, sc=sc: vector_run(sc, i)))
+            runs["bare_numpy"].append(py / timed(lambda i, n=n: bare_numpy(n, i)))
+            if n <= des_max:
+                runs["bare_simpy"].append(py / timed(lambda i, n=n: bare_simpy(n, i)))
+                runs["des"].append(py / timed(lambda i, sc=sc: des_run(sc, i)))
+        med = {k: float(np.median(v)) for k, v in runs.items() if v}
+        vec, npy = med["vector"], med["bare_numpy"]
         row = {"bare_numpy": npy, "vector": vec, "vector_over_numpy": vec / npy}
         if n <= des_max:
-            sp = py / timed(lambda i, n=n: bare_simpy(n, i))
-            des = py / timed(lambda i, sc=sc: des_run(sc, i))
+            sp, des = med["bare_simpy"], med["des"]
             row.update(bare_simpy=sp, des=des, des_over_simpy=des / sp, vector_over_des=vec / des)
         out["yardsticks"][n] = row
         print(f"{n:>9} {_cell(row, 'bare_simpy')} {_cell(row, 'des')} "

@@ -160,7 +160,7 @@ class UnitRunner:
         self.id = unit_id
         self.index = unit_index
         self.share = machine.operating_share
-        self.start_age_h = machine.starting_age_h
+        self.start_ages_h = [machine.age_h(unit_number, j) for j in range(len(machine.positions))]
         n_pos = len(machine.positions)
         tables = tuple(
             ctx.streams.table(machine_index, machine.count, n_pos, purpose)
@@ -193,6 +193,7 @@ class UnitRunner:
         # Nothing outside the unit can wake it when every position is run-to-failure or
         # age-replaced, spares are unlimited and crews too: it may then sleep on its own
         # timer instead of a wake event poked by the timer (one event fewer per stop).
+        self.opportunistic = any(p.policy.opportunistic_share is not None for p in self.positions)
         self.quiet = ctx.crews.resource is None and all(
             p.policy.kind in ("run-to-failure", "age") and not p.store.limited
             for p in self.positions
@@ -237,27 +238,36 @@ class UnitRunner:
         self._poke()
 
     def _go_down(self, phase: int) -> None:
-        self._sync()
+        now = self.env.now
+        # _sync and _phase, inlined: this runs at every stop
+        if self.running:
+            self.clock_op += self.share * (now - self.t_sync)
+        self.t_sync = now
         self.running = False
         self._timer = None
-        self._phase(phase)
+        self.phase_h[self.phase] += now - self.phase_t
+        self.phase = phase
+        self.phase_t = now
         self.stops += 1
-        self.ctx.groups.unit_down(self.index, self.env.now)
+        self.ctx.groups.unit_down(self.index, now)
 
     def _go_up(self) -> None:
-        self._sync()
+        now = self.env.now
+        self.t_sync = now  # not running while down: no operating hours to add
         self.running = True
-        self._phase(RUNNING)
-        self.ctx.groups.unit_up(self.index, self.env.now)
+        self.phase_h[self.phase] += now - self.phase_t
+        self.phase = RUNNING
+        self.phase_t = now
+        self.ctx.groups.unit_up(self.index, now)
         if self.log is not None:
-            self.log(self.env.now, self.id, "", "up")
+            self.log(now, self.id, "", "up")
 
     # --- lives ---------------------------------------------------------------------
     def _install(self, p: PositionState) -> None:
         """Fit a new bearing in ``p`` (or, for k = 0, take the one fitted at the start)."""
         clock = self.clock_op
         k = p.k
-        age0 = self.start_age_h if k == 0 else 0.0
+        age0 = self.start_ages_h[p.slot] if k == 0 else 0.0
         sampler = self.ctx.life_sampler
         if sampler is not None:
             life = float(sampler(self.id, p.id, k))
@@ -359,46 +369,55 @@ class UnitRunner:
 
     def _run(self) -> Generator[simpy.Event, Any, int]:
         env = self.env
+        positions = self.positions
+        share = self.share
         while True:
-            self._sync()
-            clock = self.clock_op
             now = env.now
+            if self.running:  # _sync, inlined: this loop is the engine's hot path
+                self.clock_op += share * (now - self.t_sync)
+            self.t_sync = now
+            clock = self.clock_op
             nxt = INF
-            failed: list[PositionState] = []
-            for p in self.positions:
+            failed: list[PositionState] | None = None
+            for p in positions:
                 if not p.defect_seen:
                     if p.defect_op <= clock:
                         self._defect(p)
                     elif p.defect_op < nxt:
                         nxt = p.defect_op
-                if p.fail_op <= clock:
-                    failed.append(p)
+                fail_op = p.fail_op
+                if fail_op <= clock:
+                    if failed is None:
+                        failed = [p]
+                    else:
+                        failed.append(p)
                     continue
-                if p.fail_op < nxt:
-                    nxt = p.fail_op
-                if p.due_op <= clock:
+                if fail_op < nxt:
+                    nxt = fail_op
+                due = p.due_op
+                if due <= clock:
                     p.due_op = INF
                     self._request(p, now)
-                elif p.due_op < nxt:
-                    nxt = p.due_op
-            if failed:
+                elif due < nxt:
+                    nxt = due
+            if failed is not None:
                 for p in failed:
                     self._fail(p)
                 return _FAILURE
             if self.pending and self._job_ready(now):
                 return _PLANNED
             at, op_target = INF, None
-            if nxt < INF and self.share > 0.0:
-                at, op_target = now + (nxt - clock) / self.share, nxt
+            if nxt < INF and share > 0.0:
+                at, op_target = now + (nxt - clock) / share, nxt
             if self.pending and now < self.start_at < at:
                 at, op_target = self.start_at, None
             if self.quiet and at < INF:
                 self._timer = None
                 yield env.timeout(at - now)
                 if op_target is not None and self.running:
-                    self._sync()
-                    if self.clock_op < op_target:  # rounding of (target − clock) / share
-                        self.clock_op = op_target
+                    # the unit ran throughout: land exactly on the target (no rounding)
+                    self.t_sync = env.now
+                    self.clock_op = max(op_target, self.clock_op + share * (at - now))
                 continue
             self.wake = env.event()
             if at < INF:
@@ -425,6 +444,20 @@ class UnitRunner:
     def _corrective_stop(self) -> Generator[simpy.Event, Any, None]:
         env = self.env
         crews = self.ctx.crews
+        if self.quiet and not self.crew_asked:
+            # Unlimited spares and crews: no waiting, straight to the repair.
+            self._go_down(REPAIR)
+            failed = [p for p in self.positions if p.failed]
+            if self.log is not None:
+                self.log(env.now, self.id, "", "work")
+            work = self._work_list(failed)
+            duration = self.ctx.crews_spec.unplanned_repair.quantile(failed[0].stop_u)
+            if duration > 0.0:
+                yield env.timeout(duration)
+            self._renew(work)
+            crews.busy_h += duration
+            self._go_up()
+            return
         self._go_down(WAITING_SPARE)
         if self.crew_asked:  # a planned job was queuing for a crew: give it up for now
             crews.withdraw(self.crew_req)
@@ -473,6 +506,8 @@ class UnitRunner:
     def _work_list(self, failed: list[PositionState]) -> list[tuple[PositionState, str]]:
         """Positions changed in this stop: failed, planned with spares, opportunistic."""
         work = [(p, "corrective") for p in failed]
+        if not self.pending and not self.opportunistic:
+            return work  # nothing else can join this stop
         clock = self.clock_op
         for p in self.positions:
             if p.failed:
@@ -504,8 +539,9 @@ class UnitRunner:
             if self.log is not None:
                 self.log(now, self.id, p.id, kind)
             self._install(p)
-        self.pending = [p for p in self.pending if p.pending]
-        self.start_at = min((p.start_at for p in self.pending), default=INF)
+        if self.pending:
+            self.pending = [p for p in self.pending if p.pending]
+            self.start_at = min((p.start_at for p in self.pending), default=INF)
 
     # --- end of the run ----------------------------------------------------------------
     def finish(self, horizon_h: float) -> tuple[dict[str, Any], list[dict[str, Any]]]:

@@ -118,7 +118,7 @@ class _Lanes:
         self.rng_plan = rngs[_REPAIR_P]
         # state
         self.t = np.zeros(U)
-        self.age = np.full((U, P), machine.starting_age_h, dtype=float)
+        self.age = machine.ages_h()  # operating age of every position at the start
         self.k = np.zeros((U, P), dtype=np.int64)
         self.defect_age = np.empty((U, P))
         self.fail_age = np.empty((U, P))
@@ -127,19 +127,23 @@ class _Lanes:
         self.next_block = np.where(np.isfinite(self.block_B), self.block_B, inf) * np.ones((U, 1))
         self.next_insp = np.full(U, self.insp_every)
         uu, pp = np.indices((U, P))
-        self._draw_life(uu.ravel(), pp.ravel(), residual_from=machine.starting_age_h)
+        self._draw_life(uu.ravel(), pp.ravel(), residual_from=self.age.ravel())
         self.tally = _Tally(failures=np.zeros(U, dtype=np.int64), planned=np.zeros(U, dtype=np.int64),
                             issued=np.zeros(P, dtype=np.int64), intervals=[])
 
     # --- random draws ----------------------------------------------------------------
-    def _draw_life(self, u: np.ndarray, p: np.ndarray, residual_from: float = 0.0) -> None:
-        """Defect and failure ages for positions (u, p) starting their k-th life."""
+    def _draw_life(self, u: np.ndarray, p: np.ndarray,
+                   residual_from: float | np.ndarray = 0.0) -> None:
+        """Defect and failure ages for positions (u, p) starting their k-th life.
+
+        ``residual_from``: operating age(s) the bearings have survived to (per (u, p) or one).
+        """
         if u.size == 0:
             return
         k = self.k[u, p]
         x = self.U_life.take(k, u, p)
         b, eta, x0 = self.shape[p], self.scale[p], self.loc[p]
-        z0 = (np.maximum(residual_from - x0, 0.0) / eta) ** b if residual_from > 0 else 0.0
+        z0 = (np.maximum(residual_from - x0, 0.0) / eta) ** b if np.any(residual_from) else 0.0
         z = (z0 - np.log1p(-x)) ** (1.0 / b)
         life = x0 + eta * z  # operating age at the defect
         self.defect_age[u, p] = life
@@ -289,14 +293,14 @@ def _renewal_lanes(machine: Machine, scenario: Scenario, rngs: list[np.random.Ge
     t = np.zeros(n)
     fails = np.zeros(n, dtype=np.int64)
     plans = np.zeros(n, dtype=np.int64)
-    a0 = machine.starting_age_h
+    a0 = machine.ages_h().reshape(-1)  # flat index u·P + p, like idx
     first_stop = math.inf
     k = 0
     while idx.size:
         row = lifeM.row(k).reshape(-1)
         x = row if idx.size == n else row[idx]
         e = -np.log1p(-x)  # standard exponential
-        if k == 0 and a0 > 0:
+        if k == 0 and a0.any():
             z0 = (np.maximum(a0 - x0, 0.0) / eta) ** b
             life = x0 + eta * (z0 + e) ** inv_b - a0
             cut = np.maximum(cut0 - a0, 0.0)
