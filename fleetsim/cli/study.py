@@ -109,19 +109,19 @@ def _run_variants(variants, *, replications, seed, engine, workers, cluster, qui
 
 
 def _finish(results, out_dir: Path, ck_dir: Path, title: str, as_json: bool, quiet: bool,
-            extra: dict[str, Any], **report_kw: Any) -> None:  # type: ignore[no-untyped-def]
+            extra: dict[str, Any], stock_from: int = 0,
+            **report_kw: Any) -> None:  # type: ignore[no-untyped-def]
     from fleetsim.report import summary_table, write_report
     from fleetsim.study.advice import recommended_stock
 
-    stock = {}
-    for advice in recommended_stock(results[0]):
-        stock[advice.bearing] = advice.base_stock
+    advice = recommended_stock(results[stock_from])
+    stock = {a.bearing: a.base_stock for a in advice}
     extra = dict(extra)
     extra["recommended_stock_95pct_fill_rate"] = {
-        a.bearing: {"base_stock": a.base_stock, "fill_rate": a.fill_rate,
-                    "demand_per_year": a.demand_per_year, "lead_time_h": a.lead_time_h,
-                    "current_order_up_to": a.current_order_up_to}
-        for a in recommended_stock(results[0])
+        "variant": results[stock_from].label,
+        "levels": {a.bearing: {"base_stock": a.base_stock, "fill_rate": a.fill_rate,
+                               "demand_per_year": a.demand_per_year, "lead_time_h": a.lead_time_h,
+                               "current_order_up_to": a.current_order_up_to} for a in advice},
     }
     paths = write_report(results, out_dir, title=title, extra=extra,
                          recommended_stock=stock or None, **report_kw)
@@ -141,8 +141,9 @@ def _finish(results, out_dir: Path, ck_dir: Path, title: str, as_json: bool, qui
         return
     click.echo(summary_table(results).rstrip())
     if stock:
-        click.echo("\nRecommended stock for a 95 % fill rate (Palm's theorem on the simulated demand):")
-        for a in recommended_stock(results[0]):
+        click.echo("\nRecommended stock for a 95 % fill rate (Palm's theorem on the simulated demand"
+                   f" of {results[stock_from].label!r}):")
+        for a in advice:
             click.echo(f"  {a.bearing}: {a.base_stock} on hand (now S = {a.current_order_up_to}); "
                        f"demand {a.demand_per_year:.2f}/year, lead time {a.lead_time_h / 24:.0f} d")
     click.echo(f"\nReport: {paths.html}")
@@ -245,18 +246,25 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
                 i = int(analytic["cost_rate"].idxmin())
                 extra["analytic_optimum_interval_h"] = float(analytic["interval_h"][i])
                 extra["analytic_optimum_cost_per_year"] = float(analytic["cost_rate"][i])
-                extra["analytic_note"] = ("closed-form age replacement (Barlow & Proschan), "
-                                          "without waiting for spares or crews")
+                extra["analytic_optimum_at_edge"] = i in (0, len(analytic) - 1)
+                extra["analytic_note"] = ("long-run cost rate of age replacement (Barlow & "
+                                          "Proschan), without waiting for spares or crews")
+    best_at_edge = len(variants) > 2 and best in (0, len(variants) - 1)
+    extra["best_at_edge_of_range"] = best_at_edge
     _finish(results, out_dir, ck, f"{base.study.name}: sweep", as_json, quiet, extra,
-            sweep=sweep_table, sweep_analytic=analytic)
+            stock_from=best, sweep=sweep_table, sweep_analytic=analytic)
     if not as_json:
         est = estimate(results[best].replications[figure])
         click.echo(f"\nBest on {figure}: {variants[best].name} — {est.mean:,.4g} "
                    f"(95 % CI {est.low:,.4g} to {est.high:,.4g})")
+        if best_at_edge:
+            click.echo("  It is at the edge of the swept range: the optimum may lie beyond it; "
+                       "widen the range.")
         if "analytic_optimum_interval_h" in extra:
-            click.echo(f"Closed-form optimum interval (quick estimate): "
-                       f"{extra['analytic_optimum_interval_h']:,.0f} h at "
-                       f"{extra['analytic_optimum_cost_per_year']:,.0f} per year "
-                       f"(within the swept range)")
+            edge = (" — at the edge of the range, so it may lie beyond"
+                    if extra["analytic_optimum_at_edge"] else "")
+            click.echo(f"Closed-form optimum interval (long-run quick estimate, no waiting for "
+                       f"spares or crews): {extra['analytic_optimum_interval_h']:,.0f} h at "
+                       f"{extra['analytic_optimum_cost_per_year']:,.0f} per year{edge}")
 
 
