@@ -6,6 +6,7 @@ import re
 from typing import Any
 
 import click
+import numpy as np
 
 from fleetsim import SAFETY_CAUTION
 from fleetsim.cli.common import echo_json, fmt, table
@@ -66,9 +67,34 @@ def _policy_dict(p: Policy) -> dict[str, Any]:
     }
 
 
-def position_row(scenario: Scenario, machine: Machine, pos: Position) -> dict[str, Any]:
-    """The derived life model of one position, as a JSON-ready dict."""
+#: Reliability of the remaining life shown by ``check``: the remaining L10.
+REMAINING_RELIABILITY = 0.9
+
+
+def position_ages(machine: Machine, index: int) -> tuple[list[float], list[float]]:
+    """Starting age and remaining L10 of position ``index`` on each unit, hours.
+
+    The remaining L10 is the life the bearing outlives with 90 % probability
+    given that it has survived its starting age: R(a + t) / R(a) = 0.9.
+    """
+    ages = [machine.age_h(u, index) for u in range(machine.count)]
+    life = machine.positions[index].life
+    remaining = np.atleast_1d(life.remaining_life_at_reliability(REMAINING_RELIABILITY, ages))
+    return ages, remaining.tolist()
+
+
+def position_row(
+    scenario: Scenario, machine: Machine, pos: Position, index: int | None = None
+) -> dict[str, Any]:
+    """The derived life model of one position, as a JSON-ready dict.
+
+    ``index`` is the position's index in ``machine.positions`` (looked up when
+    None). ``starting_age_h`` and ``remaining_l10_h`` are lists with one value
+    per unit, in the order of the machine's ``units``.
+    """
     d = pos.derived
+    j = machine.positions.index(pos) if index is None else index
+    ages, remaining = position_ages(machine, j)
     return {
         "machine": machine.id,
         "units": machine.count,
@@ -85,6 +111,8 @@ def position_row(scenario: Scenario, machine: Machine, pos: Position) -> dict[st
         "field_factor": pos.field_factor,
         "life": pos.life.as_dict(),
         "life_mean_h": pos.life.mean_h,
+        "starting_age_h": ages,
+        "remaining_l10_h": remaining,
         "policy": _policy_dict(pos.policy),
     }
 
@@ -108,6 +136,14 @@ def _collapsed(machine: Machine) -> list[tuple[Position, int, str]]:
                 continue
         out.append((pos, 1, pos.id))
     return out
+
+
+def _span(values: list[float]) -> str:
+    """One value, or the range ``low–high`` of several, in whole hours."""
+    low, high = min(values), max(values)
+    if fmt(low, ",.0f") == fmt(high, ",.0f"):
+        return fmt(low, ",.0f")
+    return f"{fmt(low, ',.0f')}–{fmt(high, ',.0f')}"
 
 
 def _columns(rows: list[list[str]], right: set[int]) -> str:
@@ -155,6 +191,12 @@ def check_report(scenario: Scenario) -> str:
             or "unlimited spares",
         ),
         ("crews", "unlimited" if s.crews.count is None else str(s.crews.count)),
+        *(
+            [("starting ages", ", ".join(f"{m.id}: {m.ages_source}" for m in s.machines
+                                         if m.ages_source))]
+            if any(m.ages_source for m in s.machines)
+            else []
+        ),
         ("unplanned repair", describe_duration(s.crews.unplanned_repair)),
         ("planned repair", describe_duration(s.crews.planned_repair)),
     ]
@@ -170,12 +212,21 @@ def check_report(scenario: Scenario) -> str:
         "shape",
         "scale h",
         "location h",
+        "age h",
+        "rem. L10 h",
         "policy",
     ]
     rows = [header]
     for m in s.machines:
-        for pos, _n, label in _collapsed(m):
+        index = {p.id: j for j, p in enumerate(m.positions)}
+        for pos, n, label in _collapsed(m):
             d = pos.derived
+            ages: list[float] = []
+            remaining: list[float] = []
+            for j in range(index[pos.id], index[pos.id] + n):
+                a, r = position_ages(m, j)
+                ages += a
+                remaining += r
             rows.append(
                 [
                     m.id,
@@ -189,19 +240,23 @@ def check_report(scenario: Scenario) -> str:
                     fmt(pos.life.shape, ".4g"),
                     fmt(pos.life.scale_h, ",.0f"),
                     fmt(pos.life.location_h, ",.0f"),
+                    _span(ages),
+                    _span(remaining),
                     describe_policy(pos.policy),
                 ]
             )
     notes = (
         "P: equivalent load (application factor included); L10: basic rating life; "
         "shape/scale/location: the three-parameter Weibull life in operating hours "
-        "(a_ISO and field factor applied)."
+        "(a_ISO and field factor applied); age: operating age at the start (a range over "
+        "units and copies); rem. L10: remaining life at 90 % reliability given that age, "
+        "R(age + t) / R(age) = 0.9."
     )
     return "\n".join(
         [
             table(summary, "Scenario"),
             "",
-            _columns(rows, right={1, 4, 5, 6, 7, 8, 9, 10}),
+            _columns(rows, right={1, 4, 5, 6, 7, 8, 9, 10, 11, 12}),
             "",
             notes,
             SAFETY_CAUTION,
@@ -229,6 +284,7 @@ def check_json(scenario: Scenario) -> dict[str, Any]:
                 "operating_share": m.operating_share,
                 "operating_hours_per_year": m.operating_share * HOURS_PER_YEAR,
                 "starting_age_h": m.starting_age_h,
+                "ages_file": m.ages_source,
                 "units": m.unit_ids(),
             }
             for m in s.machines
@@ -242,7 +298,9 @@ def check_json(scenario: Scenario) -> dict[str, Any]:
             }
             for g in s.groups
         ],
-        "positions": [position_row(s, m, p) for m in s.machines for p in m.positions],
+        "positions": [
+            position_row(s, m, p, j) for m in s.machines for j, p in enumerate(m.positions)
+        ],
         "caution": SAFETY_CAUTION,
     }
 

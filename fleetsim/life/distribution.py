@@ -128,6 +128,13 @@ def _check_reliability(r: float, where: str) -> None:
         raise InputError(where, f"expected a reliability strictly between 0 and 1, got {r}")
 
 
+def _check_age(age_h: float | np.ndarray) -> np.ndarray:
+    a = np.asarray(age_h, dtype=float)
+    if not np.all(np.isfinite(a) & (a >= 0)):
+        raise InputError("age", f"expected operating ages >= 0 h, got {age_h}")
+    return a
+
+
 @dataclass(frozen=True)
 class LifeDistribution:
     """Life of a bearing position in operating hours: a three-parameter Weibull.
@@ -240,6 +247,54 @@ class LifeDistribution:
             z0 = (max(age_h - self.location_h, 0.0) / self.scale_h) ** self.shape
             return self.location_h + self.scale_h * (z0 + e) ** (1.0 / self.shape) - age_h
         return self.location_h + self.scale_h * e ** (1.0 / self.shape)
+
+    # --- a bearing already in service (conditional on survival to its age) --------------
+    def _z(self, hours: np.ndarray) -> np.ndarray:
+        """Cumulative hazard (t − x0)⁺/η)^b at operating hours t."""
+        return (np.maximum(hours - self.location_h, 0.0) / self.scale_h) ** self.shape
+
+    def conditional_reliability(
+        self, hours: float | np.ndarray, age_h: float | np.ndarray
+    ) -> float | np.ndarray:
+        """R(t | a) = R(a + t) / R(a): a bearing aged ``age_h`` survives ``hours`` more.
+
+        Computed as exp(−[z(a + t) − z(a)]) with z the cumulative hazard, so it
+        stays accurate when R(a) itself is tiny. ``hours`` and ``age_h``
+        broadcast; ``hours < 0`` gives 1.
+
+        Raises
+        ------
+        InputError
+            For an age that is negative or not finite.
+        """
+        a = _check_age(age_h)
+        t = np.maximum(np.asarray(hours, dtype=float), 0.0)
+        out = np.exp(-(self._z(a + t) - self._z(a)))
+        return float(out) if out.ndim == 0 else out
+
+    def remaining_life_at_reliability(
+        self, reliability: float | np.ndarray, age_h: float | np.ndarray
+    ) -> float | np.ndarray:
+        """Remaining life in hours that a bearing aged ``age_h`` outlives with probability R.
+
+        The t solving R(a + t) / R(a) = R:
+        t = x0 + η·(z(a) + ln(1/R))^(1/b) − a, with z(a) = ((a − x0)⁺/η)^b.
+        At age 0 it is :meth:`life_at_reliability`; R = 0.9 gives the remaining
+        L10 of a bearing already in service. Arguments broadcast.
+
+        Raises
+        ------
+        InputError
+            For a reliability outside (0, 1) or an age that is negative or not finite.
+        """
+        r = np.asarray(reliability, dtype=float)
+        if np.any((r <= 0) | (r >= 1)) or np.any(np.isnan(r)):
+            raise InputError("reliability", f"expected values strictly between 0 and 1, got {r}")
+        a = _check_age(age_h)
+        z = self._z(a) - np.log(r)
+        out = self.location_h + self.scale_h * z ** (1.0 / self.shape) - a
+        out = np.maximum(out, 0.0)  # rounding when a is far beyond the location
+        return float(out) if out.ndim == 0 else out
 
     def residual_sample(
         self, rng: np.random.Generator, age_h: float, size: int | None = None

@@ -24,6 +24,9 @@ Decisions fixed here:
   holds those machine ids.
 * ``field_factor`` multiplies every life of the position (scale and location),
   whether derived from ratings or given explicitly.
+* A machine's ``ages = "file.csv"`` names a CSV of current position ages
+  (:mod:`fleetsim.scenario.ages`), relative to the scenario file. Files are
+  read after the whole document has been validated.
 """
 
 from __future__ import annotations
@@ -38,6 +41,7 @@ from typing import Any
 
 from fleetsim.errors import InputError, LifeModelWarning
 from fleetsim.life import BearingType, LoadFactors, WeibullShape, life_shape
+from fleetsim.scenario.ages import apply_ages, scenario_folder
 from fleetsim.scenario.machines import (
     FIELD_LIFE_KEYS,
     MACHINE_KEYS,
@@ -154,11 +158,17 @@ def parse_scenario(text: str, source: str = "<memory>") -> Scenario:
 
 
 def build_scenario(
-    document: Mapping[str, Any], source: str = "<memory>", digest: str = ""
+    document: Mapping[str, Any],
+    source: str = "<memory>",
+    digest: str = "",
+    base_dir: str | PathLike[str] | None = None,
 ) -> Scenario:
     """Validate an already parsed document (a dict shaped like the TOML file).
 
     Useful from a notebook; :func:`parse_scenario` calls it after parsing.
+    File names in the document (a machine's ``ages``) are relative to
+    ``base_dir``, by default the folder of ``source`` when it names a file
+    (see :func:`fleetsim.scenario.ages.scenario_folder`).
     """
     root = Table(document, "", source, SECTIONS)
     study = _study(root.table("study", STUDY_KEYS, required=True), source)
@@ -170,8 +180,9 @@ def build_scenario(
     default_policy = Policy()
     if root.has("policy"):
         default_policy = read_policy(root.raw("policy"), "policy", source)
+    machine_tables = root.tables("machine", MACHINE_KEYS, required=True)
     machines = read_machines(
-        root.tables("machine", MACHINE_KEYS, required=True),
+        machine_tables,
         BearingIndex(bearings, bearing_paths),
         defaults,
         default_policy,
@@ -179,6 +190,11 @@ def build_scenario(
     groups = _groups(root.tables("group", GROUP_KEYS), machines)
     stores = _stores(root, bearings, bearing_lead)
     crews = _crews(root.table("crews", CREW_KEYS))
+    machines = apply_ages(machine_tables, machines, scenario_folder(source, base_dir))
+    aged = [(m.id, m.position_ages_h) for m in machines if m.position_ages_h is not None]
+    if aged and digest:
+        # the ages files change results: make them part of the scenario's fingerprint
+        digest = hashlib.sha256((digest + repr(aged)).encode()).hexdigest()
     return Scenario(
         study=study,
         costs=costs,

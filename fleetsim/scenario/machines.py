@@ -29,7 +29,7 @@ from fleetsim.scenario.reader import Table, join, show, suggest
 #: Upper limit on ``count`` of machines and positions (a guard against typos).
 MAX_COUNT = 100_000
 
-MACHINE_KEYS = ("id", "count", "operating_hours_per_year", "starting_age", "position")
+MACHINE_KEYS = ("id", "count", "operating_hours_per_year", "starting_age", "ages", "position")
 POSITION_KEYS = (
     "id",
     "count",

@@ -26,6 +26,7 @@ from typing import Literal
 
 import numpy as np
 
+from fleetsim.errors import InputError
 from fleetsim.life import BearingType, LifeDistribution, LoadFactors, PositionLife
 
 HOURS_PER_YEAR = 8766.0  # 365.25 days
@@ -96,6 +97,20 @@ class Duration:
             return self.value_h * math.exp(self.sigma * float(ndtri(u)))
         assert self.shape is not None
         return self.value_h * (-math.log1p(-u)) ** (1.0 / self.shape)
+
+    def quantiles(self, u: np.ndarray) -> np.ndarray:
+        """Durations in hours for an array of cumulative probabilities (vectorised :meth:`quantile`)."""
+        u = np.asarray(u, dtype=float)
+        if self.kind == "fixed":
+            return np.full_like(u, self.value_h)
+        if self.kind == "exponential":
+            return -self.value_h * np.log1p(-u)
+        if self.kind == "lognormal":
+            from scipy.special import ndtri
+
+            return self.value_h * np.exp(self.sigma * ndtri(u))
+        assert self.shape is not None
+        return self.value_h * (-np.log1p(-u)) ** (1.0 / self.shape)
 
     def cdf(self, hours: float | np.ndarray) -> float | np.ndarray:
         """P(duration <= hours)."""
@@ -267,9 +282,16 @@ class Machine:
     operating_share
         Share of calendar time the machine runs (operating hours per year / 8766).
     starting_age_h
-        Operating age of every position at the start, hours.
+        Operating age of every position at the start, hours (the default of
+        positions without an age of their own in ``position_ages_h``).
     positions
         The bearing positions.
+    position_ages_h
+        Operating age at the start of each position of each unit, hours, shape
+        ``count × len(positions)`` in unit and position order (row ``u`` is
+        unit ``unit_ids()[u]``); None: every position is ``starting_age_h`` old.
+    ages_source
+        File the ages came from (for messages and the ``check`` output), or None.
     """
 
     id: str
@@ -277,12 +299,49 @@ class Machine:
     operating_share: float
     starting_age_h: float
     positions: tuple[Position, ...]
+    position_ages_h: tuple[tuple[float, ...], ...] | None = None
+    ages_source: str | None = None
+
+    def __post_init__(self) -> None:
+        ages = self.position_ages_h
+        if ages is None:
+            return
+        n_pos = len(self.positions)
+        if len(ages) != self.count or any(len(row) != n_pos for row in ages):
+            raise InputError(
+                f"machine {self.id!r}.position_ages_h",
+                f"expected {self.count} rows (units) of {n_pos} ages (positions)",
+            )
+        if not all(math.isfinite(a) and a >= 0 for row in ages for a in row):
+            raise InputError(
+                f"machine {self.id!r}.position_ages_h", "expected finite ages >= 0 h"
+            )
 
     def unit_ids(self) -> list[str]:
         """Names of the machine's units."""
         if self.count == 1:
             return [self.id]
         return [f"{self.id}#{k}" for k in range(1, self.count + 1)]
+
+    def age_h(self, unit_number: int, position_index: int) -> float:
+        """Operating age in hours at the start of one position of one unit.
+
+        Parameters
+        ----------
+        unit_number
+            Index of the unit, from 0 (unit ``unit_ids()[unit_number]``).
+        position_index
+            Index of the position in :attr:`positions`, from 0.
+        """
+        if self.position_ages_h is None:
+            return self.starting_age_h
+        return self.position_ages_h[unit_number][position_index]
+
+    def ages_h(self) -> np.ndarray:
+        """Starting ages of every position of every unit, hours, shape (count, positions)."""
+        if self.position_ages_h is None:
+            return np.full((self.count, len(self.positions)), float(self.starting_age_h))
+        return np.array(self.position_ages_h, dtype=float).reshape(self.count, len(self.positions))
 
 
 @dataclass(frozen=True)

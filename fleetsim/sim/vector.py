@@ -43,18 +43,7 @@ _EPS = 1e-9
 
 def _duration_quantile(d: Duration | None, u: np.ndarray) -> np.ndarray:
     """Vectorised quantile of a Duration (0 for None)."""
-    if d is None:
-        return np.zeros_like(u)
-    if d.kind == "fixed":
-        return np.full_like(u, d.value_h)
-    if d.kind == "exponential":
-        return -d.value_h * np.log1p(-u)
-    if d.kind == "lognormal":
-        from scipy.special import ndtri
-
-        return d.value_h * np.exp(d.sigma * ndtri(u))
-    assert d.shape is not None
-    return d.value_h * (-np.log1p(-u)) ** (1.0 / d.shape)
+    return np.zeros_like(u) if d is None else d.quantiles(u)
 
 
 @dataclass
