@@ -257,3 +257,27 @@ def test_two_records_fit_without_numerical_warnings() -> None:
         warnings.simplefilter("error", RuntimeWarning)
         res = fit_records(s, models=("weibull_2p", "lognormal_2p"))
     assert math.isinf(res.best.aicc) and math.isfinite(res.best.bic)
+
+
+def test_characteristic_life_factor_equals_b10_factor_for_the_catalogue_shape() -> None:
+    # A field sample from a two-parameter catalogue model (shape 1.5, F(L10) = 0.10)
+    # scaled by 0.4: both the B10/L10 ratio and the ratio of characteristic lives
+    # (B63.2 over the model's η) estimate 0.4, within 3 standard errors taken from
+    # the 90 % bounds (half-width / 1.645).
+    import numpy as np
+
+    from fleetsim.fit import CensoredSample, fit_records
+    from fleetsim.life import LifeDistribution, WeibullShape
+
+    shape = WeibullShape(1.5, 0.0, 1.0 / math.log(1 / 0.9) ** (1 / 1.5))
+    l10 = 30_000.0
+    field = LifeDistribution.from_rating_life(l10, shape).scaled(0.4)
+    rng = np.random.default_rng(np.random.SeedSequence(20261201))
+    res = fit_records(CensoredSample.from_arrays(failures_h=field.sample(rng, 2_000)))
+    comp = compare_with_catalogue(res.best_weibull, l10, shape)
+    assert math.isclose(comp.catalog_characteristic_h, shape.scale * l10, rel_tol=1e-12)
+    for k, lo, hi in [(comp.factor, comp.factor_lower, comp.factor_upper),
+                      (comp.characteristic_factor, comp.characteristic_factor_lower,
+                       comp.characteristic_factor_upper)]:
+        se = (hi - lo) / (2 * 1.6449)
+        assert abs(k - 0.4) < 3 * se, (k, lo, hi)

@@ -119,6 +119,12 @@ def _text(name: str | None, result: FitResult, comparison: Any) -> str:
                         f"{_bounds(comparison.factor_lower, comparison.factor_upper, False)}"
                         "  (B10 / L10; use as field_factor in a scenario)",
                     ),
+                    (
+                        "Characteristic life",
+                        f"{fmt(comparison.characteristic_factor, '.3g')} "
+                        f"{_bounds(comparison.characteristic_factor_lower, comparison.characteristic_factor_upper, False)}"
+                        f"  (field B63.2 / catalogue {_hours(comparison.catalog_characteristic_h)})",
+                    ),
                     ("Verdict", comparison.verdict),
                 ]
             )

@@ -8,7 +8,15 @@ catalogue conditions; the same age from field records is the fitted B10. The
 
 with bounds from the B10 bounds (the catalogue L10 taken as exact). A
 scenario applies it as ``field_factor``: every life of the catalogue model is
-multiplied by it, so the scaled model's B10 equals the field B10.
+multiplied by it, so the scaled model's B10 equals the field B10 — the
+catalogue's own reference point.
+
+The ratio of characteristic lives (the age 63.2 % of bearings fail by) is
+reported beside it, field B63.2 over the catalogue model's characteristic life
+(``iso281``: (0.05 + 4.259)·L10), with bounds from the B63.2 bounds. When the
+field shape equals the catalogue shape the two ratios agree; when they differ,
+the comparison of both says where the field distribution departs from the
+catalogue one.
 """
 
 from __future__ import annotations
@@ -19,6 +27,7 @@ from dataclasses import dataclass
 from fleetsim.errors import InputError
 from fleetsim.fit.candidates import CandidateFit, Estimate
 from fleetsim.fit.fitting import FitResult
+from fleetsim.life import WeibullShape, life_shape
 
 
 @dataclass(frozen=True)
@@ -49,6 +58,10 @@ class CatalogueComparison:
     confidence: float
     model: str
     verdict: str
+    characteristic_factor: float = math.nan
+    characteristic_factor_lower: float = math.nan
+    characteristic_factor_upper: float = math.nan
+    catalog_characteristic_h: float = math.nan
 
     def as_dict(self) -> dict[str, object]:
         """A JSON-ready mapping."""
@@ -61,6 +74,10 @@ class CatalogueComparison:
             "confidence": self.confidence,
             "model": self.model,
             "verdict": self.verdict,
+            "catalog_characteristic_life_h": self.catalog_characteristic_h,
+            "characteristic_life_factor": self.characteristic_factor,
+            "characteristic_life_factor_lower": self.characteristic_factor_lower,
+            "characteristic_life_factor_upper": self.characteristic_factor_upper,
         }
 
 
@@ -85,9 +102,12 @@ def verdict(factor: float, lower: float, upper: float, confidence: float) -> str
 
 
 def compare_with_catalogue(
-    fit: FitResult | CandidateFit, catalog_l10_h: float
+    fit: FitResult | CandidateFit, catalog_l10_h: float,
+    catalog_model: str | WeibullShape = "iso281",
 ) -> CatalogueComparison:
     """Field factor of a fit (its best candidate) against the catalogue L10 in hours.
+
+    ``catalog_model`` (a life-model preset) gives the catalogue characteristic life.
 
     Raises
     ------
@@ -104,7 +124,13 @@ def compare_with_catalogue(
     b10 = cand.b_life(10.0)
     k = b10.estimate / catalog_l10_h
     lo, hi = b10.lower / catalog_l10_h, b10.upper / catalog_l10_h
+    theta_cat = float(life_shape(catalog_model).life_ratio(math.exp(-1.0))) * catalog_l10_h
+    b63 = cand.b_life(100.0 * (1.0 - math.exp(-1.0)))
     return CatalogueComparison(
+        catalog_characteristic_h=theta_cat,
+        characteristic_factor=b63.estimate / theta_cat,
+        characteristic_factor_lower=b63.lower / theta_cat,
+        characteristic_factor_upper=b63.upper / theta_cat,
         catalog_l10_h=float(catalog_l10_h),
         field_b10=b10,
         factor=k,
