@@ -90,7 +90,7 @@ BEARING_KEYS = (
     "X",
     "Y",
 )
-GROUP_KEYS = ("id", "machines", "need")
+GROUP_KEYS = ("id", "machines", "need", "hold_planned_work")
 STOCK_KEYS = (
     "initial",
     "reorder_point",
@@ -360,7 +360,10 @@ def _groups(tables: list[Table], machines: tuple[Machine, ...]) -> tuple[Group, 
                 "need",
                 f"expected 1 <= need <= {n} (the group has {n} machine units), got {need}",
             )
-        groups.append(Group(id=gid, machines=tuple(members), need=need))
+        hold = t.raw("hold_planned_work", False, what="true or false")
+        if not isinstance(hold, bool):
+            raise t.error("hold_planned_work", f"expected true or false, got {show(hold)}")
+        groups.append(Group(id=gid, machines=tuple(members), need=need, hold_planned_work=hold))
     return tuple(groups)
 
 

@@ -346,11 +346,17 @@ class Machine:
 
 @dataclass(frozen=True)
 class Group:
-    """A k-out-of-n group of machine units: up while at least ``need`` units are up."""
+    """A k-out-of-n group of machine units: up while at least ``need`` units are up.
+
+    With ``hold_planned_work``, planned work on a member waits while stopping it
+    would leave fewer than ``need`` units running (as a planner would schedule
+    it); failures still stop units whenever they happen.
+    """
 
     id: str
     machines: tuple[str, ...]
     need: int
+    hold_planned_work: bool = False
 
 
 @dataclass(frozen=True)

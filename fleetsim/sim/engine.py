@@ -140,6 +140,7 @@ def simulate(
     groups = GroupTracker(
         [(g.id, g.need, scenario.group_members(g)) for g in scenario.groups],
         n_units,
+        [g.hold_planned_work for g in scenario.groups],
     )
     ctx = SimContext(env, recorder, CrewPool(env, scenario.crews.count), scenario.crews,
                      stores, groups, streams, life_sampler)

@@ -15,6 +15,7 @@ by time t).
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 
@@ -44,8 +45,11 @@ class GroupTracker:
 
     FLEET = "fleet"
 
-    def __init__(self, groups: list[tuple[str, int, list[int]]], n_units: int) -> None:
+    def __init__(self, groups: list[tuple[str, int, list[int]]], n_units: int,
+                 hold_planned: list[bool] | None = None) -> None:
         self.states = [_State(name, need, len(members)) for name, need, members in groups]
+        self.hold = list(hold_planned) if hold_planned is not None else [False] * len(groups)
+        self.waiting: list[list[Callable[[], None]]] = [[] for _ in groups]
         self.unit_groups: list[list[int]] = [[] for _ in range(n_units)]
         for g, (_name, _need, members) in enumerate(groups):
             for u in members:
@@ -91,8 +95,28 @@ class GroupTracker:
             for g in self.unit_groups[unit]:
                 if self._member_up(self.states[g], now):
                     self._member_up(self.fleet, now)
+                if self.waiting[g]:  # planned work held back for this group may go now
+                    waiting, self.waiting[g] = self.waiting[g], []
+                    for wake in waiting:
+                        wake()
         else:
             self._member_up(self.fleet, now)
+
+    def holds(self, unit: int) -> bool:
+        """True when a group of ``unit`` holds planned work back (see :meth:`may_stop`)."""
+        return any(self.hold[g] for g in self.unit_groups[unit])
+
+    def may_stop(self, unit: int, wake: Callable[[], None]) -> bool:
+        """May ``unit`` stop for planned work now without taking a holding group down?
+
+        When not, ``wake`` is called once a member of the blocking group restarts.
+        """
+        for g in self.unit_groups[unit]:
+            st = self.states[g]
+            if self.hold[g] and st.down_units + 1 > st.size - st.need:
+                self.waiting[g].append(wake)
+                return False
+        return True
 
     def finish(self, horizon_h: float) -> list[dict[str, float | int | str | bool]]:
         """One row per group and a last row for the fleet."""

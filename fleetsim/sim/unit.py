@@ -194,7 +194,8 @@ class UnitRunner:
         # age-replaced, spares are unlimited and crews too: it may then sleep on its own
         # timer instead of a wake event poked by the timer (one event fewer per stop).
         self.opportunistic = any(p.policy.opportunistic_share is not None for p in self.positions)
-        self.quiet = ctx.crews.resource is None and all(
+        self.holds = ctx.groups.holds(unit_index)
+        self.quiet = not self.holds and ctx.crews.resource is None and all(
             p.policy.kind in ("run-to-failure", "age") and not p.store.limited
             for p in self.positions
         )
@@ -437,6 +438,8 @@ class UnitRunner:
                     return False
             if now < self.start_at:
                 return False
+            if self.holds and not self.ctx.groups.may_stop(self.index, self._poke):
+                return False  # a holding group cannot spare this unit now
             self.crew_asked = True
             self.crew_req = self.ctx.crews.request(PLANNED, self._poke)
         return CrewPool.granted(self.crew_req)

@@ -424,6 +424,8 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     from fleetsim.scenario.model import HOURS_PER_YEAR
     if not scenario.independent_positions:
         raise ValueError("the vectorised engine needs unlimited spares and crews")
+    if any(g.hold_planned_work for g in scenario.groups):
+        raise ValueError("groups that hold planned work back need the discrete-event engine")
     H = scenario.study.horizon_h if horizon_h is None else horizon_h
     years = H / HOURS_PER_YEAR
     out: dict[str, float] = {}

@@ -37,6 +37,12 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
     (engine, reason)
     """
     independent = scenario.independent_positions
+    holding = [g.id for g in scenario.groups if g.hold_planned_work]
+    if holding:
+        if requested == "vector":
+            raise InputError("--engine", f"group {holding[0]!r} holds planned work back, which "
+                                         "only the discrete-event engine models; use --engine des")
+        return "des", f"group {holding[0]!r} holds planned work back: discrete-event engine"
     if requested in (None, "auto"):
         if independent and scenario.position_count >= VECTOR_MIN_POSITIONS:
             return "vector", "no finite stores or crews: positions are independent, vectorised engine"
