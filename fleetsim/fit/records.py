@@ -28,15 +28,14 @@ row (the line number in the file, as a spreadsheet shows it) and the column.
 
 from __future__ import annotations
 
-import csv
 import difflib
-import io
 import math
 from dataclasses import dataclass
 from pathlib import Path
 
 import pandas as pd
 
+from fleetsim.csvtable import read_rows
 from fleetsim.errors import InputError
 from fleetsim.fit.sample import CensoredSample
 
@@ -123,49 +122,15 @@ def read_records(path: str | Path) -> FieldRecords:
     """
     path = Path(path)
     src = str(path)
-    try:
-        text = path.read_text(encoding="utf-8-sig")
-    except (OSError, UnicodeDecodeError) as exc:
-        reason = exc.strerror if isinstance(exc, OSError) else "not UTF-8 text"
-        raise InputError(src, f"cannot read the records file ({reason})") from None
-    lines = [(i, ln) for i, ln in enumerate(text.splitlines(), start=1)]
-    lines = [(i, ln) for i, ln in lines if ln.strip() and not ln.lstrip().startswith("#")]
-    if not lines:
-        raise InputError(src, "expected a header line (hours, outcome, ...) and records")
-    reader = csv.reader(io.StringIO("\n".join(ln for _, ln in lines)))
-    rows = list(reader)
-    if len(rows) != len(lines):
-        raise InputError(src, "a quoted value spans several lines; keep every record on one line")
-    header = [h.strip().lower() for h in rows[0]]
-    header_row = lines[0][0]
-    known = REQUIRED_COLUMNS + OPTIONAL_COLUMNS
-    for h in header:
-        if h not in known:
-            close = difflib.get_close_matches(h, known, n=1)
-            hint = f" (did you mean {close[0]!r}?)" if close else ""
-            raise InputError(
-                f"{src}: row {header_row}",
-                f"unknown column {h!r}{hint}; expected {', '.join(known)}",
-            )
-    dupes = sorted({h for h in header if header.count(h) > 1})
-    if dupes:
-        raise InputError(f"{src}: row {header_row}", f"column {dupes[0]!r} appears twice")
-    missing = [c for c in REQUIRED_COLUMNS if c not in header]
-    if missing:
-        raise InputError(f"{src}: row {header_row}", f"missing column(s) {', '.join(missing)}")
+    header, header_row, rows = read_rows(
+        path, REQUIRED_COLUMNS, OPTIONAL_COLUMNS, what="records",
+        header_hint="hours, outcome, ...",
+    )
     if ("hours_from" in header) != ("hours_to" in header):
         raise InputError(
             f"{src}: row {header_row}", "expected both hours_from and hours_to columns, or neither"
         )
-    records = []
-    for (line_no, _), cells in zip(lines[1:], rows[1:], strict=True):
-        if len(cells) != len(header):
-            raise InputError(
-                f"{src}: row {line_no}",
-                f"expected {len(header)} values (one per column), got {len(cells)}",
-            )
-        rec = dict(zip(header, (c.strip() for c in cells), strict=True))
-        records.append(_parse_row(src, line_no, rec))
+    records = [_parse_row(src, line_no, rec) for line_no, rec in rows]
     if not records:
         raise InputError(src, "has a header but no records")
     table = pd.DataFrame.from_records(records)

@@ -36,10 +36,7 @@ spreadsheet shows it) and the column.
 
 from __future__ import annotations
 
-import csv
 import dataclasses
-import difflib
-import io
 import math
 import re
 from dataclasses import dataclass
@@ -48,6 +45,7 @@ from pathlib import Path
 
 import numpy as np
 
+from fleetsim.csvtable import read_rows
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Machine
 from fleetsim.scenario.reader import Table, suggest
@@ -99,45 +97,11 @@ def read_age_records(path: str | PathLike[str]) -> list[AgeRecord]:
         position, hours that are not a bare number or are negative.
     """
     src = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8-sig")
-    except UnicodeDecodeError:
-        raise InputError(src, "cannot read the ages file (not UTF-8 text)") from None
-    except (OSError, ValueError) as exc:
-        reason = getattr(exc, "strerror", None) or str(exc)
-        raise InputError(src, f"cannot read the ages file ({reason})") from None
-    lines = [(i, ln) for i, ln in enumerate(text.splitlines(), start=1)]
-    lines = [(i, ln) for i, ln in lines if ln.strip() and not ln.lstrip().startswith("#")]
-    if not lines:
-        raise InputError(src, "expected a header line (unit, position, hours) and rows")
-    rows = list(csv.reader(io.StringIO("\n".join(ln for _, ln in lines))))
-    if len(rows) != len(lines):
-        raise InputError(src, "a quoted value spans several lines; keep every row on one line")
-    header = [h.strip().lower() for h in rows[0]]
-    header_row = lines[0][0]
-    known = AGE_COLUMNS + OPTIONAL_AGE_COLUMNS
-    for h in header:
-        if h not in known:
-            close = difflib.get_close_matches(h, known, n=1)
-            hint = f" (did you mean {close[0]!r}?)" if close else ""
-            raise InputError(
-                f"{src}: row {header_row}",
-                f"unknown column {h!r}{hint}; expected {', '.join(known)}",
-            )
-    dupes = sorted({h for h in header if header.count(h) > 1})
-    if dupes:
-        raise InputError(f"{src}: row {header_row}", f"column {dupes[0]!r} appears twice")
-    missing = [c for c in AGE_COLUMNS if c not in header]
-    if missing:
-        raise InputError(f"{src}: row {header_row}", f"missing column(s) {', '.join(missing)}")
+    _header, _row, rows = read_rows(
+        path, AGE_COLUMNS, OPTIONAL_AGE_COLUMNS, what="ages", header_hint="unit, position, hours"
+    )
     out: list[AgeRecord] = []
-    for (line_no, _), cells in zip(lines[1:], rows[1:], strict=True):
-        if len(cells) != len(header):
-            raise InputError(
-                f"{src}: row {line_no}",
-                f"expected {len(header)} values (one per column), got {len(cells)}",
-            )
-        rec = dict(zip(header, (c.strip() for c in cells), strict=True))
+    for line_no, rec in rows:
         for col in ("unit", "position"):
             if not rec[col]:
                 raise InputError(f"{src}: row {line_no}, column {col}", f"expected a {col} id")
