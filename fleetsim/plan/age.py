@@ -26,7 +26,6 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy import optimize
 
 from fleetsim.errors import InputError
 from fleetsim.plan.costs import (
@@ -35,6 +34,7 @@ from fleetsim.plan.costs import (
     ReplacementOptimum,
     check_optimisable,
     decide,
+    refine_grid_minimum,
     run_to_failure_cost_rate,
 )
 from fleetsim.plan.lifelike import (
@@ -181,19 +181,9 @@ def optimal_age_replacement(
     grid = np.unique(np.concatenate((np.linspace(lo, hi, GRID_POINTS), extra)))
     grid = grid[(grid >= lo) & (grid <= hi)]
     rates = np.asarray(age_replacement_cost_rate(dist, grid, costs))
-    k = int(np.argmin(rates))
-    at_upper_end = k == grid.size - 1
-    best_t, best_c = float(grid[k]), float(rates[k])
-    if not at_upper_end:
-        a, b = float(grid[max(k - 1, 0)]), float(grid[k + 1])
-        res = optimize.minimize_scalar(
-            lambda x: float(age_replacement_cost_rate(dist, x, costs)),
-            bounds=(a, b),
-            method="bounded",
-            options={"xatol": 1e-9 * hi},
-        )
-        if res.success and float(res.fun) < best_c:
-            best_t, best_c = float(res.x), float(res.fun)
+    best_t, best_c, at_upper_end = refine_grid_minimum(
+        grid, rates, lambda x: float(age_replacement_cost_rate(dist, x, costs)), 1e-9 * hi
+    )
     return decide(
         policy="age",
         best_interval_h=best_t,

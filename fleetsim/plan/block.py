@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy import interpolate, optimize
+from scipy import interpolate
 
 from fleetsim.errors import InputError
 from fleetsim.plan.costs import (
@@ -32,6 +32,7 @@ from fleetsim.plan.costs import (
     ReplacementOptimum,
     check_optimisable,
     decide,
+    refine_grid_minimum,
     run_to_failure_cost_rate,
 )
 from fleetsim.plan.lifelike import as_life, is_weibull_with_non_rising_hazard, mean_h
@@ -151,20 +152,10 @@ def optimal_block_replacement(
     grid, m = renewal_grid(dist, t_max, SEARCH_STEPS)
     grid, m = grid[1:], m[1:]
     rates = _cost_rate(m, grid, costs)
-    k = int(np.argmin(rates))
-    at_upper_end = k == grid.size - 1
-    best_t, best_c = float(grid[k]), float(rates[k])
-    if not at_upper_end:
-        spline = interpolate.CubicSpline(grid, m)
-        a, b = float(grid[max(k - 1, 0)]), float(grid[k + 1])
-        res = optimize.minimize_scalar(
-            lambda x: float(_cost_rate(spline(x), x, costs)),
-            bounds=(a, b),
-            method="bounded",
-            options={"xatol": 1e-9 * t_max},
-        )
-        if res.success and float(res.fun) < best_c:
-            best_t, best_c = float(res.x), float(res.fun)
+    spline = interpolate.CubicSpline(grid, m)
+    best_t, best_c, at_upper_end = refine_grid_minimum(
+        grid, rates, lambda x: float(_cost_rate(spline(x), x, costs)), 1e-9 * t_max
+    )
     return decide(
         policy="block",
         best_interval_h=best_t,

@@ -16,8 +16,12 @@ cost rate is E[cost per cycle] / E[length of cycle].
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
+
+import numpy as np
+from scipy import optimize
 
 from fleetsim.errors import InputError
 from fleetsim.plan.lifelike import as_life, mean_h
@@ -193,3 +197,24 @@ def decide(
         saving_fraction=0.0,
         reason=f"No finite {policy}-replacement interval pays: run to failure. Reason: {why}.",
     )
+
+
+def refine_grid_minimum(
+    grid: Any, rates: Any, rate_of: Callable[[float], float], xatol_h: float
+) -> tuple[float, float, bool]:
+    """The least rate on a grid, refined between its neighbours by a bounded search.
+
+    Returns ``(interval_h, rate, at_upper_end)``; at the upper end of the grid
+    (no interior minimum) the grid point is returned unrefined.
+    """
+    k = int(np.argmin(rates))
+    at_upper_end = k == len(grid) - 1
+    best_t, best_c = float(grid[k]), float(rates[k])
+    if not at_upper_end:
+        a, b = float(grid[max(k - 1, 0)]), float(grid[k + 1])
+        res = optimize.minimize_scalar(
+            rate_of, bounds=(a, b), method="bounded", options={"xatol": xatol_h}
+        )
+        if res.success and float(res.fun) < best_c:
+            best_t, best_c = float(res.x), float(res.fun)
+    return best_t, best_c, at_upper_end
