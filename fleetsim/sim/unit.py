@@ -447,34 +447,24 @@ class UnitRunner:
     def _corrective_stop(self) -> Generator[simpy.Event, Any, None]:
         env = self.env
         crews = self.ctx.crews
-        if self.quiet and not self.crew_asked:
-            # Unlimited spares and crews: no waiting, straight to the repair.
-            self._go_down(REPAIR)
-            failed = [p for p in self.positions if p.failed]
-            if self.log is not None:
-                self.log(env.now, self.id, "", "work")
-            work = self._work_list(failed)
-            duration = self.ctx.crews_spec.unplanned_repair.quantile(failed[0].stop_u)
-            if duration > 0.0:
-                yield env.timeout(duration)
-            self._renew(work)
-            crews.busy_h += duration
-            self._go_up()
-            return
-        self._go_down(WAITING_SPARE)
-        if self.crew_asked:  # a planned job was queuing for a crew: give it up for now
-            crews.withdraw(self.crew_req)
-            self.crew_asked = False
-            self.crew_req = None
+        # With unlimited spares and crews nothing can keep the repair waiting.
+        waits = not (self.quiet and not self.crew_asked)
+        self._go_down(WAITING_SPARE if waits else REPAIR)
         failed = [p for p in self.positions if p.failed]
-        while not all(p.claim.filled for p in failed):  # type: ignore[union-attr]
-            self.wake = env.event()
-            yield self.wake
-        self._phase(WAITING_CREW)
-        req = crews.request(UNPLANNED)
-        if req is not None and not req.triggered:
-            yield req
-        self._phase(REPAIR)
+        req = None
+        if waits:
+            if self.crew_asked:  # a planned job was queuing for a crew: give it up for now
+                crews.withdraw(self.crew_req)
+                self.crew_asked = False
+                self.crew_req = None
+            while not all(p.claim.filled for p in failed):  # type: ignore[union-attr]
+                self.wake = env.event()
+                yield self.wake
+            self._phase(WAITING_CREW)
+            req = crews.request(UNPLANNED)
+            if req is not None and not req.triggered:
+                yield req
+            self._phase(REPAIR)
         if self.log is not None:
             self.log(env.now, self.id, "", "work")
         work = self._work_list(failed)
