@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 import math
 import re
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from typing import Any
 
 import click
@@ -71,5 +71,3 @@ def fmt(value: float | None, spec: str = ".4g", unit: str = "") -> str:
         return "—"
     return f"{value:{spec}}{(' ' + unit) if unit else ''}"
 
-
-OptionDecorator = Callable[[Callable[..., Any]], Callable[..., Any]]
