@@ -248,6 +248,20 @@ class LifeDistribution:
             return self.location_h + self.scale_h * (z0 + e) ** (1.0 / self.shape) - age_h
         return self.location_h + self.scale_h * e ** (1.0 / self.shape)
 
+    def lives_from_uniform(self, u: np.ndarray, age_h: np.ndarray | float = 0.0) -> np.ndarray:
+        """:meth:`life_from_uniform` for arrays: remaining lives in hours beyond ``age_h``.
+
+        ``u`` and ``age_h`` broadcast; a zero age gives the life of a new bearing.
+        """
+        e = -np.log1p(-np.asarray(u, dtype=float))
+        new = self.location_h + self.scale_h * e ** (1.0 / self.shape)
+        a = np.asarray(age_h, dtype=float)
+        if not (a > 0.0).any():
+            return new
+        z0 = (np.maximum(a - self.location_h, 0.0) / self.scale_h) ** self.shape
+        aged = self.location_h + self.scale_h * (z0 + e) ** (1.0 / self.shape) - a
+        return np.where(a > 0.0, aged, new)
+
     # --- a bearing already in service (conditional on survival to its age) --------------
     def _z(self, hours: np.ndarray) -> np.ndarray:
         """Cumulative hazard (t − x0)⁺/η)^b at operating hours t."""

@@ -21,20 +21,31 @@ import simpy
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
 from fleetsim.sim.crews import CrewPool
+from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.policies import check_policy, start_calendar_policies
+from fleetsim.sim.quiet import quiet_process
 from fleetsim.sim.records import (
     GROUP_COLUMNS,
-    POSITION_COLUMNS,
     SPARE_COLUMNS,
-    UNIT_COLUMNS,
     Recorder,
     ReplicationResult,
     Table,
 )
 from fleetsim.sim.stores import SpareStore, StoreStats, UnlimitedSupply
 from fleetsim.sim.streams import Streams, as_seed_sequence
-from fleetsim.sim.unit import LifeSampler, SimContext, UnitRunner
+from fleetsim.sim.unit import (
+    LifeSampler,
+    MachineSetup,
+    SimContext,
+    UnitRunner,
+    position_columns,
+    unit_columns,
+)
+
+#: Run quiet units with :func:`~fleetsim.sim.quiet.quiet_process` (tests turn it off to
+#: check that the general process gives the same result).
+QUIET_PROCESS = True
 
 
 def _check(scenario: Scenario, horizon_h: float) -> None:
@@ -114,6 +125,17 @@ def simulate(
     horizon = float(scenario.study.horizon_h if horizon_h is None else horizon_h)
     _check(scenario, horizon)
     root = as_seed_sequence(seed)
+    with gc_paused():
+        return _run(scenario, root, horizon, keep_events, life_sampler)
+
+
+def _run(
+    scenario: Scenario,
+    root: np.random.SeedSequence,
+    horizon: float,
+    keep_events: bool,
+    life_sampler: LifeSampler | None,
+) -> ReplicationResult:
     streams = Streams(root)
     env = simpy.Environment()
     recorder = Recorder(keep_events)
@@ -146,11 +168,15 @@ def simulate(
                      stores, groups, streams, life_sampler)
     units: list[UnitRunner] = []
     for mi, m in enumerate(scenario.machines):
+        setup = MachineSetup(ctx, m, mi)
         for ui, uid in enumerate(m.unit_ids()):
-            unit = UnitRunner(ctx, m, mi, ui, unit_index[m.id][ui], uid)
+            unit = UnitRunner(ctx, setup, ui, unit_index[m.id][ui], uid)
             units.append(unit)
-            env.process(unit.run())
-            start_calendar_policies(env, unit)
+            if unit.quiet and QUIET_PROCESS:
+                env.process(quiet_process(unit))
+            else:
+                env.process(unit.run())
+                start_calendar_policies(env, unit)
 
     env.run(until=horizon)
     return _result(scenario, root, horizon, recorder, units, stores, groups, ctx.crews.busy_h)
@@ -166,11 +192,9 @@ def _result(
     groups: GroupTracker,
     crew_busy_h: float,
 ) -> ReplicationResult:
-    unit_rows, pos_rows = [], []
     for u in units:
-        row, rows = u.finish(horizon)
-        unit_rows.append(row)
-        pos_rows.extend(rows)
+        u.close(horizon)
+    unit_table = unit_columns(units, horizon)
     years = horizon / HOURS_PER_YEAR
     spare_rows = []
     stats: dict[str, StoreStats] = {}
@@ -199,7 +223,7 @@ def _result(
 
     c = scenario.costs
     price = {bid: (scenario.bearings[bid].price if bid in scenario.bearings else 0.0) for bid in stores}
-    down_h = sum(r["down_h"] for r in unit_rows)
+    down_h = sum(unit_table["down_h"])
     costs = {
         "planned_labour": (counts["planned"] + counts["opportunistic"]) * c.planned_replacement,
         "failure_labour": counts["failures"] * (c.planned_replacement + c.failure),
@@ -234,8 +258,8 @@ def _result(
         crew_busy_h=crew_busy_h,
         tables={
             "events": events,
-            "units": _columns(unit_rows, UNIT_COLUMNS),
-            "positions": _columns(pos_rows, POSITION_COLUMNS),
+            "units": unit_table,
+            "positions": position_columns(units),
             "spares": _columns(spare_rows, SPARE_COLUMNS),
             "groups": _columns(groups.finish(horizon), GROUP_COLUMNS),
         },

@@ -49,6 +49,7 @@ class GroupTracker:
                  hold_planned: list[bool] | None = None) -> None:
         self.states = [_State(name, need, len(members)) for name, need, members in groups]
         self.hold = list(hold_planned) if hold_planned is not None else [False] * len(groups)
+        self.any_hold = any(self.hold)
         self.waiting: list[list[Callable[[], None]]] = [[] for _ in groups]
         self.unit_groups: list[list[int]] = [[] for _ in range(n_units)]
         for g, (_name, _need, members) in enumerate(groups):
@@ -104,7 +105,7 @@ class GroupTracker:
 
     def holds(self, unit: int) -> bool:
         """True when a group of ``unit`` holds planned work back (see :meth:`may_stop`)."""
-        return any(self.hold[g] for g in self.unit_groups[unit])
+        return self.any_hold and any(self.hold[g] for g in self.unit_groups[unit])
 
     def may_stop(self, unit: int, wake: Callable[[], None]) -> bool:
         """May ``unit`` stop for planned work now without taking a holding group down?

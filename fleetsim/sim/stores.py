@@ -97,6 +97,11 @@ class UnlimitedSupply:
         self.stats.issued += 1
         return Claim(notify, filled=True)
 
+    def issue(self) -> None:
+        """Issue a spare without a claim (the quiet units' short cut)."""
+        self.stats.demands += 1
+        self.stats.issued += 1
+
     def expedite(self, claim: Claim, unit: str, position: str) -> bool:
         """Never needed: claims are always filled."""
         return False

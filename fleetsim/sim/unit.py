@@ -45,12 +45,13 @@ from typing import Any
 import numpy as np
 import simpy
 
+from fleetsim.life import LifeDistribution
 from fleetsim.scenario.model import Crews, Machine, Position
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.records import Recorder
 from fleetsim.sim.stores import Claim, SpareStore, UnlimitedSupply
-from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams, UniformTable
+from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
 
 INF = math.inf
 _FAILURE, _PLANNED = 0, 1
@@ -77,41 +78,113 @@ class SimContext:
     life_sampler: LifeSampler | None = None
 
 
+class MachineSetup:
+    """What every unit of one machine type shares in one replication.
+
+    Built once per machine type by :func:`~fleetsim.sim.engine.simulate`, so a
+    unit's own set-up is little more than its positions' states. It also draws,
+    for the whole machine type at once, the bearings fitted at the start: their
+    remaining lives beyond the starting ages (row k = 0 of the life table, or
+    ``life_sampler(unit, position, 0)``), P-F intervals and stop quantiles.
+    """
+
+    __slots__ = ("machine", "index", "start_ages_h", "stores", "life_table", "pf_table",
+                 "stop_table", "random_stops", "opportunistic", "quiet",
+                 "first_defect_h", "first_fail_h", "first_stop_u")
+
+    def __init__(self, ctx: SimContext, machine: Machine, machine_index: int) -> None:
+        specs = machine.positions
+        n_pos = len(specs)
+        streams = ctx.streams
+        crews = ctx.crews_spec
+        self.machine = machine
+        self.index = machine_index
+        ages = machine.ages_h()
+        #: starting ages in hours, [unit][position]
+        self.start_ages_h: list[list[float]] = ages.tolist()
+        self.stores = [ctx.stores[p.bearing_id] for p in specs]
+        self.random_stops = crews.planned_repair.kind != "fixed" or crews.unplanned_repair.kind != "fixed"
+        # Tables are keyed streams: leaving out the ones nothing reads shifts no other stream.
+        self.life_table = streams.table(machine_index, machine.count, n_pos, LIFE)
+        self.pf_table = (streams.table(machine_index, machine.count, n_pos, PF)
+                         if any(p.policy.pf_interval is not None for p in specs) else None)
+        self.stop_table = (streams.table(machine_index, machine.count, n_pos, STOP)
+                           if self.random_stops else None)
+        self.opportunistic = any(p.policy.opportunistic_share is not None for p in specs)
+        # Nothing outside a unit can wake it when every position is run-to-failure or
+        # age-replaced without a P-F interval, spares are unlimited, crews too, and no
+        # group holds its planned work (the last is checked per unit).
+        self.quiet = ctx.crews.resource is None and all(
+            p.policy.kind in ("run-to-failure", "age") and p.policy.pf_interval is None
+            and not store.limited
+            for p, store in zip(specs, self.stores, strict=True)
+        )
+        # The bearings fitted at the start (k = 0), for all units at once.
+        sampler = ctx.life_sampler
+        if sampler is None:
+            u0 = self.life_table.row(0)
+            life = np.empty_like(u0)
+            same_life: dict[LifeDistribution, list[int]] = {}
+            for j, p in enumerate(specs):
+                same_life.setdefault(p.life, []).append(j)
+            for dist, cols in same_life.items():
+                life[:, cols] = dist.lives_from_uniform(u0[:, cols], ages[:, cols])
+        else:
+            life = np.array([[float(sampler(uid, p.id, 0)) for p in specs]
+                             for uid in machine.unit_ids()])
+        fail = life.copy()
+        if self.pf_table is not None:
+            pf0 = self.pf_table.row(0)
+            for j, p in enumerate(specs):
+                if p.policy.pf_interval is not None:
+                    fail[:, j] += p.policy.pf_interval.quantiles(pf0[:, j])
+        #: operating hours to the first defect and to the failure, [unit][position]
+        self.first_defect_h: list[list[float]] = life.tolist()
+        self.first_fail_h: list[list[float]] = fail.tolist()
+        self.first_stop_u: list[list[float]] | None = (
+            self.stop_table.row(0).tolist() if self.stop_table is not None else None
+        )
+
+
 class PositionState:
     """The current bearing of one position of one unit, and its counters."""
 
     __slots__ = (
         "id", "bearing_id", "policy", "life", "store", "interval_h", "is_age", "is_condition",
-        "life_table", "pf_table", "stop_table", "unit_no", "slot", "_det_rng", "_key", "_streams",
-        "k", "stop_u", "installed_op", "defect_op", "fail_op", "due_op", "defect_seen", "detected",
-        "failed", "pending", "start_at", "claim",
+        "life_table", "pf_table", "stop_table", "machine_no", "unit_no", "slot", "_det_rng",
+        "_streams", "k", "stop_u", "installed_op", "defect_op", "fail_op", "due_op", "defect_seen",
+        "detected", "failed", "pending", "start_at", "claim",
         "failures", "planned", "opportunistic", "defects", "detections",
     )  # fmt: skip
 
     def __init__(
-        self,
-        spec: Position,
-        store: SpareStore | UnlimitedSupply,
-        streams: Streams,
-        key: tuple[int, int, int],
-        tables: tuple[UniformTable, UniformTable, UniformTable],
+        self, spec: Position, setup: MachineSetup, streams: Streams, unit_no: int, slot: int
     ) -> None:
+        """The position with the bearing fitted at the start (drawn by ``setup``)."""
+        policy = spec.policy
         self.id = spec.id
         self.bearing_id = spec.bearing_id
-        self.policy = spec.policy
+        self.policy = policy
         self.life = spec.life
-        self.store = store
-        self.interval_h = spec.policy.interval_h
-        self.is_age = spec.policy.kind == "age"
-        self.is_condition = spec.policy.kind == "condition"
+        self.store = setup.stores[slot]
+        self.interval_h = policy.interval_h
+        self.is_age = policy.kind == "age"
+        self.is_condition = policy.kind == "condition"
         self._streams = streams
-        self._key = key
-        machine, self.unit_no, self.slot = key
-        self.life_table, self.pf_table, self.stop_table = tables
+        self.machine_no = setup.index
+        self.unit_no = unit_no
+        self.slot = slot
+        self.life_table = setup.life_table
+        self.pf_table = setup.pf_table
+        self.stop_table = setup.stop_table
         self._det_rng: np.random.Generator | None = None
-        self.k = 0
-        self.stop_u = 0.5
-        self.installed_op = self.defect_op = self.fail_op = self.due_op = 0.0
+        self.k = 1
+        stop_u = setup.first_stop_u
+        self.stop_u = stop_u[unit_no][slot] if stop_u is not None else 0.5
+        self.installed_op = -setup.start_ages_h[unit_no][slot]
+        self.defect_op = setup.first_defect_h[unit_no][slot]
+        self.fail_op = setup.first_fail_h[unit_no][slot]
+        self.due_op = self.installed_op + self.interval_h if self.is_age and self.interval_h else INF
         self.defect_seen = self.detected = self.failed = self.pending = False
         self.start_at = INF
         self.claim: Claim | None = None
@@ -121,7 +194,8 @@ class PositionState:
     def det_rng(self) -> np.random.Generator:
         """Generator of this position's detection draws (created on first use)."""
         if self._det_rng is None:
-            self._det_rng = self._streams.position(*self._key, DETECTION)
+            self._det_rng = self._streams.position(self.machine_no, self.unit_no, self.slot,
+                                                   DETECTION)
         return self._det_rng
 
 
@@ -132,10 +206,10 @@ class UnitRunner:
     ----------
     ctx
         Shared state of the replication.
-    machine
-        The machine type.
-    machine_index, unit_number
-        Indexes used to key the random streams.
+    setup
+        What the units of its machine type share.
+    unit_number
+        Index of the unit within its machine type (keys the random streams).
     unit_index
         Index of the unit in the fleet (for groups).
     unit_id
@@ -145,31 +219,23 @@ class UnitRunner:
     def __init__(
         self,
         ctx: SimContext,
-        machine: Machine,
-        machine_index: int,
+        setup: MachineSetup,
         unit_number: int,
         unit_index: int,
         unit_id: str,
     ) -> None:
+        machine = setup.machine
         self.ctx = ctx
         self.env = ctx.env
-        self.rec = ctx.recorder
         self.counts = ctx.recorder.counts
         self.log = ctx.recorder.log if ctx.recorder.keep_events else None
         self.machine = machine
         self.id = unit_id
         self.index = unit_index
         self.share = machine.operating_share
-        self.start_ages_h = [machine.age_h(unit_number, j) for j in range(len(machine.positions))]
-        n_pos = len(machine.positions)
-        tables = tuple(
-            ctx.streams.table(machine_index, machine.count, n_pos, purpose)
-            for purpose in (LIFE, PF, STOP)
-        )
+        streams = ctx.streams
         self.positions = [
-            PositionState(p, ctx.stores[p.bearing_id], ctx.streams,
-                          (machine_index, unit_number, j), tables)  # type: ignore[arg-type]
-            for j, p in enumerate(machine.positions)
+            PositionState(p, setup, streams, unit_number, j) for j, p in enumerate(machine.positions)
         ]
         self.clock_op = 0.0
         self.t_sync = 0.0
@@ -186,19 +252,11 @@ class UnitRunner:
         self.phase_t = 0.0
         self.phase_h = [0.0] * 5
         self.stops = 0
-        spec = ctx.crews_spec
-        self.random_stops = spec.planned_repair.kind != "fixed" or spec.unplanned_repair.kind != "fixed"
-        for p in self.positions:
-            self._install(p)
-        # Nothing outside the unit can wake it when every position is run-to-failure or
-        # age-replaced, spares are unlimited and crews too: it may then sleep on its own
-        # timer instead of a wake event poked by the timer (one event fewer per stop).
-        self.opportunistic = any(p.policy.opportunistic_share is not None for p in self.positions)
+        self.failures = 0
+        self.random_stops = setup.random_stops
+        self.opportunistic = setup.opportunistic
         self.holds = ctx.groups.holds(unit_index)
-        self.quiet = not self.holds and ctx.crews.resource is None and all(
-            p.policy.kind in ("run-to-failure", "age") and not p.store.limited
-            for p in self.positions
-        )
+        self.quiet = setup.quiet and not self.holds
 
     # --- clock, phases, timer ---------------------------------------------------------
     def _sync(self) -> None:
@@ -264,25 +322,24 @@ class UnitRunner:
             self.log(now, self.id, "", "up")
 
     # --- lives ---------------------------------------------------------------------
-    def _install(self, p: PositionState) -> None:
-        """Fit a new bearing in ``p`` (or, for k = 0, take the one fitted at the start)."""
+    def install(self, p: PositionState) -> None:
+        """Fit a new bearing in ``p``: its k-th life (k >= 1) starts now."""
         clock = self.clock_op
         k = p.k
-        age0 = self.start_ages_h[p.slot] if k == 0 else 0.0
         sampler = self.ctx.life_sampler
         if sampler is not None:
             life = float(sampler(self.id, p.id, k))
         else:
-            life = p.life.life_from_uniform(p.life_table.get(k, p.unit_no, p.slot), age0)
+            life = p.life.life_from_uniform(p.life_table.get(k, p.unit_no, p.slot))
         pf = p.policy.pf_interval
         pf_h = pf.quantile(p.pf_table.get(k, p.unit_no, p.slot)) if pf is not None else 0.0
         if self.random_stops:
             p.stop_u = p.stop_table.get(k, p.unit_no, p.slot)
         p.k = k + 1
-        p.installed_op = clock - age0
+        p.installed_op = clock
         p.defect_op = clock + life
         p.fail_op = p.defect_op + pf_h
-        p.due_op = p.installed_op + p.interval_h if p.is_age and p.interval_h else INF
+        p.due_op = clock + p.interval_h if p.is_age and p.interval_h else INF
         p.defect_seen = p.detected = p.failed = p.pending = False
         p.start_at = INF
         p.claim = None
@@ -297,6 +354,7 @@ class UnitRunner:
     def _fail(self, p: PositionState) -> None:
         p.failed = True
         p.failures += 1
+        self.failures += 1
         counts = self.counts
         counts["failures"] += 1
         if p.is_condition:
@@ -531,46 +589,55 @@ class UnitRunner:
                 counts["opportunistic"] += 1
             if self.log is not None:
                 self.log(now, self.id, p.id, kind)
-            self._install(p)
+            self.install(p)
         if self.pending:
             self.pending = [p for p in self.pending if p.pending]
             self.start_at = min((p.start_at for p in self.pending), default=INF)
 
     # --- end of the run ----------------------------------------------------------------
-    def finish(self, horizon_h: float) -> tuple[dict[str, Any], list[dict[str, Any]]]:
-        """Close the books at the horizon: the unit's row and its positions' rows."""
-        self._sync()
-        self._phase(self.phase)
-        h = self.phase_h
-        down = h[WAITING_SPARE] + h[WAITING_CREW] + h[REPAIR] + h[PLANNED_WORK]
-        unit_row = {
-            "unit": self.id,
-            "machine": self.machine.id,
-            "running_h": h[RUNNING],
-            "operating_h": h[RUNNING] * self.share,
-            "waiting_spare_h": h[WAITING_SPARE],
-            "waiting_crew_h": h[WAITING_CREW],
-            "repair_h": h[REPAIR],
-            "planned_h": h[PLANNED_WORK],
-            "down_h": down,
-            "availability": h[RUNNING] / horizon_h,
-            "failures": sum(p.failures for p in self.positions),
-            "stops": self.stops,
-        }
-        rows = [
-            {
-                "unit": self.id,
-                "position": p.id,
-                "machine": self.machine.id,
-                "bearing": p.bearing_id,
-                "policy": p.policy.kind,
-                "failures": p.failures,
-                "planned": p.planned,
-                "opportunistic": p.opportunistic,
-                "defects": p.defects,
-                "detections": p.detections,
-                "age_end_h": self.clock_op - p.installed_op,
-            }
-            for p in self.positions
-        ]
-        return unit_row, rows
+    def close(self, horizon_h: float) -> None:
+        """Close the books at the horizon: the operating clock and the current phase."""
+        if self.running:
+            self.clock_op += self.share * (horizon_h - self.t_sync)
+        self.t_sync = horizon_h
+        self.phase_h[self.phase] += horizon_h - self.phase_t
+        self.phase_t = horizon_h
+
+
+def unit_columns(units: list[UnitRunner], horizon_h: float) -> dict[str, list[Any]]:
+    """The ``units`` table of :class:`~fleetsim.sim.records.ReplicationResult`, by column."""
+    hours = [u.phase_h for u in units]
+    down = [h[WAITING_SPARE] + h[WAITING_CREW] + h[REPAIR] + h[PLANNED_WORK] for h in hours]
+    return {
+        "unit": [u.id for u in units],
+        "machine": [u.machine.id for u in units],
+        "running_h": [h[RUNNING] for h in hours],
+        "operating_h": [h[RUNNING] * u.share for u, h in zip(units, hours, strict=True)],
+        "waiting_spare_h": [h[WAITING_SPARE] for h in hours],
+        "waiting_crew_h": [h[WAITING_CREW] for h in hours],
+        "repair_h": [h[REPAIR] for h in hours],
+        "planned_h": [h[PLANNED_WORK] for h in hours],
+        "down_h": down,
+        "availability": [h[RUNNING] / horizon_h for h in hours],
+        "failures": [u.failures for u in units],
+        "stops": [u.stops for u in units],
+    }
+
+
+def position_columns(units: list[UnitRunner]) -> dict[str, list[Any]]:
+    """The ``positions`` table of :class:`~fleetsim.sim.records.ReplicationResult`, by column."""
+    owner = [u for u in units for _ in u.positions]
+    ps = [p for u in units for p in u.positions]
+    return {
+        "unit": [u.id for u in owner],
+        "position": [p.id for p in ps],
+        "machine": [u.machine.id for u in owner],
+        "bearing": [p.bearing_id for p in ps],
+        "policy": [p.policy.kind for p in ps],
+        "failures": [p.failures for p in ps],
+        "planned": [p.planned for p in ps],
+        "opportunistic": [p.opportunistic for p in ps],
+        "defects": [p.defects for p in ps],
+        "detections": [p.detections for p in ps],
+        "age_end_h": [u.clock_op - p.installed_op for u, p in zip(owner, ps, strict=True)],
+    }

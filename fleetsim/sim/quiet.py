@@ -1,0 +1,155 @@
+"""The process of a *quiet* machine unit: one that nothing outside can wake.
+
+A unit is quiet when every position is run-to-failure or age-replaced without
+a P-F interval, its spares are unlimited, crews are unlimited and no group
+holds its planned work back. Then no store, crew, calendar or group can change
+what the unit does next: it runs until the earliest failure or due age, stops,
+is repaired and runs again. :func:`quiet_process` does exactly what
+:meth:`UnitRunner.run <fleetsim.sim.unit.UnitRunner.run>` does for such a unit
+(same event log, same records, bit for bit; ``tests/test_sim_quiet.py``
+checks it), in one generator with the stop inlined, so a failure costs one
+timeout and a handful of Python statements. Most fleets in large studies are
+quiet, which makes this the engine's hot path.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Generator
+from typing import TYPE_CHECKING, Any
+
+import simpy
+
+from fleetsim.sim.unit import INF, PLANNED_WORK, REPAIR, RUNNING
+
+if TYPE_CHECKING:
+    from fleetsim.sim.unit import PositionState, UnitRunner
+
+
+def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
+    """The SimPy process of the quiet unit ``u`` (see the module docstring)."""
+    env = u.env
+    positions = u.positions
+    share = u.share
+    counts = u.counts
+    log = u.log
+    uid = u.id
+    down = u.ctx.groups.unit_down
+    up = u.ctx.groups.unit_up
+    crews = u.ctx.crews
+    unplanned = u.ctx.crews_spec.unplanned_repair
+    planned = u.ctx.crews_spec.planned_repair
+    sampler = u.ctx.life_sampler
+    random_stops = u.random_stops
+    index = u.index
+    phase_h = u.phase_h
+    opportunistic = u.opportunistic
+    timeout = env.timeout
+    while True:
+        # Running, with the operating-hour clock synchronised to now.
+        now = env.now
+        clock = u.clock_op
+        nxt = INF
+        failed: list[PositionState] | None = None
+        due: list[PositionState] | None = None
+        for p in positions:
+            fail_op = p.fail_op
+            if fail_op <= clock:
+                if failed is None:
+                    failed = [p]
+                else:
+                    failed.append(p)
+                continue
+            if fail_op < nxt:
+                nxt = fail_op
+            due_op = p.due_op
+            if due_op <= clock:
+                p.due_op = INF
+                p.pending = True
+                if due is None:
+                    due = [p]
+                else:
+                    due.append(p)
+            elif due_op < nxt:
+                nxt = due_op
+        if failed is None and due is None:
+            if nxt == INF or not share > 0.0:
+                return  # nothing more can happen to this unit (it may never age)
+            delay = (now + (nxt - clock) / share) - now
+            yield timeout(delay)
+            u.t_sync = env.now
+            u.clock_op = max(nxt, clock + share * delay)
+            continue
+
+        # Stop: a failure (repair) or due ages (planned work), crews and spares at hand.
+        u.running = False
+        phase_h[RUNNING] += now - u.phase_t
+        u.phase_t = now
+        u.stops += 1
+        down(index, now)
+        if failed is not None:
+            u.phase = REPAIR
+            for p in failed:
+                p.failed = True
+                p.defects += 1
+                p.failures += 1
+                p.store.issue()
+                if log is not None:
+                    log(now, uid, p.id, "failure")
+            counts["defects"] += len(failed)
+            counts["failures"] += len(failed)
+            u.failures += len(failed)
+            if log is not None:
+                log(now, uid, "", "work")
+            duration = unplanned.quantile(failed[0].stop_u)
+        else:
+            u.phase = PLANNED_WORK
+            if log is not None:
+                log(now, uid, "", "stop")
+            duration = planned.quantile(due[0].stop_u)  # type: ignore[index]
+        work = [(p, "corrective") for p in failed] if failed is not None else []
+        if due is not None or opportunistic:
+            for p in positions:
+                if p.failed:
+                    continue
+                if p.pending:
+                    p.store.issue()
+                    work.append((p, "planned"))
+                    continue
+                s = p.policy.opportunistic_share
+                if s is not None and p.interval_h and clock - p.installed_op >= s * p.interval_h:
+                    p.store.issue()
+                    work.append((p, "opportunistic"))
+        if duration > 0.0:
+            yield timeout(duration)
+            now = env.now
+        for p, kind in work:
+            if kind == "planned":
+                p.planned += 1
+                counts["planned"] += 1
+            elif kind == "opportunistic":
+                p.opportunistic += 1
+                counts["opportunistic"] += 1
+            if log is not None:
+                log(now, uid, p.id, kind)
+            # A new bearing: UnitRunner.install for k >= 1 without a P-F interval, inlined.
+            k = p.k
+            if sampler is None:
+                life = p.life.life_from_uniform(p.life_table.get(k, p.unit_no, p.slot))
+            else:
+                life = float(sampler(uid, p.id, k))
+            if random_stops:
+                p.stop_u = p.stop_table.get(k, p.unit_no, p.slot)  # type: ignore[union-attr]
+            p.k = k + 1
+            p.installed_op = clock
+            p.defect_op = p.fail_op = clock + life
+            p.due_op = clock + p.interval_h if p.is_age and p.interval_h else INF
+            p.failed = p.pending = False
+        crews.busy_h += duration
+        u.t_sync = now
+        u.running = True
+        phase_h[u.phase] += now - u.phase_t
+        u.phase = RUNNING
+        u.phase_t = now
+        up(index, now)
+        if log is not None:
+            log(now, uid, "", "up")
