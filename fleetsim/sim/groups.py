@@ -17,6 +17,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from functools import partial
 
 
 @dataclass
@@ -102,6 +103,15 @@ class GroupTracker:
                         wake()
         else:
             self._member_up(self.fleet, now)
+
+    def switches(self, unit: int) -> tuple[Callable[[float], object], Callable[[float], object]]:
+        """``(down(now), up(now))``: :meth:`unit_down` and :meth:`unit_up` for one unit.
+
+        Without groups they go straight to the fleet's counter (one call less per stop).
+        """
+        if self.by_groups:
+            return partial(self.unit_down, unit), partial(self.unit_up, unit)
+        return partial(self._member_down, self.fleet), partial(self._member_up, self.fleet)
 
     def holds(self, unit: int) -> bool:
         """True when a group of ``unit`` holds planned work back (see :meth:`may_stop`)."""

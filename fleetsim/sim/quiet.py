@@ -33,14 +33,12 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
     counts = u.counts
     log = u.log
     uid = u.id
-    down = u.ctx.groups.unit_down
-    up = u.ctx.groups.unit_up
+    down, up = u.ctx.groups.switches(u.index)
     crews = u.ctx.crews
     unplanned = u.ctx.crews_spec.unplanned_repair
     planned = u.ctx.crews_spec.planned_repair
     sampler = u.ctx.life_sampler
     random_stops = u.random_stops
-    index = u.index
     phase_h = u.phase_h
     opportunistic = u.opportunistic
     timeout = env.timeout
@@ -77,7 +75,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
             delay = (now + (nxt - clock) / share) - now
             yield timeout(delay)
             u.t_sync = env.now
-            u.clock_op = max(nxt, clock + share * delay)
+            ran = clock + share * delay
+            u.clock_op = ran if ran > nxt else nxt  # land on the target despite rounding
             continue
 
         # Stop: a failure (repair) or due ages (planned work), crews and spares at hand.
@@ -85,7 +84,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[RUNNING] += now - u.phase_t
         u.phase_t = now
         u.stops += 1
-        down(index, now)
+        down(now)
         if failed is not None:
             u.phase = REPAIR
             for p in failed:
@@ -106,27 +105,35 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
             if log is not None:
                 log(now, uid, "", "stop")
             duration = planned.quantile(due[0].stop_u)  # type: ignore[index]
-        work = [(p, "corrective") for p in failed] if failed is not None else []
+        # The positions changed in this stop: failed, then due (pending) and opportunistic
+        # ones in position order; a changed position neither failed nor pending is an
+        # opportunistic change.
+        work = failed if failed is not None else []
         if due is not None or opportunistic:
+            work = list(work)
             for p in positions:
                 if p.failed:
                     continue
                 if p.pending:
                     p.store.issue()
-                    work.append((p, "planned"))
+                    work.append(p)
                     continue
                 s = p.policy.opportunistic_share
                 if s is not None and p.interval_h and clock - p.installed_op >= s * p.interval_h:
                     p.store.issue()
-                    work.append((p, "opportunistic"))
+                    work.append(p)
         if duration > 0.0:
             yield timeout(duration)
             now = env.now
-        for p, kind in work:
-            if kind == "planned":
+        for p in work:
+            if p.failed:
+                kind = "corrective"
+            elif p.pending:
+                kind = "planned"
                 p.planned += 1
                 counts["planned"] += 1
-            elif kind == "opportunistic":
+            else:
+                kind = "opportunistic"
                 p.opportunistic += 1
                 counts["opportunistic"] += 1
             if log is not None:
@@ -150,6 +157,6 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[u.phase] += now - u.phase_t
         u.phase = RUNNING
         u.phase_t = now
-        up(index, now)
+        up(now)
         if log is not None:
             log(now, uid, "", "up")

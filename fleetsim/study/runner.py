@@ -58,6 +58,16 @@ def _chunks(indexes: list[int], size: int) -> Iterable[list[int]]:
         yield indexes[k : k + size]
 
 
+def _guided_chunks(indexes: list[int], workers: int) -> Iterable[list[int]]:
+    """Chunks that shrink as the work runs out (a quarter of each worker's share of what
+    is left, at least one), so the workers finish close together."""
+    k, n = 0, len(indexes)
+    while k < n:
+        size = max(1, math.ceil((n - k) / (4 * workers)))
+        yield indexes[k : k + size]
+        k += size
+
+
 def _read_checkpoint(path: Path, key: str) -> dict[int, dict]:
     rows: dict[int, dict] = {}
     if not path.exists():
@@ -116,7 +126,8 @@ def run_replications(
     study_key
         Identifies the study in the checkpoint (scenario digest, seed, settings).
     chunk_size
-        Replications per task sent to a worker (default: about 8 chunks per worker).
+        Replications per task sent to a worker (default: chunks that shrink from a
+        quarter of each worker's share down to one replication).
     cluster
         Run on Dask instead of a local process pool: a scheduler address
         (``"tcp://host:8786"``) or ``"local"`` for a ``LocalCluster`` of
@@ -157,32 +168,46 @@ def run_replications(
         if progress is not None:
             progress(len(rows), replications)
 
+    chunks = list(_chunks(todo, chunk_size) if chunk_size else _guided_chunks(todo, workers))
     try:
         if cluster is not None:
-            size = chunk_size or max(1, math.ceil(len(todo) / (workers * 8)))
-            _run_on_dask(task, payload, seed, list(_chunks(todo, size)), cluster, workers, record)
+            _run_on_dask(task, payload, seed, chunks, cluster, workers, record)
         elif workers == 1 or len(todo) <= 1:
             size = chunk_size or max(1, min(25, math.ceil(len(todo) / 20) if todo else 1))
             for chunk in _chunks(todo, size):
                 record(_run_chunk(task, payload, seed, chunk))
         else:
-            size = chunk_size or max(1, math.ceil(len(todo) / (workers * 8)))
-            with ProcessPoolExecutor(
-                max_workers=workers, initializer=_init_worker, initargs=(task, payload, seed)
-            ) as pool:
-                pending: set[Future] = {
-                    pool.submit(_run_chunk_in_worker, chunk) for chunk in _chunks(todo, size)
-                }
-                while pending:
-                    finished, pending = wait(pending, return_when=FIRST_COMPLETED)
-                    for fut in finished:
-                        record(fut.result())
+            _run_in_pool(task, payload, seed, chunks, workers, record)
     finally:
         if ck_file is not None:
             ck_file.close()
     table = pd.DataFrame([rows[i] for i in sorted(rows)])
     cols = ["replication"] + [c for c in table.columns if c != "replication"]
     return table[cols].reset_index(drop=True)
+
+
+def _run_in_pool(
+    task: ReplicationTask,
+    payload: Any,
+    seed: int,
+    chunks: list[list[int]],
+    workers: int,
+    record: Callable[[list[dict]], None],
+) -> None:
+    """Run chunks in a local process pool, recording them in the order they finish."""
+    pool = ProcessPoolExecutor(
+        max_workers=workers, initializer=_init_worker, initargs=(task, payload, seed)
+    )
+    try:
+        pending: set[Future] = {pool.submit(_run_chunk_in_worker, chunk) for chunk in chunks}
+        while pending:
+            finished, pending = wait(pending, return_when=FIRST_COMPLETED)
+            for fut in finished:
+                record(fut.result())
+    finally:
+        # Every result is in (or the study failed): let the workers exit in the
+        # background instead of waiting for their interpreters to shut down.
+        pool.shutdown(wait=False, cancel_futures=True)
 
 
 def _run_on_dask(
