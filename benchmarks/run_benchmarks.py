@@ -50,6 +50,8 @@ from fleetsim.scenario.model import (  # noqa: E402
 LIFE = LifeDistribution(shape=1.5, scale_h=40_000.0, location_h=2_000.0)
 HORIZON_H = 10 * HOURS_PER_YEAR
 POSITIONS_PER_UNIT = 4
+#: Rounds of alternated yardstick timings (medians are reported).
+YARDSTICK_ROUNDS = 7
 
 
 def fleet(positions: int, policy: Policy, repair_h: float = 0.0) -> Scenario:
@@ -70,7 +72,7 @@ def position_years(scenario: Scenario) -> float:
     return scenario.position_count * HORIZON_H / HOURS_PER_YEAR
 
 
-def timed(fn, min_seconds: float = 1.0, max_runs: int = 50) -> float:  # type: ignore[no-untyped-def]
+def timed(fn, min_seconds: float = 1.0, max_runs: int = 200) -> float:  # type: ignore[no-untyped-def]
     """Seconds per call (at least one call, repeated up to ``min_seconds``)."""
     runs, start = 0, time.perf_counter()
     while True:
@@ -98,6 +100,14 @@ def bare_simpy(positions: int, seed: int) -> int:
         env.process(position())
     env.run(until=HORIZON_H)
     return failures[0]
+
+
+def bare_simpy_paused(positions: int, seed: int) -> int:
+    """:func:`bare_simpy` with the cyclic garbage collector paused, as the DES does."""
+    from fleetsim.sim.gcpause import gc_paused
+
+    with gc_paused():
+        return bare_simpy(positions, seed)
 
 
 def bare_numpy(positions: int, seed: int) -> int:
@@ -138,6 +148,11 @@ def _cell(row: dict, key: str, width: int = 12, spec: str = ",.0f") -> str:
     return f"{row[key]:>{width}{spec}}" if key in row else f"{'—':>{width}}"
 
 
+def _ratio(runs: dict[str, list[float]], a: str, b: str) -> float:
+    """Median over rounds of the ratio a/b (each round times a and b back to back)."""
+    return float(np.median(np.array(runs[a]) / np.array(runs[b])))
+
+
 def throughput(sizes: list[int], des_max: int) -> dict:
     out: dict = {"engines": {}, "yardsticks": {}}
     print("\nThroughput (position-years per second; repair 8 h, zero for yardstick runs)")
@@ -153,32 +168,40 @@ def throughput(sizes: list[int], des_max: int) -> dict:
                 d = py / timed(lambda i, sc=sc: des_run(sc, i))
                 out["engines"][f"des/{name}/{n}"] = d
                 print(f"{'des':<8} {name:<15} {n:>9} {d:>12,.0f}")
-    print("\nRun-to-failure against the yardsticks (zero repair time, same fleet; medians of 3)")
-    print(f"{'positions':>9} {'bare simpy':>12} {'des':>12} {'des/simpy':>10} "
-          f"{'bare numpy':>12} {'vector':>12} {'vec/numpy':>10} {'vec/des':>8}")
+    print("\nRun-to-failure against the yardsticks (zero repair time, same fleet; medians of "
+          f"{YARDSTICK_ROUNDS} alternated rounds)")
+    print("The DES pauses Python's cyclic garbage collector during a replication; 'simpy*' is the "
+          "bare SimPy model with it paused too (like for like)")
+    print(f"{'positions':>9} {'bare simpy':>12} {'simpy*':>12} {'des':>12} {'des/simpy':>10} "
+          f"{'des/simpy*':>10} {'bare numpy':>12} {'vector':>12} {'vec/numpy':>10} {'vec/des':>8}")
     for n in sizes:
         sc = fleet(n, Policy())
         py = position_years(sc)
-        # Alternate each engine with its yardstick three times and take medians: the
-        # speed of this machine drifts by ±20 % over minutes.
-        runs: dict[str, list[float]] = {"vector": [], "bare_numpy": [], "des": [], "bare_simpy": []}
-        for _ in range(3):
-            runs["vector"].append(py / timed(lambda i, sc=sc: vector_run(sc, i)))
-            runs["bare_numpy"].append(py / timed(lambda i, n=n: bare_numpy(n, i)))
+        # Alternate each engine with its yardsticks and take medians of the per-round
+        # ratios: the speed of this machine drifts by ±20 % over minutes.
+        runs: dict[str, list[float]] = {k: [] for k in
+                                        ("vector", "bare_numpy", "des", "bare_simpy", "simpy_paused")}
+        for _ in range(YARDSTICK_ROUNDS):
+            runs["vector"].append(py / timed(lambda i, sc=sc: vector_run(sc, i), 0.3))
+            runs["bare_numpy"].append(py / timed(lambda i, n=n: bare_numpy(n, i), 0.3))
             if n <= des_max:
-                runs["bare_simpy"].append(py / timed(lambda i, n=n: bare_simpy(n, i)))
-                runs["des"].append(py / timed(lambda i, sc=sc: des_run(sc, i)))
+                runs["bare_simpy"].append(py / timed(lambda i, n=n: bare_simpy(n, i), 0.3))
+                runs["des"].append(py / timed(lambda i, sc=sc: des_run(sc, i), 0.3))
+                runs["simpy_paused"].append(py / timed(lambda i, n=n: bare_simpy_paused(n, i), 0.3))
         med = {k: float(np.median(v)) for k, v in runs.items() if v}
-        vec, npy = med["vector"], med["bare_numpy"]
-        row = {"bare_numpy": npy, "vector": vec, "vector_over_numpy": vec / npy}
+
+        row = {"bare_numpy": med["bare_numpy"], "vector": med["vector"],
+               "vector_over_numpy": _ratio(runs, "vector", "bare_numpy")}
         if n <= des_max:
-            sp, des = med["bare_simpy"], med["des"]
-            row.update(bare_simpy=sp, des=des, des_over_simpy=des / sp, vector_over_des=vec / des)
+            row.update(bare_simpy=med["bare_simpy"], bare_simpy_paused=med["simpy_paused"],
+                       des=med["des"], des_over_simpy=_ratio(runs, "des", "bare_simpy"),
+                       des_over_simpy_paused=_ratio(runs, "des", "simpy_paused"),
+                       vector_over_des=_ratio(runs, "vector", "des"))
         out["yardsticks"][n] = row
-        print(f"{n:>9} {_cell(row, 'bare_simpy')} {_cell(row, 'des')} "
-              f"{_cell(row, 'des_over_simpy', 10, '.2f')} {_cell(row, 'bare_numpy')} "
-              f"{_cell(row, 'vector')} {_cell(row, 'vector_over_numpy', 10, '.2f')} "
-              f"{_cell(row, 'vector_over_des', 8, '.2f')}")
+        print(f"{n:>9} {_cell(row, 'bare_simpy')} {_cell(row, 'bare_simpy_paused')} {_cell(row, 'des')} "
+              f"{_cell(row, 'des_over_simpy', 10, '.2f')} {_cell(row, 'des_over_simpy_paused', 10, '.2f')} "
+              f"{_cell(row, 'bare_numpy')} {_cell(row, 'vector')} "
+              f"{_cell(row, 'vector_over_numpy', 10, '.2f')} {_cell(row, 'vector_over_des', 8, '.2f')}")
     return out
 
 

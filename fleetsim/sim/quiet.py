@@ -8,8 +8,8 @@ is repaired and runs again. :func:`quiet_process` does exactly what
 :meth:`UnitRunner.run <fleetsim.sim.unit.UnitRunner.run>` does for such a unit
 (same event log, same records, bit for bit; ``tests/test_sim_quiet.py``
 checks it), in one generator with the stop inlined, so a failure costs one
-timeout and a handful of Python statements. Most fleets in large studies are
-quiet, which makes this the engine's hot path.
+timeout and a handful of Python statements. A fleet on run-to-failure and age
+replacement without finite stores or crews is all quiet units.
 """
 
 from __future__ import annotations
