@@ -612,6 +612,22 @@ def test_write_tables_without_events(tmp_path) -> None:
     )
 
 
+def test_csv_text_cells_are_not_read_as_formulas(tmp_path) -> None:
+    from fleetsim.report.tables import spreadsheet_safe
+
+    frame = pd.DataFrame({"unit": ["=SUM(A1:A9)", "+1", "-2", "@cmd", "pump-A", "\tx"],
+                          "value": [-3.0, 1.0, 2.0, 3.0, 4.0, 5.0]})
+    safe = spreadsheet_safe(frame)
+    assert list(safe["unit"]) == ["'=SUM(A1:A9)", "'+1", "'-2", "'@cmd", "pump-A", "'\tx"]
+    assert safe["value"].equals(frame["value"])  # numbers, negative ones too, are left alone
+    assert frame["unit"][0] == "=SUM(A1:A9)"  # the caller's frame is not changed
+    results = make_results()[1:]
+    paths = write_tables(results, tmp_path, labels=["=HYPERLINK(1)"] * len(results))
+    for name in ("replications", "summary", "headline"):
+        text = paths[name].read_text(encoding="utf-8")
+        assert "'=HYPERLINK(1)" in text and "\n=HYPERLINK" not in text
+
+
 # --- figures ------------------------------------------------------------------------------------
 
 

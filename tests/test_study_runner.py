@@ -83,6 +83,34 @@ def test_summarise_columns() -> None:
     assert s.loc["x", "ci_low"] < s.loc["x", "mean"] < s.loc["x", "ci_high"]
 
 
+def test_intervals_are_cut_to_the_figures_range() -> None:
+    import pandas as pd
+
+    # Stock-outs in 1 replication of 20, availability near 1: the t-interval of the
+    # mean reaches below 0 and above 1, which no mean of these figures can.
+    stockouts = np.array([0.0] * 19 + [6.0])
+    availability = np.array([1.0] * 19 + [0.9])
+    raw = estimate(stockouts)
+    assert raw.low < 0.0  # the uncut t-interval
+    s = summarise(pd.DataFrame({"stockouts": stockouts, "availability": availability,
+                                "other": stockouts}))
+    assert s.loc["stockouts", "ci_low"] == 0.0
+    assert s.loc["stockouts", "ci_high"] == pytest.approx(raw.high)
+    assert s.loc["availability", "ci_high"] == 1.0
+    assert s.loc["availability", "ci_low"] == pytest.approx(estimate(availability).low)
+    assert s.loc["other", "ci_low"] == pytest.approx(raw.low)  # not a figure: left alone
+
+
+def test_guided_chunks_cover_every_replication_once() -> None:
+    from fleetsim.study.runner import _guided_chunks
+
+    for n, workers in ((1, 2), (7, 2), (200, 2), (1000, 8)):
+        chunks = list(_guided_chunks(list(range(n)), workers))
+        assert [i for c in chunks for i in c] == list(range(n))
+        sizes = [len(c) for c in chunks]
+        assert sizes == sorted(sizes, reverse=True) and sizes[-1] == 1
+
+
 def test_dask_local_cluster_gives_the_same_result() -> None:
     one = run_replications(normal_task, (1.0, 2.0), replications=24, seed=11, workers=1)
     dask = run_replications(normal_task, (1.0, 2.0), replications=24, seed=11, workers=2,

@@ -207,7 +207,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     import pandas as pd
 
     from fleetsim.study.advice import analytic_cost_curve
-    from fleetsim.study.summary import estimate
+    from fleetsim.study.summary import figure_estimate
     from fleetsim.study.variants import grid_variants, read_document
 
     document, text = read_document(scenario)
@@ -235,7 +235,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
         hours = [r.scenario.machines[0].positions[0].policy.interval_h for r in results]
         rows = []
         for h, r in zip(hours, results, strict=True):
-            est = estimate(r.replications["cost_per_year"])
+            est = figure_estimate(r.replications["cost_per_year"], "cost_per_year")
             rows.append({"interval_h": h, "mean": est.mean, "ci_low": est.low, "ci_high": est.high})
         sweep_table = pd.DataFrame(rows)
         if all(h is not None for h in hours):
@@ -254,7 +254,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     _finish(results, out_dir, ck, f"{base.study.name}: sweep", as_json, quiet, extra,
             stock_from=best, sweep=sweep_table, sweep_analytic=analytic)
     if not as_json:
-        est = estimate(results[best].replications[figure])
+        est = figure_estimate(results[best].replications[figure], figure)
         click.echo(f"\nBest on {figure}: {variants[best].name} — {est.mean:,.4g} "
                    f"(95 % CI {est.low:,.4g} to {est.high:,.4g})")
         if best_at_edge:

@@ -13,6 +13,11 @@ one file:
     divided by the horizon in years).
 ``events.csv``
     The event log of the first replication (only when a study kept one).
+
+Text cells that a spreadsheet would read as a formula (starting with ``=``,
+``+``, ``-``, ``@``, a tab or a carriage return: a unit or variant named by a
+user, say) are written with a leading apostrophe, the usual defence against
+formula injection through CSV files (OWASP, from memory).
 """
 
 from __future__ import annotations
@@ -152,6 +157,20 @@ def _with_variant(frame: pd.DataFrame, label: str) -> pd.DataFrame:
     return out
 
 
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+def spreadsheet_safe(frame: pd.DataFrame) -> pd.DataFrame:
+    """A copy of ``frame`` whose text cells no spreadsheet reads as formulas (see above)."""
+    out = frame.copy()
+    for col in out.columns:
+        if pd.api.types.is_object_dtype(out[col]) or pd.api.types.is_string_dtype(out[col]):
+            out[col] = out[col].map(
+                lambda v: "'" + v if isinstance(v, str) and v.startswith(_FORMULA_START) else v
+            )
+    return out
+
+
 def write_tables(
     results: Sequence[StudyResult], directory: Path, labels: Sequence[str] | None = None
 ) -> dict[str, Path]:
@@ -184,9 +203,11 @@ def write_tables(
     for name, parts in frames.items():
         if parts:
             paths[name] = directory / f"{name}.csv"
-            pd.concat(parts, ignore_index=True).to_csv(
+            spreadsheet_safe(pd.concat(parts, ignore_index=True)).to_csv(
                 paths[name], index=False, lineterminator="\n"
             )
     paths["headline"] = directory / "headline.csv"
-    headline_table(results, labels).to_csv(paths["headline"], index=False, lineterminator="\n")
+    spreadsheet_safe(headline_table(results, labels)).to_csv(
+        paths["headline"], index=False, lineterminator="\n"
+    )
     return paths

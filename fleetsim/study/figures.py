@@ -77,3 +77,19 @@ def unit_of(column: str) -> str:
     if key is None:
         return FLEET_FIGURES[prefix][0]
     return KEYED_FIGURES[prefix][1]
+
+
+#: Units of figures that lie between 0 and 1; every other figure is >= 0.
+_UNIT_SHARES = ("share", "0/1")
+
+
+def range_of(column: str) -> tuple[float, float] | None:
+    """The values a figure can take: ``(0, 1)`` for shares, ``(0, inf)`` for the rest.
+
+    None for a column that is not a figure of this module.
+    """
+    try:
+        unit = unit_of(column)
+    except KeyError:
+        return None
+    return (0.0, 1.0) if unit in _UNIT_SHARES else (0.0, float("inf"))

@@ -138,12 +138,12 @@ def compare(
 
 def paired_table(results: list[StudyResult], figure: str = "cost_per_year") -> pd.DataFrame:
     """Each variant's mean and its paired difference from the first, with 95 % intervals."""
-    from fleetsim.study.summary import estimate, paired_difference
+    from fleetsim.study.summary import figure_estimate, paired_difference
 
     base = results[0].figure(figure)
     rows = []
     for r in results:
-        est = estimate(r.figure(figure))
+        est = figure_estimate(r.figure(figure), figure)
         diff = paired_difference(r.figure(figure), base)
         rows.append({
             "variant": r.label,

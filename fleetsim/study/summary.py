@@ -5,6 +5,12 @@ summary gives, for each figure, the mean, the standard deviation, the standard
 error and a two-sided confidence interval for the mean from Student's t
 distribution (replications are independent), plus percentiles across
 replications.
+
+A figure that cannot be negative (a count, hours, a cost) or lies between 0
+and 1 (a share) has its interval cut to that range: on a figure that is zero
+in most replications the t-interval can reach below zero, which no mean of
+that figure can (common practice; the cut interval covers the true mean
+whenever the uncut one does).
 """
 
 from __future__ import annotations
@@ -14,6 +20,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 from scipy import stats
+
+from fleetsim.study.figures import range_of
 
 
 @dataclass(frozen=True)
@@ -41,8 +49,16 @@ class Estimate:
         return {"mean": self.mean, "low": self.low, "high": self.high, "sem": self.sem, "n": self.n}
 
 
-def estimate(values: np.ndarray | pd.Series, confidence: float = 0.95) -> Estimate:
-    """Mean and Student-t confidence interval of independent replications."""
+def estimate(
+    values: np.ndarray | pd.Series,
+    confidence: float = 0.95,
+    within: tuple[float, float] | None = None,
+) -> Estimate:
+    """Mean and Student-t confidence interval of independent replications.
+
+    ``within = (low, high)``: the range the quantity can take; the interval is
+    cut to it.
+    """
     x = np.asarray(values, dtype=float)
     x = x[np.isfinite(x)]
     n = x.size
@@ -54,7 +70,16 @@ def estimate(values: np.ndarray | pd.Series, confidence: float = 0.95) -> Estima
         return Estimate(mean, float("nan"), float("nan"), float("nan"), 1)
     sem = float(x.std(ddof=1) / np.sqrt(n))
     half = float(stats.t.ppf(0.5 + confidence / 2, n - 1)) * sem
-    return Estimate(mean, mean - half, mean + half, sem, n)
+    low, high = mean - half, mean + half
+    if within is not None:
+        low, high = max(low, within[0]), min(high, within[1])
+    return Estimate(mean, low, high, sem, n)
+
+
+def figure_estimate(values: np.ndarray | pd.Series, figure: str,
+                    confidence: float = 0.95) -> Estimate:
+    """:func:`estimate` of a study figure, its interval cut to the figure's range."""
+    return estimate(values, confidence, range_of(figure))
 
 
 def summarise(table: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
@@ -78,7 +103,7 @@ def summarise(table: pd.DataFrame, confidence: float = 0.95) -> pd.DataFrame:
         if not pd.api.types.is_numeric_dtype(table[col]):
             continue
         x = table[col].to_numpy(dtype=float)
-        est = estimate(x, confidence)
+        est = estimate(x, confidence, range_of(str(col)))
         finite = x[np.isfinite(x)]
         pct = np.percentile(finite, [5, 50, 95]) if finite.size else [np.nan] * 3
         rows[col] = {
