@@ -126,6 +126,9 @@ def test_key_paths_and_values() -> None:
     assert doc["policy"] == {"kind": "age"}  # not modified
     assert parse_values("1:3:1", "x") == [1, 2, 3]
     assert parse_values("10:20:5 h", "x") == ["10 h", "15 h", "20 h"]
+    assert parse_values("8000, 16000 h", "x") == ["8000 h", "16000 h"]  # the unit applies to all
+    assert parse_values("8000 h, 2 years", "x") == ["8000 h", "2 years"]
+    assert parse_values("1, 2.5", "x") == [1, 2.5]
     assert parse_values('"a", {kind = "age", interval = "5 h"}', "x") == [
         "a", {"kind": "age", "interval": "5 h"}]
 
@@ -164,3 +167,22 @@ def test_interrupted_run_resumes_to_the_same_result(small: Path, tmp_path: Path,
     capsys.readouterr()
     assert (out / "summary.json").read_bytes() == (clean / "summary.json").read_bytes()
     assert not (tmp_path / ".resumed.checkpoints").exists()
+
+
+def test_a_discounted_study_says_so_everywhere(tmp_path: Path, capsys) -> None:
+    p = tmp_path / "disc.toml"
+    p.write_text(SMALL.replace("downtime_per_hour = 50", "downtime_per_hour = 50\ndiscount_rate = 0.07"))
+    out = tmp_path / "r"
+    assert main(["run", str(p), "--out", str(out), "--replications", "4"]) == 0
+    text = capsys.readouterr().out
+    assert "discounted at 7 % a year" in text and "equivalent annual cost" in text
+    summary = json.loads((out / "summary.json").read_text())
+    assert "7 %" in summary["extra"]["cost_basis"]
+    assert "discounted at 7 %" in (out / "report.html").read_text()
+    # the sweep leaves out its undiscounted closed-form curve, and says why
+    code = main(["sweep", str(p), "--vary", "policy.interval=8000,16000 h", "--json", "--quiet",
+                 "--out", str(tmp_path / "s"), "--replications", "4"])
+    assert code == 0
+    sweep = json.loads(capsys.readouterr().out)
+    assert "undiscounted" in sweep["extra"]["analytic_note"]
+    assert "analytic_optimum_interval_h" not in sweep["extra"]

@@ -4,7 +4,7 @@
 :meth:`UnitRunner.run` for units nothing outside can wake. Both are run on the
 same fleets and seeds — drawn by hypothesis over run-to-failure and age
 policies, opportunistic shares, fixed, zero and random stop durations,
-starting ages, operating shares and groups — and every event, count, cost and
+starting ages, operating shares, groups and discounted costs — and every event, count, cost and
 table must be equal, bit for bit.
 """
 
@@ -68,7 +68,8 @@ def quiet_fleets(draw: st.DrawFn) -> Scenario:
     crews = Crews(None, draw(st.sampled_from(DURATIONS)), draw(st.sampled_from(DURATIONS)))
     return Scenario(
         study=Study("quiet", 20_000.0, 1, 0),
-        costs=Costs(planned_replacement=100.0, failure=900.0, downtime_per_hour=20.0),
+        costs=Costs(planned_replacement=100.0, failure=900.0, downtime_per_hour=20.0,
+                    discount_rate_per_year=draw(st.sampled_from([0.0, 0.07]))),
         bearings={B: Bearing(B, "ball", 10_000.0, price=50.0)},
         machines=tuple(machines),
         groups=groups,

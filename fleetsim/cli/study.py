@@ -117,6 +117,11 @@ def _finish(results, out_dir: Path, ck_dir: Path, title: str, as_json: bool, qui
     advice = recommended_stock(results[stock_from])
     stock = {a.bearing: a.base_stock for a in advice}
     extra = dict(extra)
+    rate = results[0].scenario.costs.discount_rate_per_year
+    discounted = (f"costs discounted at {100 * rate:.4g} % a year to present values at the start; "
+                  "cost per year is the equivalent annual cost") if rate > 0 else ""
+    if discounted:
+        extra["cost_basis"] = discounted
     extra["recommended_stock_95pct_fill_rate"] = {
         "variant": results[stock_from].label,
         "levels": {a.bearing: {"base_stock": a.base_stock, "fill_rate": a.fill_rate,
@@ -140,6 +145,8 @@ def _finish(results, out_dir: Path, ck_dir: Path, title: str, as_json: bool, qui
         echo_json(summary)
         return
     click.echo(summary_table(results).rstrip())
+    if discounted:
+        click.echo(f"({discounted[0].upper()}{discounted[1:]}.)")
     if stock:
         click.echo("\nRecommended stock for a 95 % fill rate (Palm's theorem on the simulated demand"
                    f" of {results[stock_from].label!r}):")
@@ -193,7 +200,7 @@ def _parse_vary(items: tuple[str, ...]) -> list[tuple[str, list[Any]]]:
 @click.command()
 @click.argument("scenario", type=click.Path(dir_okay=False))
 @click.option("--vary", multiple=True, required=True,
-              help="KEY=V1,V2,... or KEY=START:STOP:STEP UNIT; several --vary make a grid.")
+              help="KEY=V1,V2,... [UNIT] or KEY=START:STOP:STEP UNIT; several --vary make a grid.")
 @click.option("--objective", type=click.Choice(list(OBJECTIVES)), default="cost", show_default=True,
               help="What the best variant optimises: cost per year, availability or reliability.")
 @_common
@@ -238,7 +245,10 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
             est = figure_estimate(r.replications["cost_per_year"], "cost_per_year")
             rows.append({"interval_h": h, "mean": est.mean, "ci_low": est.low, "ci_high": est.high})
         sweep_table = pd.DataFrame(rows)
-        if all(h is not None for h in hours):
+        if base.costs.discount_rate_per_year > 0:
+            extra["analytic_note"] = ("no closed-form curve: it is an undiscounted long-run rate, "
+                                      "and this study discounts its costs")
+        elif all(h is not None for h in hours):
             lo, hi = min(hours), max(hours)
             grid = [lo + (hi - lo) * k / 200 for k in range(201)]
             analytic = analytic_cost_curve(base, grid)

@@ -142,6 +142,14 @@ def default_executive_summary(
     if recommended_stock:
         stock = ", ".join(f"{b}: {fmt_number(float(v))}" for b, v in recommended_stock.items())
         out.append(f"Recommended stock levels (units on hand): {stock}.")
+    rates = {r.scenario.costs.discount_rate_per_year for r in results}
+    if any(rate > 0 for rate in rates):
+        text = ", ".join(f"{fmt_number(100 * rate)} %" for rate in sorted(rates))
+        out.append(
+            f"Costs are present values at the start of the study, discounted at {text} a year; "
+            "a cost per year is the equivalent annual cost (the level yearly amount with the "
+            "same present value)."
+        )
     if sweep is not None and not sweep.empty and {"interval_h", "mean"} <= set(sweep.columns):
         row = sweep.loc[sweep["mean"].astype(float).idxmin()]
         cost = fmt_estimate(

@@ -21,6 +21,7 @@ import simpy
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
 from fleetsim.sim.crews import CrewPool
+from fleetsim.sim.discount import discount_for
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.policies import check_policy, start_calendar_policies
@@ -140,6 +141,7 @@ def _run(
     env = simpy.Environment()
     recorder = Recorder(keep_events)
     log = recorder.log if keep_events else None
+    discount = discount_for(scenario.costs.discount_rate_per_year)
 
     bearing_ids = sorted(
         {p.bearing_id for m in scenario.machines for p in m.positions} | set(scenario.stores)
@@ -148,10 +150,10 @@ def _run(
     for b, bid in enumerate(bearing_ids):
         stock = scenario.stores.get(bid)
         if stock is None:
-            stores[bid] = UnlimitedSupply(bid)
+            stores[bid] = UnlimitedSupply(bid, env, discount)
         else:
             emergency = streams.bearing(b, emergency=True) if stock.emergency_lead_time else None
-            stores[bid] = SpareStore(env, bid, stock, streams.bearing(b), emergency, log)
+            stores[bid] = SpareStore(env, bid, stock, streams.bearing(b), emergency, log, discount)
 
     unit_index: dict[str, list[int]] = {}
     n_units = sum(m.count for m in scenario.machines)
@@ -165,7 +167,7 @@ def _run(
         [g.hold_planned_work for g in scenario.groups],
     )
     ctx = SimContext(env, recorder, CrewPool(env, scenario.crews.count), scenario.crews,
-                     stores, groups, streams, life_sampler)
+                     stores, groups, streams, life_sampler, discount)
     units: list[UnitRunner] = []
     for mi, m in enumerate(scenario.machines):
         setup = MachineSetup(ctx, m, mi)
@@ -223,22 +225,31 @@ def _result(
 
     c = scenario.costs
     price = {bid: (scenario.bearings[bid].price if bid in scenario.bearings else 0.0) for bid in stores}
-    down_h = sum(unit_table["down_h"])
+    premium = {bid: scenario.stores[bid].emergency_premium if bid in scenario.stores else 0.0
+               for bid in stores}
+    if c.discount_rate_per_year > 0.0:  # present values (fleetsim.sim.discount)
+        pv = recorder.pv
+        changes, failures = pv["changes"], pv["failures"]
+        inspections, down_h = pv["inspections"], pv["down_h"]
+        issued = {bid: st.issued_pv for bid, st in stats.items()}
+        on_hand_h = {bid: st.on_hand_pv_area for bid, st in stats.items()}
+        emergency = {bid: st.emergency_pv for bid, st in stats.items()}
+    else:
+        changes = counts["planned"] + counts["opportunistic"]
+        failures, inspections = counts["failures"], counts["inspections"]
+        down_h = sum(unit_table["down_h"])
+        issued = {bid: st.issued for bid, st in stats.items()}
+        on_hand_h = {bid: st.on_hand_area for bid, st in stats.items()}
+        emergency = {bid: st.emergency_orders for bid, st in stats.items()}
     costs = {
-        "planned_labour": (counts["planned"] + counts["opportunistic"]) * c.planned_replacement,
-        "failure_labour": counts["failures"] * (c.planned_replacement + c.failure),
-        "parts": sum(st.issued * price[bid] for bid, st in stats.items()),
+        "planned_labour": changes * c.planned_replacement,
+        "failure_labour": failures * (c.planned_replacement + c.failure),
+        "parts": sum(issued[bid] * price[bid] for bid in stats),
         "downtime": down_h * c.downtime_per_hour,
-        "inspection": counts["inspections"] * c.inspection,
-        "holding": sum(
-            c.holding_rate_per_year * price[bid] * (st.on_hand_area / horizon) * years
-            for bid, st in stats.items()
-        ),
-        "emergency": sum(
-            st.emergency_orders * scenario.stores[bid].emergency_premium
-            for bid, st in stats.items()
-            if bid in scenario.stores
-        ),
+        "inspection": inspections * c.inspection,
+        "holding": sum(c.holding_rate_per_year * price[bid] * on_hand_h[bid] / HOURS_PER_YEAR
+                       for bid in stats),
+        "emergency": sum(emergency[bid] * premium[bid] for bid in stats),
     }
     costs["total"] = sum(costs.values())
 
@@ -256,6 +267,7 @@ def _result(
         counts=dict(counts),
         costs=costs,
         crew_busy_h=crew_busy_h,
+        discount_rate_per_year=c.discount_rate_per_year,
         tables={
             "events": events,
             "units": unit_table,

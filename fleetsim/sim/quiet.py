@@ -41,6 +41,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
     random_stops = u.random_stops
     phase_h = u.phase_h
     opportunistic = u.opportunistic
+    discount = u.discount
+    pv = u.pv
     timeout = env.timeout
     while True:
         # Running, with the operating-hour clock synchronised to now.
@@ -84,6 +86,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[RUNNING] += now - u.phase_t
         u.phase_t = now
         u.stops += 1
+        u.down_since = now
         down(now)
         if failed is not None:
             u.phase = REPAIR
@@ -91,12 +94,16 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 p.failed = True
                 p.defects += 1
                 p.failures += 1
-                p.store.issue()
+                p.store.issue(now)
                 if log is not None:
                     log(now, uid, p.id, "failure")
             counts["defects"] += len(failed)
             counts["failures"] += len(failed)
             u.failures += len(failed)
+            if discount is not None:
+                v = discount.factor(now)
+                for p in failed:  # one addition per failure, as the general process does
+                    pv["failures"] += v
             if log is not None:
                 log(now, uid, "", "work")
             duration = unplanned.quantile(failed[0].stop_u)
@@ -115,12 +122,12 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 if p.failed:
                     continue
                 if p.pending:
-                    p.store.issue()
+                    p.store.issue(now)
                     work.append(p)
                     continue
                 s = p.policy.opportunistic_share
                 if s is not None and p.interval_h and clock - p.installed_op >= s * p.interval_h:
-                    p.store.issue()
+                    p.store.issue(now)
                     work.append(p)
         if duration > 0.0:
             yield timeout(duration)
@@ -136,6 +143,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 kind = "opportunistic"
                 p.opportunistic += 1
                 counts["opportunistic"] += 1
+            if discount is not None and kind != "corrective":
+                pv["changes"] += discount.factor(now)
             if log is not None:
                 log(now, uid, p.id, kind)
             # A new bearing: UnitRunner.install for k >= 1 without a P-F interval, inlined.
@@ -157,6 +166,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[u.phase] += now - u.phase_t
         u.phase = RUNNING
         u.phase_t = now
+        if discount is not None:
+            pv["down_h"] += discount.integral(u.down_since, now)
         up(now)
         if log is not None:
             log(now, uid, "", "up")

@@ -25,7 +25,8 @@ kind                   meaning (``unit``, ``position``)
 ``up``                 the unit runs again (position ``""``)
 =====================  =========================================================
 
-Cost categories (money in the scenario's currency; not discounted):
+Cost categories (money in the scenario's currency; present values at the start
+when ``costs.discount_rate`` > 0, see :mod:`fleetsim.sim.discount`):
 
 * ``planned_labour`` = planned and opportunistic changes × ``costs.planned_replacement``;
 * ``failure_labour`` = failures × (``costs.planned_replacement`` + ``costs.failure``):
@@ -50,6 +51,7 @@ from typing import Any
 import pandas as pd
 
 from fleetsim.scenario.model import HOURS_PER_YEAR
+from fleetsim.sim.discount import per_year
 
 EVENT_COLUMNS = ("time_h", "unit", "position", "kind")
 DOWN_CAUSES = ("waiting_spare_h", "waiting_crew_h", "repair_h", "planned_h")
@@ -87,12 +89,17 @@ COUNT_NAMES = (
 class Recorder:
     """Mutable counters and the event log of a running replication."""
 
-    __slots__ = ("keep_events", "events", "counts")
+    __slots__ = ("keep_events", "events", "counts", "pv")
 
     def __init__(self, keep_events: bool) -> None:
         self.keep_events = keep_events
         self.events: list[tuple[float, str, str, str]] = []
         self.counts: dict[str, int] = dict.fromkeys(COUNT_NAMES, 0)
+        #: with discounting (:mod:`fleetsim.sim.discount`): the sum of discount factors of
+        #: failures, planned and opportunistic changes and inspections, and the integral
+        #: of the discount factor over every unit's stopped hours (``down_h``)
+        self.pv: dict[str, float] = dict.fromkeys(("failures", "changes", "inspections", "down_h"),
+                                                  0.0)
 
     def log(self, time_h: float, unit: str, position: str, kind: str) -> None:
         """Append one event to the log."""
@@ -130,6 +137,8 @@ class ReplicationResult:
         Cost by category and ``total`` (see the module docstring).
     crew_busy_h
         Crew-hours worked.
+    discount_rate_per_year
+        The rate the costs are discounted at (0: undiscounted).
     tables
         The raw columns of ``events``, ``units``, ``positions``, ``spares`` and
         ``groups`` (use the DataFrame properties below).
@@ -162,6 +171,7 @@ class ReplicationResult:
     costs: dict[str, float]
     crew_busy_h: float
     tables: dict[str, Table] = field(repr=False)
+    discount_rate_per_year: float = 0.0
 
     def _frame(self, name: str) -> pd.DataFrame:
         cache = self.__dict__.setdefault("_frames", {})
@@ -235,7 +245,7 @@ class ReplicationResult:
         u = self.tables["units"]
         operating = float(sum(u["operating_h"]))
         total = self.costs.get("total", 0.0)
-        out["cost.per_year"] = total / self.years
+        out["cost.per_year"] = per_year(total, self.years, self.discount_rate_per_year)
         out["cost.per_operating_h"] = total / operating if operating > 0 else math.nan
         out["operating_h"] = operating
         out["crew_busy_h"] = self.crew_busy_h

@@ -32,6 +32,7 @@ import numpy as np
 import simpy
 
 from fleetsim.scenario.model import Stock
+from fleetsim.sim.discount import Discount
 
 
 class Claim:
@@ -61,6 +62,7 @@ class StoreStats:
     __slots__ = (
         "demands", "issued", "stockouts", "orders", "emergency_orders", "ordered_units",
         "on_hand_area", "backorder_area", "on_hand_end", "backorders_end", "on_order_end",
+        "issued_pv", "on_hand_pv_area", "emergency_pv",
     )  # fmt: skip
 
     def __init__(self) -> None:
@@ -75,19 +77,30 @@ class StoreStats:
         self.on_hand_end = 0
         self.backorders_end = 0
         self.on_order_end = 0
+        # With discounting (fleetsim.sim.discount): the sums of discount factors of the
+        # spares issued and the emergency orders, and ∫ on_hand · v(t) dt.
+        self.issued_pv = 0.0
+        self.on_hand_pv_area = 0.0
+        self.emergency_pv = 0.0
 
 
 Log = Callable[[float, str, str, str], None]
 
 
 class UnlimitedSupply:
-    """A bearing with no stock entry: every request is filled at once."""
+    """A bearing with no stock entry: every request is filled at once.
+
+    ``env`` and ``discount`` are needed only to discount the parts it issues.
+    """
 
     limited = False
 
-    def __init__(self, bearing_id: str) -> None:
+    def __init__(self, bearing_id: str, env: simpy.Environment | None = None,
+                 discount: Discount | None = None) -> None:
         self.bearing_id = bearing_id
         self.stats = StoreStats()
+        self.env = env
+        self.discount = discount if env is not None else None
 
     def demand(
         self, unit: str, position: str, notify: Callable[[], None] | None, failure: bool = False
@@ -95,12 +108,16 @@ class UnlimitedSupply:
         """Issue a spare at once."""
         self.stats.demands += 1
         self.stats.issued += 1
+        if self.discount is not None:
+            self.stats.issued_pv += self.discount.factor(self.env.now)  # type: ignore[union-attr]
         return Claim(notify, filled=True)
 
-    def issue(self) -> None:
-        """Issue a spare without a claim (the quiet units' short cut)."""
+    def issue(self, now: float) -> None:
+        """Issue a spare at calendar hour ``now`` without a claim (the quiet units' short cut)."""
         self.stats.demands += 1
         self.stats.issued += 1
+        if self.discount is not None:
+            self.stats.issued_pv += self.discount.factor(now)
 
     def expedite(self, claim: Claim, unit: str, position: str) -> bool:
         """Never needed: claims are always filled."""
@@ -110,6 +127,8 @@ class UnlimitedSupply:
         """Issue a spare if one is on the shelf: always."""
         self.stats.demands += 1
         self.stats.issued += 1
+        if self.discount is not None:
+            self.stats.issued_pv += self.discount.factor(self.env.now)  # type: ignore[union-attr]
         return True
 
     def finish(self, horizon_h: float) -> StoreStats:
@@ -132,6 +151,8 @@ class SpareStore:
         Generators of normal and emergency lead times.
     log
         ``log(time_h, unit, position, kind)`` or None.
+    discount
+        Discounting of parts, holding and emergency premiums, or None.
     """
 
     limited = True
@@ -144,8 +165,10 @@ class SpareStore:
         lead_rng: np.random.Generator,
         emergency_rng: np.random.Generator | None,
         log: Log | None,
+        discount: Discount | None = None,
     ) -> None:
         self.env = env
+        self.discount = discount
         self.bearing_id = bearing_id
         self.stock = stock
         self.lead_rng = lead_rng
@@ -165,7 +188,14 @@ class SpareStore:
         if dt > 0.0:
             self.stats.on_hand_area += self.on_hand * dt
             self.stats.backorder_area += len(self.backorders) * dt
+            if self.discount is not None:
+                self.stats.on_hand_pv_area += self.on_hand * self.discount.integral(self._t_last, now)
             self._t_last = now
+
+    def _issued(self) -> None:
+        self.stats.issued += 1
+        if self.discount is not None:
+            self.stats.issued_pv += self.discount.factor(self.env.now)
 
     @property
     def inventory_position(self) -> int:
@@ -174,7 +204,7 @@ class SpareStore:
 
     def _fill(self, claim: Claim) -> None:
         self.on_hand -= 1
-        self.stats.issued += 1
+        self._issued()
         claim.filled = True
         if claim.notify is not None:
             claim.notify()
@@ -193,7 +223,7 @@ class SpareStore:
         claim = Claim(notify)
         if self.on_hand > 0:
             self.on_hand -= 1
-            self.stats.issued += 1
+            self._issued()
             claim.filled = True
         else:
             self.stats.stockouts += 1
@@ -212,7 +242,7 @@ class SpareStore:
         self._accrue()
         self.stats.demands += 1
         self.on_hand -= 1
-        self.stats.issued += 1
+        self._issued()
         self._review()
         return True
 
@@ -224,6 +254,8 @@ class SpareStore:
         assert self.emergency_rng is not None
         claim.expedited = True
         self.stats.emergency_orders += 1
+        if self.discount is not None:
+            self.stats.emergency_pv += self.discount.factor(self.env.now)
         self._place(1, lead.sample(self.emergency_rng), claim, "emergency_order", unit, position)
         return True
 

@@ -48,6 +48,7 @@ import simpy
 from fleetsim.life import LifeDistribution
 from fleetsim.scenario.model import Crews, Machine, Position
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
+from fleetsim.sim.discount import Discount
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.records import Recorder
 from fleetsim.sim.stores import Claim, SpareStore, UnlimitedSupply
@@ -76,6 +77,7 @@ class SimContext:
     groups: GroupTracker
     streams: Streams
     life_sampler: LifeSampler | None = None
+    discount: Discount | None = None
 
 
 class MachineSetup:
@@ -253,6 +255,9 @@ class UnitRunner:
         self.phase_h = [0.0] * 5
         self.stops = 0
         self.failures = 0
+        self.down_since = 0.0
+        self.discount = ctx.discount
+        self.pv = ctx.recorder.pv
         self.random_stops = setup.random_stops
         self.opportunistic = setup.opportunistic
         self.holds = ctx.groups.holds(unit_index)
@@ -308,6 +313,7 @@ class UnitRunner:
         self.phase = phase
         self.phase_t = now
         self.stops += 1
+        self.down_since = now
         self.ctx.groups.unit_down(self.index, now)
 
     def _go_up(self) -> None:
@@ -317,6 +323,8 @@ class UnitRunner:
         self.phase_h[self.phase] += now - self.phase_t
         self.phase = RUNNING
         self.phase_t = now
+        if self.discount is not None:
+            self.pv["down_h"] += self.discount.integral(self.down_since, now)
         self.ctx.groups.unit_up(self.index, now)
         if self.log is not None:
             self.log(now, self.id, "", "up")
@@ -357,6 +365,8 @@ class UnitRunner:
         self.failures += 1
         counts = self.counts
         counts["failures"] += 1
+        if self.discount is not None:
+            self.pv["failures"] += self.discount.factor(self.env.now)
         if p.is_condition:
             counts["failures_after_detection" if p.detected else "missed_defects"] += 1
         if self.log is not None:
@@ -396,6 +406,8 @@ class UnitRunner:
         self._sync()
         now = self.env.now
         self.counts["inspections"] += 1
+        if self.discount is not None:
+            self.pv["inspections"] += self.discount.factor(now)
         if self.log is not None:
             self.log(now, self.id, "", "inspection")
         clock = self.clock_op
@@ -587,6 +599,8 @@ class UnitRunner:
             elif kind == "opportunistic":
                 p.opportunistic += 1
                 counts["opportunistic"] += 1
+            if kind != "corrective" and self.discount is not None:
+                self.pv["changes"] += self.discount.factor(now)
             if self.log is not None:
                 self.log(now, self.id, p.id, kind)
             self.install(p)
@@ -599,6 +613,8 @@ class UnitRunner:
         """Close the books at the horizon: the operating clock and the current phase."""
         if self.running:
             self.clock_op += self.share * (horizon_h - self.t_sync)
+        elif self.discount is not None:
+            self.pv["down_h"] += self.discount.integral(self.down_since, horizon_h)
         self.t_sync = horizon_h
         self.phase_h[self.phase] += horizon_h - self.phase_t
         self.phase_t = horizon_h

@@ -35,6 +35,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from fleetsim.scenario.model import Duration, Machine, Scenario
+from fleetsim.sim.discount import discount_for, per_year
 from fleetsim.sim.streams import UniformTable
 
 _LIFE, _PF, _DET, _REPAIR_F, _REPAIR_P = 0, 1, 2, 3, 4
@@ -62,6 +63,12 @@ class _Tally:
     issued: np.ndarray | None = None  # per position index
     intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] | None = None  # (unit, start, end)
     first_stop_h: float = math.inf  # first stop of any unit (for a fleet without groups)
+    # With discounting (fleetsim.sim.discount), the engine's twins of the DES's sums:
+    pv_failures: float = 0.0  # Σ v(t) over failures
+    pv_changes: float = 0.0  # Σ v(t) over planned and opportunistic changes (end of the stop)
+    pv_inspections: float = 0.0
+    pv_down_h: float = 0.0  # ∫ v(t) dt over stopped hours
+    pv_issued: np.ndarray | None = None  # Σ v(t) over spares issued, per position index
 
 
 def _life_params(machine: Machine) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -78,6 +85,7 @@ class _Lanes:
                  horizon_h: float) -> None:
         self.m = machine
         self.horizon_h = horizon_h
+        self.discount = discount_for(scenario.costs.discount_rate_per_year)
         U, P = machine.count, len(machine.positions)
         self.U, self.P = U, P
         self.share = machine.operating_share
@@ -118,7 +126,7 @@ class _Lanes:
         uu, pp = np.indices((U, P))
         self._draw_life(uu.ravel(), pp.ravel(), residual_from=self.age.ravel())
         self.tally = _Tally(failures=np.zeros(U, dtype=np.int64), planned=np.zeros(U, dtype=np.int64),
-                            issued=np.zeros(P, dtype=np.int64), intervals=[])
+                            issued=np.zeros(P, dtype=np.int64), intervals=[], pv_issued=np.zeros(P))
 
     # --- random draws ----------------------------------------------------------------
     def _draw_life(self, u: np.ndarray, p: np.ndarray,
@@ -150,6 +158,8 @@ class _Lanes:
         self.detected[u, p] = False
         self.planned_at[u, p] = math.inf
         np.add.at(self.tally.issued, p, 1)
+        if self.discount is not None:  # spares are issued as the stop starts
+            np.add.at(self.tally.pv_issued, p, self.discount.factors(self.t[u]))
         self._draw_life(u, p)
 
     # --- stepping ----------------------------------------------------------------------
@@ -190,6 +200,8 @@ class _Lanes:
     def _inspect(self, lanes: np.ndarray) -> None:
         tl = self.tally
         tl.inspections += int(lanes.sum())
+        if self.discount is not None:
+            tl.pv_inspections += float(self.discount.factors(self.t[lanes]).sum())
         in_window = (
             lanes[:, None] & self.is_cond[None, :] & (self.age >= self.defect_age - _EPS)
             & ~self.detected
@@ -213,6 +225,8 @@ class _Lanes:
             fail_mask = lanes[:, None] & (t_fail_pos <= t[:, None] + _EPS)
             due |= fail_mask
             tl.failures += fail_mask.sum(axis=1)
+            if self.discount is not None:
+                tl.pv_failures += float((fail_mask.sum(axis=1) * self.discount.factors(t)).sum())
             tl.missed += int((fail_mask & self.is_cond[None, :] & ~self.detected).sum())
             tl.failed_after_detection += int((fail_mask & self.detected).sum())
         else:
@@ -243,6 +257,10 @@ class _Lanes:
             d = _duration_quantile(self.crews.planned_repair, self.rng_plan.random(n))
             tl.downtime_planned_h += float(np.minimum(d, self.horizon_h - t[u]).sum())
         tl.intervals.append((u, t[u].copy(), np.minimum(t[u] + d, self.horizon_h)))
+        if self.discount is not None:
+            disc = self.discount
+            tl.pv_changes += float((planned.sum(axis=1)[u] * disc.factors(t[u] + d)).sum())
+            tl.pv_down_h += float(disc.integrals(t[u], np.minimum(t[u] + d, self.horizon_h)).sum())
         tl.first_stop_h = min(tl.first_stop_h, float(t[u].min()))
         if np.any(d > 0):
             self.t[u] = t[u] + d
@@ -274,7 +292,8 @@ def _renewal_lanes(machine: Machine, scenario: Scenario, rngs: list[np.random.Ge
     timed_stops = stops_vary or d_fail > 0 or d_plan > 0
     lifeM, rf, rp = UniformTable(rngs[_LIFE], U, P), rngs[_REPAIR_F], rngs[_REPAIR_P]
     tally = _Tally(failures=np.zeros(U, dtype=np.int64), planned=np.zeros(U, dtype=np.int64),
-                   issued=np.zeros(P, dtype=np.int64), intervals=[])
+                   issued=np.zeros(P, dtype=np.int64), intervals=[], pv_issued=np.zeros(P))
+    disc = discount_for(scenario.costs.discount_rate_per_year)
     # working arrays over the positions still inside the horizon (flat index u·P + p)
     idx = np.arange(n)
     pos = np.tile(np.arange(P), U)
@@ -320,6 +339,14 @@ def _renewal_lanes(machine: Machine, scenario: Scenario, rngs: list[np.random.Ge
         else:
             dd = None
             nxt = end
+        if disc is not None:
+            v_end = disc.factors(end[inside])
+            tally.pv_failures += float(v_end[failed[inside]].sum())
+            done_at = (end + d)[p_in] if dd is not None else end[p_in]
+            tally.pv_changes += float(disc.factors(done_at).sum())
+            np.add.at(tally.pv_issued, idx[inside] % P, v_end)
+            if dd is not None:
+                tally.pv_down_h += float(disc.integrals(end[inside], (end + dd)[inside]).sum())
         if need_intervals:
             stop_len = dd[inside] if dd is not None else 0.0
             tally.intervals.append((idx[inside] // P, ends, ends + stop_len))
@@ -471,18 +498,30 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
         out[f"spares_per_year:{b}"] = count / years
         out[f"fill_rate:{b}"] = 1.0  # unlimited spares
     c = scenario.costs
-    parts = sum(n * scenario.bearings[b].price for b, n in issued.items())
+    if c.discount_rate_per_year > 0.0:  # present values (fleetsim.sim.discount)
+        changes, failures = sum(tl.pv_changes for tl in tallies), sum(tl.pv_failures for tl in tallies)
+        inspections, down_cost_h = sum(tl.pv_inspections for tl in tallies), \
+            sum(tl.pv_down_h for tl in tallies)
+        parts_by_bearing: dict[str, float] = {b: 0.0 for b in scenario.bearings}
+        for m, tl in zip(scenario.machines, tallies, strict=True):
+            assert tl.pv_issued is not None
+            for j, pos in enumerate(m.positions):
+                parts_by_bearing[pos.bearing_id] += float(tl.pv_issued[j])
+    else:
+        changes, failures = totals["planned"], totals["failures"]
+        inspections, down_cost_h = totals["insp"], down
+        parts_by_bearing = {b: float(n) for b, n in issued.items()}
     costs = {
-        "cost_parts": parts,
-        "cost_planned": totals["planned"] * c.planned_replacement,
-        "cost_failure": totals["failures"] * (c.planned_replacement + c.failure),
-        "cost_downtime": down * c.downtime_per_hour,
-        "cost_inspection": totals["insp"] * c.inspection,
+        "cost_parts": sum(n * scenario.bearings[b].price for b, n in parts_by_bearing.items()),
+        "cost_planned": changes * c.planned_replacement,
+        "cost_failure": failures * (c.planned_replacement + c.failure),
+        "cost_downtime": down_cost_h * c.downtime_per_hour,
+        "cost_inspection": inspections * c.inspection,
         "cost_holding": 0.0,
         "cost_emergency": 0.0,
     }
     costs["cost_total"] = sum(costs.values())
-    costs["cost_per_year"] = costs["cost_total"] / years
+    costs["cost_per_year"] = per_year(costs["cost_total"], years, c.discount_rate_per_year)
     out.update(costs)
     first_stop = min((tl.first_stop_h for tl in tallies), default=math.inf)
     for row in _group_rows(scenario, intervals, H, first_stop):

@@ -16,6 +16,7 @@ import numpy as np
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Scenario
+from fleetsim.sim.discount import per_year
 
 EngineName = Literal["des", "vector"]
 #: Below this many positions the discrete-event engine is about as fast (benchmarks/).
@@ -107,7 +108,8 @@ def des_figures(result, scenario: Scenario) -> dict[str, float]:  # type: ignore
         "cost_emergency": costs.get("emergency", 0.0),
     }
     cost["cost_total"] = sum(cost.values())
-    cost["cost_per_year"] = cost["cost_total"] / years
+    cost["cost_per_year"] = per_year(cost["cost_total"], years,
+                                     scenario.costs.discount_rate_per_year)
     out.update(cost)
     sp = result.tables["spares"]
     spares = {b: (float(sp["issued"][i]), float(sp["fill_rate"][i])) for i, b in enumerate(sp["bearing"])}

@@ -127,8 +127,15 @@ def parse_value(text: str) -> Any:
         return text.strip()
 
 
+_NUMBER = r"[-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?"
+
+
 def parse_values(text: str, where: str) -> list[Any]:
-    """``"a,b,c"`` or a range ``"START:STOP:STEP UNIT"`` (inclusive of STOP when it falls on a step)."""
+    """``"a,b,c"`` or a range ``"START:STOP:STEP UNIT"`` (inclusive of STOP when it falls on a step).
+
+    In a list of numbers whose last one carries a unit (``"8000, 16000 h"``) the
+    unit applies to every number.
+    """
     text = text.strip()
     rng = re.fullmatch(r"([-+0-9.eE]+):([-+0-9.eE]+):([-+0-9.eE]+)\s*(.*)", text)
     if rng:
@@ -147,6 +154,9 @@ def parse_values(text: str, where: str) -> list[Any]:
     parts = [p for p in (s.strip() for s in _split_top(text)) if p]
     if not parts:
         raise InputError(where, "expected at least one value")
+    last = re.fullmatch(rf"({_NUMBER})\s*([A-Za-z%µ°].*)", parts[-1])
+    if last and len(parts) > 1 and all(re.fullmatch(_NUMBER, p) for p in parts[:-1]):
+        parts = [f"{p} {last.group(2)}" for p in parts[:-1]] + [parts[-1]]
     return [parse_value(p) for p in parts]
 
 
