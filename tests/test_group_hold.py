@@ -93,3 +93,40 @@ hold_planned_work = true
     assert parse_scenario(text).groups[0].hold_planned_work is True
     with pytest.raises(InputError, match="hold_planned_work: expected true or false"):
         parse_scenario(text.replace("hold_planned_work = true", 'hold_planned_work = "yes"'))
+
+
+def test_a_member_failing_while_the_crew_is_on_its_way_holds_the_planned_stop_back() -> None:
+    # One crew. fan (outside the station) fails at 90 h: the crew repairs it until 110 h.
+    # pA's age change falls due at 100 h: the station can spare it, so it asks for the
+    # crew and queues. pB fails at 105 h and waits for a spare (none on the shelf; the
+    # order placed then arrives at 155 h). At 110 h the crew comes free for pA, but the
+    # station now has pB down: stopping pA would take it down, so pA hands the crew back
+    # and waits. pB is repaired 155–175 h; then pA's change goes ahead, 175–185 h.
+    from fleetsim.scenario.model import Stock
+
+    def unit(mid: str, bearing: str, policy: Policy) -> Machine:
+        return Machine(mid, 1, 1.0, 0.0, (Position("de", bearing, LIFE, policy),))
+
+    sc = Scenario(
+        Study("hold", 280.0, 1, 1), Costs(),
+        {"B": Bearing("B", BearingType.BALL, 1e4), "S": Bearing("S", BearingType.BALL, 1e4)},
+        (unit("pA", "B", Policy("age", 100.0)), unit("pB", "S", Policy()),
+         unit("pC", "B", Policy()), unit("fan", "B", Policy())),
+        groups=(Group("station", ("pA", "pB", "pC"), 2, hold_planned_work=True),),
+        stores={"S": Stock(0, -1, 1, Duration.fixed(50.0))},
+        crews=Crews(1, Duration.fixed(10.0), Duration.fixed(20.0)),
+    )
+    first = {"fan": 90.0, "pB": 105.0}
+
+    def lives(u: str, p: str, k: int) -> float:
+        return first.get(u, 1e9) if k == 0 else 1e9
+
+    r = simulate(sc, 1, life_sampler=lives)
+    assert [(t, u, k) for t, u, _p, k in r.event_log() if k in ("failure", "stop", "work", "up")] == [
+        (90.0, "fan", "failure"), (90.0, "fan", "work"),
+        (105.0, "pB", "failure"),
+        (110.0, "fan", "up"),
+        (155.0, "pB", "work"), (175.0, "pB", "up"),
+        (175.0, "pA", "stop"), (185.0, "pA", "up"),
+    ]
+    assert not r.groups.loc["station"]["had_down"]

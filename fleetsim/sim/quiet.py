@@ -102,7 +102,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
             u.failures += len(failed)
             if discount is not None:
                 v = discount.factor(now)
-                for p in failed:  # one addition per failure, as the general process does
+                for _ in failed:  # one addition per failure, as the general process does
                     pv["failures"] += v
             if log is not None:
                 log(now, uid, "", "work")

@@ -501,18 +501,29 @@ class UnitRunner:
         The crew is asked for once every pending spare is on hand and the start
         time has come. Work requested after that (whose spare may still be on
         its way) does not hold the crew back: the stop changes what it can.
+        Under a group that holds planned work, the group is asked both before
+        the crew is and when the crew arrives: if a member went down while the
+        crew was on its way, the crew is handed back and the job waits.
         """
+        groups = self.ctx.groups
         if not self.crew_asked:
             for p in self.pending:
                 if not p.claim.filled:  # type: ignore[union-attr]
                     return False
             if now < self.start_at:
                 return False
-            if self.holds and not self.ctx.groups.may_stop(self.index, self._poke):
+            if self.holds and not groups.may_stop(self.index, self._poke):
                 return False  # a holding group cannot spare this unit now
             self.crew_asked = True
             self.crew_req = self.ctx.crews.request(PLANNED, self._poke)
-        return CrewPool.granted(self.crew_req)
+        if not CrewPool.granted(self.crew_req):
+            return False
+        if self.holds and not groups.may_stop(self.index, self._poke):
+            self.ctx.crews.withdraw(self.crew_req)  # the group lost a member meanwhile
+            self.crew_asked = False
+            self.crew_req = None
+            return False
+        return True
 
     def _corrective_stop(self) -> Generator[simpy.Event, Any, None]:
         env = self.env
