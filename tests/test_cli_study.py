@@ -186,3 +186,19 @@ def test_a_discounted_study_says_so_everywhere(tmp_path: Path, capsys) -> None:
     sweep = json.loads(capsys.readouterr().out)
     assert "undiscounted" in sweep["extra"]["analytic_note"]
     assert "analytic_optimum_interval_h" not in sweep["extra"]
+
+
+def test_an_inspection_sweep_draws_its_cost_curve_and_names_only_what_varies(
+        small: Path, tmp_path: Path, capsys) -> None:
+    out = tmp_path / "insp"
+    code = main(["sweep", str(small), "--json", "--quiet", "--out", str(out), "--replications", "4",
+                 "--vary", 'policy={kind = "condition", inspection_every = "2 weeks", '
+                           'pf_interval = "3 weeks", detection = 0.9}',
+                 "--vary", "policy.inspection_every=1,4 weeks", "--vary", "costs.inspection=20"])
+    assert code == 0
+    sweep = json.loads(capsys.readouterr().out)
+    assert sweep["extra"]["best_variant"] in ("policy.inspection_every=1 weeks",
+                                              "policy.inspection_every=4 weeks")
+    assert (out / "figures" / "cost_rate_sweep.png").exists()
+    assert "Cost rate against inspection interval" in (out / "report.html").read_text()
+    assert "analytic_optimum_interval_h" not in sweep["extra"]  # age replacement's closed form

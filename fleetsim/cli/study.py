@@ -197,6 +197,11 @@ def _parse_vary(items: tuple[str, ...]) -> list[tuple[str, list[Any]]]:
     return out
 
 
+#: Swept keys whose values are durations, drawn as a cost curve: key → axis label.
+SWEEP_AXES = {"policy.interval": "Replacement interval",
+              "policy.inspection_every": "Inspection interval"}
+
+
 @click.command()
 @click.argument("scenario", type=click.Path(dir_okay=False))
 @click.option("--vary", multiple=True, required=True,
@@ -215,7 +220,8 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
 
     from fleetsim.study.advice import analytic_cost_curve
     from fleetsim.study.summary import figure_estimate
-    from fleetsim.study.variants import grid_variants, read_document
+    from fleetsim.study.variants import grid_variants, read_document, value_label
+    from fleetsim.units import parse_quantity
 
     document, text = read_document(scenario)
     digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
@@ -224,7 +230,12 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     if len(variants) > 200:
         raise InputError("--vary", f"the grid has {len(variants)} variants; expected at most 200")
     base = variants[0].scenario
+    swept = [(k, vals) for k, vals in varies if len(vals) > 1]
+    fixed = [(k, vals[0]) for k, vals in varies if len(vals) == 1]
     _note(quiet, f"{base.study.name}: sweeping {len(variants)} variant(s)")
+    if fixed:
+        _note(quiet, "  set for every variant: "
+              + "; ".join(f"{k}={value_label(v)}" for k, v in fixed))
     out_dir = Path(out) if out else Path("reports") / (slug(base.study.name) + "-sweep")
     results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
                                 workers=_workers(workers), cluster=cluster, quiet=quiet,
@@ -238,17 +249,19 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     }
     sweep_table = None
     analytic = None
-    if len(varies) == 1 and varies[0][0] == "policy.interval":
-        hours = [r.scenario.machines[0].positions[0].policy.interval_h for r in results]
+    axis = SWEEP_AXES.get(swept[0][0]) if len(swept) == 1 else None
+    if axis is not None:
+        hours = [parse_quantity(v, "time", f"--vary {swept[0][0]}") for v in swept[0][1]]
         rows = []
         for h, r in zip(hours, results, strict=True):
             est = figure_estimate(r.replications["cost_per_year"], "cost_per_year")
             rows.append({"interval_h": h, "mean": est.mean, "ci_low": est.low, "ci_high": est.high})
         sweep_table = pd.DataFrame(rows)
-        if base.costs.discount_rate_per_year > 0:
+        age_sweep = swept[0][0] == "policy.interval"  # the closed form is age replacement's
+        if age_sweep and base.costs.discount_rate_per_year > 0:
             extra["analytic_note"] = ("no closed-form curve: it is an undiscounted long-run rate, "
                                       "and this study discounts its costs")
-        elif all(h is not None for h in hours):
+        elif age_sweep:
             lo, hi = min(hours), max(hours)
             grid = [lo + (hi - lo) * k / 200 for k in range(201)]
             analytic = analytic_cost_curve(base, grid)
@@ -262,7 +275,8 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     best_at_edge = len(variants) > 2 and best in (0, len(variants) - 1)
     extra["best_at_edge_of_range"] = best_at_edge
     _finish(results, out_dir, ck, f"{base.study.name}: sweep", as_json, quiet, extra,
-            stock_from=best, sweep=sweep_table, sweep_analytic=analytic)
+            stock_from=best, sweep=sweep_table, sweep_analytic=analytic,
+            sweep_parameter=axis or "Interval")
     if not as_json:
         est = figure_estimate(results[best].replications[figure], figure)
         click.echo(f"\nBest on {figure}: {variants[best].name} — {est.mean:,.4g} "

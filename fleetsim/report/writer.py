@@ -113,6 +113,7 @@ def _figure_plans(
     *,
     sweep: pd.DataFrame | None,
     sweep_analytic: pd.DataFrame | None,
+    sweep_parameter: str,
     recommended_stock: Mapping[str, float] | None,
     life_reliability: float,
 ) -> list[_Plan]:
@@ -147,7 +148,7 @@ def _figure_plans(
         plans.append(
             _Plan(
                 "cost_rate_sweep",
-                "Cost rate against interval",
+                f"Cost rate against {sweep_parameter.lower()}",
                 "Simulated cost rate at each interval with 95 % confidence intervals; the star marks the "
                 "lowest simulated cost"
                 + (
@@ -156,7 +157,8 @@ def _figure_plans(
                     else "."
                 ),
                 lambda ax: figures.plot_cost_rate_sweep(
-                    sweep, ax, analytic=sweep_analytic, currency=currency
+                    sweep, ax, analytic=sweep_analytic, currency=currency,
+                    parameter=sweep_parameter,
                 ),
                 (WIDTH_IN, 4.0),
             )
@@ -310,6 +312,7 @@ def write_report(
     extra: Mapping[str, Any] | None = None,
     sweep: pd.DataFrame | None = None,
     sweep_analytic: pd.DataFrame | None = None,
+    sweep_parameter: str = "Replacement interval",
     recommended_stock: Mapping[str, float] | None = None,
     life_reliability: float = DEFAULT_MARKED_RELIABILITY,
     dpi: int = DEFAULT_DPI,
@@ -336,6 +339,8 @@ def write_report(
         year): adds the cost-rate figure.
     sweep_analytic
         Closed-form cost curve for the sweep, columns ``interval_h, cost_rate``.
+    sweep_parameter
+        What was swept, for the figure's axis (``"Inspection interval"``).
     recommended_stock
         Recommended stock level (units on hand) by bearing id.
     life_reliability
@@ -393,6 +398,7 @@ def write_report(
             best,
             sweep=sweep,
             sweep_analytic=sweep_analytic,
+            sweep_parameter=sweep_parameter,
             recommended_stock=recommended_stock,
             life_reliability=life_reliability,
         ):

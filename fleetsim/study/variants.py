@@ -181,9 +181,10 @@ def _split_top(text: str) -> list[str]:
     return out
 
 
-def _label(value: Any) -> str:
+def value_label(value: Any) -> str:
+    """A short text for a --vary value: dicts as k=v lists, the rest as str()."""
     if isinstance(value, dict):
-        return ", ".join(f"{k}={_label(v)}" for k, v in value.items())
+        return ", ".join(f"{k}={value_label(v)}" for k, v in value.items())
     return str(value)
 
 
@@ -230,11 +231,17 @@ def file_variants(document: Mapping[str, Any], source: str, digest: str) -> list
 
 def grid_variants(document: Mapping[str, Any], varies: Sequence[tuple[str, list[Any]]],
                   source: str, digest: str) -> list[Variant]:
-    """Every combination of the ``--vary`` values (a grid), in order."""
+    """Every combination of the ``--vary`` values (a grid), in order.
+
+    A variant is named by the keys that take more than one value; a key given
+    a single value is a setting of every variant and stays out of the names.
+    """
     out = []
     keys = [k for k, _ in varies]
+    named = [len(vals) > 1 for _, vals in varies]
     for combo in itertools.product(*[vals for _, vals in varies]):
         pairs = list(zip(keys, combo, strict=True))
-        name = "; ".join(f"{k}={_label(v)}" for k, v in pairs)
+        shown = [(k, v) for (k, v), n in zip(pairs, named, strict=True) if n] or pairs
+        name = "; ".join(f"{k}={value_label(v)}" for k, v in shown)
         out.append(build_variant(document, pairs, name, source, digest))
     return out
