@@ -99,7 +99,6 @@ def assert_same(fast, general) -> None:  # type: ignore[no-untyped-def]
 def test_quiet_process_matches_the_general_process(sc: Scenario, seed: int) -> None:
     with pytest.MonkeyPatch.context() as mp:
         fast, general = both(sc, seed, mp)
-    assert general.counts["failures"] + general.counts["planned"] >= 0
     assert_same(fast, general)
 
 
