@@ -13,7 +13,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 from scipy import stats
 
@@ -166,6 +166,9 @@ def test_bad_inputs() -> None:
     lead_h=st.floats(1.0, 5000.0),
     s=st.integers(0, 60),
 )
+# Far in the tail, where backorders computed by cancellation came out as rounding noise
+# above the value at one spare less.
+@example(demand_per_h=0.08813303722485488, lead_h=1.0, s=32)
 def test_properties(demand_per_h: float, lead_h: float, s: int) -> None:
     a = base_stock_performance(s, demand_per_h, lead_h)
     b = base_stock_performance(s + 1, demand_per_h, lead_h)

@@ -42,6 +42,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from scipy import stats
 
 from fleetsim.errors import InputError
 
@@ -120,7 +121,12 @@ def _stock_levels(mean: float, upto: int) -> tuple[np.ndarray, np.ndarray, np.nd
     fill = np.concatenate(([0.0], cdf[:-1]))
     # E[(y - X)+] = sum_{x<y} P(X <= x) = cumulative sum of the cdf
     on_hand = np.concatenate(([0.0], np.cumsum(cdf)[:-1]))
-    ebo = np.maximum(mean - np.arange(upto + 1) + on_hand, 0.0)
+    # EBO(y) = E[(X - y)+] = mean·P(X >= y) - y·P(X > y), from the tails: the form
+    # mean - y + E[(y - X)+] loses everything to cancellation once EBO is tiny. It is
+    # non-increasing in y by definition; the running minimum keeps it so in floating point.
+    y = np.arange(upto + 1)
+    ebo = np.maximum(mean * stats.poisson.sf(y - 1, mean) - y * stats.poisson.sf(y, mean), 0.0)
+    ebo = np.minimum.accumulate(ebo)
     return fill, on_hand, ebo
 
 

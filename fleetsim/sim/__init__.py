@@ -8,7 +8,7 @@ Knows nothing of files or plots.
 
 from fleetsim.sim.engine import simulate
 from fleetsim.sim.records import COUNT_NAMES, DOWN_CAUSES, EVENT_COLUMNS, ReplicationResult
-from fleetsim.sim.unit import LifeSampler
+from fleetsim.sim.setup import LifeSampler
 
 __all__ = [
     "COUNT_NAMES",

@@ -33,16 +33,10 @@ from fleetsim.sim.records import (
     ReplicationResult,
     Table,
 )
+from fleetsim.sim.setup import LifeSampler, MachineSetup, SimContext
 from fleetsim.sim.stores import SpareStore, StoreStats, UnlimitedSupply
 from fleetsim.sim.streams import Streams, as_seed_sequence
-from fleetsim.sim.unit import (
-    LifeSampler,
-    MachineSetup,
-    SimContext,
-    UnitRunner,
-    position_columns,
-    unit_columns,
-)
+from fleetsim.sim.unit import UnitRunner, position_columns, unit_columns
 
 #: Run quiet units with :func:`~fleetsim.sim.quiet.quiet_process` (tests turn it off to
 #: check that the general process gives the same result).

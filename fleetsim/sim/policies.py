@@ -24,7 +24,8 @@ import simpy
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Policy
-from fleetsim.sim.unit import PositionState, UnitRunner
+from fleetsim.sim.setup import PositionState
+from fleetsim.sim.unit import UnitRunner
 
 
 def check_policy(policy: Policy, where: str) -> None:

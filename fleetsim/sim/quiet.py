@@ -19,10 +19,12 @@ from typing import TYPE_CHECKING, Any
 
 import simpy
 
-from fleetsim.sim.unit import INF, PLANNED_WORK, REPAIR, RUNNING
+from fleetsim.sim.setup import INF
+from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
 
 if TYPE_CHECKING:
-    from fleetsim.sim.unit import PositionState, UnitRunner
+    from fleetsim.sim.setup import PositionState
+    from fleetsim.sim.unit import UnitRunner
 
 
 def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
