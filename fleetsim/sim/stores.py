@@ -106,14 +106,12 @@ class UnlimitedSupply:
         self, unit: str, position: str, notify: Callable[[], None] | None, failure: bool = False
     ) -> Claim:
         """Issue a spare at once."""
-        self.stats.demands += 1
-        self.stats.issued += 1
-        if self.discount is not None:
-            self.stats.issued_pv += self.discount.factor(self.env.now)  # type: ignore[union-attr]
+        self.issue(self.env.now if self.env is not None else 0.0)
         return Claim(notify, filled=True)
 
     def issue(self, now: float) -> None:
-        """Issue a spare at calendar hour ``now`` without a claim (the quiet units' short cut)."""
+        """Issue a spare at calendar hour ``now`` without a claim (the quiet units call it
+        directly; :meth:`demand` and :meth:`try_issue` go through it)."""
         self.stats.demands += 1
         self.stats.issued += 1
         if self.discount is not None:
@@ -125,10 +123,7 @@ class UnlimitedSupply:
 
     def try_issue(self) -> bool:
         """Issue a spare if one is on the shelf: always."""
-        self.stats.demands += 1
-        self.stats.issued += 1
-        if self.discount is not None:
-            self.stats.issued_pv += self.discount.factor(self.env.now)  # type: ignore[union-attr]
+        self.issue(self.env.now if self.env is not None else 0.0)
         return True
 
     def finish(self, horizon_h: float) -> StoreStats:
