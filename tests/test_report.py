@@ -12,6 +12,7 @@ import io
 import json
 import math
 import subprocess
+import re
 from html.parser import HTMLParser
 from pathlib import Path
 
@@ -566,7 +567,13 @@ def test_default_executive_summary_recommends_the_cheapest_and_states_the_saving
     best = int(np.argmin(means))
     assert text[0].startswith(f"Recommended: {results[best].label}.")
     saving = means[0] - means[best]
-    assert f"{saving:,.0f} EUR per year" in text[1]
+    # The saving is rounded to the second significant digit of its interval's width.
+    m = re.search(r"against [^:]+: ([\d,]+)\xa0EUR per year \(95\xa0% CI ([\d,]+) to ([\d,]+)\)",
+                  text[1])
+    assert m, text[1]
+    shown, low, high = (float(g.replace(",", "")) for g in m.groups())
+    step = 10.0 ** (math.floor(math.log10(high - low)) - 1)
+    assert abs(shown - saving) <= step / 2 + 1e-9
     assert "run to failure" in text[1]
     single = default_executive_summary(results[:1])
     assert single[0].startswith("run to failure: over 5 years")
@@ -597,7 +604,11 @@ def test_summary_table_is_plain_text_with_every_headline() -> None:
         assert words in text
     # The cost cell is the mean and its Student-t interval, as in the summary.
     s = make_results()[0].summary.loc["cost_per_year"]
-    assert f"{s['mean']:,.0f} [{s['ci_low']:,.0f}, {s['ci_high']:,.0f}]" in text
+    # Digits follow the interval: the last shown is the width's second significant digit.
+    step = 10.0 ** (math.floor(math.log10(s["ci_high"] - s["ci_low"])) - 1)
+    assert step >= 1  # so the cell has no decimals
+    mean, low, high = (round(s[k] / step) * step for k in ("mean", "ci_low", "ci_high"))
+    assert f"{mean:,.0f} [{low:,.0f}, {high:,.0f}]" in text
     assert max(len(line) for line in lines) < 120
     assert "<" not in text
 

@@ -10,6 +10,7 @@ import numpy as np
 
 from fleetsim import SAFETY_CAUTION
 from fleetsim.cli.common import echo_json, fmt, table
+from fleetsim.numbers import plural
 from fleetsim.scenario import (
     HOURS_PER_YEAR,
     Duration,
@@ -173,7 +174,8 @@ def check_report(scenario: Scenario) -> str:
         ("life model", s.life_model),
         (
             "fleet",
-            f"{len(s.machines)} machine types, {units} units, {s.position_count} bearing positions",
+            f"{plural(len(s.machines), 'machine type')}, {plural(units, 'unit')}, "
+            f"{plural(s.position_count, 'bearing position')}",
         ),
         (
             "groups",

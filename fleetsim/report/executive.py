@@ -14,8 +14,9 @@ from collections.abc import Mapping, Sequence
 
 import pandas as pd
 
+from fleetsim import numbers as fmt
 from fleetsim.report.headline import Headline, difference, headline_figures, recommended_index
-from fleetsim.report.text import fmt_estimate, fmt_interval, fmt_number, variant_labels
+from fleetsim.report.text import variant_labels
 from fleetsim.study.result import StudyResult
 
 
@@ -29,7 +30,7 @@ def _find(result: StudyResult, figure: str) -> Headline | None:
 def _est(h: Headline | None, unit: str = "") -> str:
     if h is None:
         return "n/a"
-    return fmt_estimate(h.mean, h.ci_low, h.ci_high, percent=h.is_share, unit=unit)
+    return fmt.estimate(h.mean, h.ci_low, h.ci_high, share=h.is_share, unit=unit)
 
 
 def _saving_sentences(
@@ -40,7 +41,7 @@ def _saving_sentences(
     est, method = difference(first, best, "cost_per_year")
     base = _find(first, "cost_per_year")
     share = (
-        f", {100 * est.mean / base.mean:.1f} % of today's cost"
+        f", {fmt.percent(est.mean / base.mean)} of today's cost"
         if base is not None and base.mean > 0 and math.isfinite(est.mean)
         else ""
     )
@@ -50,8 +51,8 @@ def _saving_sentences(
         else "comparison of independent runs"
     )
     text = (
-        f"Expected saving against {first_label}: {fmt_number(est.mean)} {currency} per year{share} "
-        f"(95 % CI {fmt_interval(est.low, est.high)} {currency} per year, {how})."
+        f"Expected saving against {first_label}: {fmt.estimate(est.mean, est.low, est.high, unit=currency + ' per year')}"
+        f"{share} ({how})."
     )
     out = [text]
     if not (math.isfinite(est.low) and est.low > 0):
@@ -109,8 +110,8 @@ def default_executive_summary(
             nxt = min(others, key=lambda k: float(results[k].summary.loc["cost_per_year", "mean"]))
             est, _ = difference(results[nxt], r0, "cost_per_year")
             out.append(
-                f"The next best, {labels[nxt]}, costs {fmt_number(est.mean)} {currency} per year more "
-                f"(95 % CI {fmt_interval(est.low, est.high)})."
+                f"The next best, {labels[nxt]}, costs "
+                f"{fmt.estimate(est.mean, est.low, est.high, unit=currency + ' per year')} more."
             )
     else:
         out.append(
@@ -129,7 +130,7 @@ def default_executive_summary(
             text = f"{words} {_est(h)}"
             h0 = _find(r0, figure)
             if best != 0 and h0 is not None:
-                text += f" (today: {fmt_number(h0.mean, percent=h0.is_share)})"
+                text += f" (today: {fmt.percent(h0.mean) if h0.is_share else fmt.number(h0.mean)})"
             details.append(text)
     if details:
         out.append(f"With {labels[best]}: " + "; ".join(details) + ".")
@@ -140,11 +141,11 @@ def default_executive_summary(
             f"a down event: {_est(rel)}."
         )
     if recommended_stock:
-        stock = ", ".join(f"{b}: {fmt_number(float(v))}" for b, v in recommended_stock.items())
+        stock = ", ".join(f"{b}: {fmt.number(float(v))}" for b, v in recommended_stock.items())
         out.append(f"Recommended stock levels (units on hand): {stock}.")
     rates = {r.scenario.costs.discount_rate_per_year for r in results}
     if any(rate > 0 for rate in rates):
-        text = ", ".join(f"{fmt_number(100 * rate)} %" for rate in sorted(rates))
+        text = ", ".join(fmt.with_unit(fmt.number(100 * rate, sig=2), "%") for rate in sorted(rates))
         out.append(
             f"Costs are present values at the start of the study, discounted at {text} a year; "
             "a cost per year is the equivalent annual cost (the level yearly amount with the "
@@ -152,7 +153,7 @@ def default_executive_summary(
         )
     if sweep is not None and not sweep.empty and {"interval_h", "mean"} <= set(sweep.columns):
         row = sweep.loc[sweep["mean"].astype(float).idxmin()]
-        cost = fmt_estimate(
+        cost = fmt.estimate(
             float(row["mean"]),
             float(row.get("ci_low", math.nan)),
             float(row.get("ci_high", math.nan)),
@@ -160,6 +161,6 @@ def default_executive_summary(
         )
         out.append(
             "Over the intervals swept, the lowest simulated cost rate is at "
-            f"{fmt_number(float(row['interval_h']))} h: {cost}."
+            f"{fmt.hours(float(row['interval_h']))}: {cost}."
         )
     return out

@@ -19,11 +19,12 @@ from typing import TYPE_CHECKING
 import numpy as np
 import pandas as pd
 
+from fleetsim import numbers as fmt
 from fleetsim.errors import InputError
 from fleetsim.life import LifeDistribution
 from fleetsim.report.headline import mean_ci, recommended_index
 from fleetsim.report.palette import COLOURS, OTHER, RECOMMENDED, report_style, series_colour
-from fleetsim.report.text import fmt_number, mpl_text, variant_labels
+from fleetsim.report.text import mpl_text, variant_labels
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
 from fleetsim.study.result import StudyResult, survival_curve
 
@@ -114,7 +115,7 @@ def plot_life_distributions(
             l10 = float(life.life_at_reliability(0.9))
             lr = float(life.life_at_reliability(reliability))
             more = f" and {len(names) - 1} more" if len(names) > 1 else ""
-            label = f"{names[0]}{more}: L10 = {fmt_number(l10)} h"
+            label = f"{names[0]}{more}: L10 = {fmt.number(l10)} h"
             ax.plot(t, life.reliability(t), color=colour, label=mpl_text(label))
             if factor != 1.0:
                 # the catalogue life this position would have without its field factor
@@ -224,7 +225,7 @@ def plot_cost_per_year(
         )
         for k, (m, _, hi) in enumerate(values):
             x = hi if math.isfinite(hi) else m
-            ax.text(x, k, f"  {fmt_number(m)}", va="center", fontsize=8.5)
+            ax.text(x, k, f"  {fmt.number(m)}", va="center", fontsize=8.5)
         ax.set_yticks(y, [mpl_text(s) for s in labels])
         ax.invert_yaxis()
         ax.set_xlim(0.0, max(v[2] if math.isfinite(v[2]) else v[0] for v in values) * 1.18 or 1.0)
@@ -300,7 +301,7 @@ def plot_cost_rate_sweep(
             color=RECOMMENDED,
             markersize=15,
             zorder=5,
-            label=f"lowest simulated: {fmt_number(x[best])} h",
+            label=f"lowest simulated: {fmt.number(x[best])} h",
         )
         star.set_gid("simulated optimum")
         if analytic is not None and not analytic.empty:
@@ -314,7 +315,7 @@ def plot_cost_rate_sweep(
                 color=COLOURS["kiln"],
                 ls=":",
                 lw=1.1,
-                label=f"closed-form optimum: {fmt_number(ax_x[k])} h",
+                label=f"closed-form optimum: {fmt.number(ax_x[k])} h",
             )
             line.set_gid("closed-form optimum")
         unit = f"{mpl_text(currency)}/{rate_unit}" if currency else f"per {rate_unit}"

@@ -18,8 +18,8 @@ from typing import Any
 import jinja2
 
 import fleetsim
+from fleetsim import numbers as fmt
 from fleetsim.report.headline import headline_figures
-from fleetsim.report.text import fmt_interval, fmt_number
 from fleetsim.scenario.model import HOURS_PER_YEAR, Policy, Scenario
 from fleetsim.study.result import StudyResult
 
@@ -64,13 +64,13 @@ def _template() -> jinja2.Template:
 def policy_text(policy: Policy) -> str:
     """A maintenance policy in a few plain words."""
     if policy.kind == "age" and policy.interval_h:
-        return f"age replacement at {fmt_number(policy.interval_h)} operating h"
+        return f"age replacement at {fmt.number(policy.interval_h)} operating h"
     if policy.kind == "block" and policy.interval_h:
-        return f"block replacement every {fmt_number(policy.interval_h)} h ({policy.block_scope})"
+        return f"block replacement every {fmt.number(policy.interval_h)} h ({policy.block_scope})"
     if policy.kind == "condition" and policy.inspection_every_h:
-        pf = f", P-F {fmt_number(policy.pf_interval.mean_h)} h mean" if policy.pf_interval else ""
+        pf = f", P-F {fmt.number(policy.pf_interval.mean_h)} h mean" if policy.pf_interval else ""
         return (
-            f"inspect every {fmt_number(policy.inspection_every_h)} h{pf}, "
+            f"inspect every {fmt.number(policy.inspection_every_h)} h{pf}, "
             f"detection {100 * policy.detection:g} %"
         )
     return "run to failure" if policy.kind == "run-to-failure" else policy.kind
@@ -89,8 +89,8 @@ def fleet_rows(scenario: Scenario) -> list[dict[str, str]]:
                     "share": f"{100 * m.operating_share:.0f} %",
                     "position": p.id,
                     "bearing": p.bearing_id,
-                    "basic_l10": fmt_number(basic) if basic is not None else "given life",
-                    "life_l10": fmt_number(float(p.life.life_at_reliability(0.9))),
+                    "basic_l10": fmt.number(basic) if basic is not None else "given life",
+                    "life_l10": fmt.number(float(p.life.life_at_reliability(0.9))),
                     "shape": f"{p.life.shape:.3g}",
                     "policy": policy_text(p.policy),
                 }
@@ -109,10 +109,10 @@ def headline_rows(results: Sequence[StudyResult]) -> list[dict[str, Any]]:
                 order.append(h.figure)
                 names[h.figure] = f"{h.label} ({'%' if h.is_share else h.unit})"
             # Shares are in percent; the row name carries the sign.
-            ci = fmt_interval(h.ci_low, h.ci_high, percent=h.is_share).replace("\u00a0%", "")
+            mean, low, high = fmt.estimate_parts(h.mean, h.ci_low, h.ci_high, share=h.is_share)
             cells[(h.figure, k)] = {
-                "mean": fmt_number(h.mean, percent=h.is_share).replace("\u00a0%", ""),
-                "ci": "" if ci == "n/a" else f"95 % CI {ci}",
+                "mean": mean,
+                "ci": "" if low is None else f"95 % CI {low} to {high}",
             }
     empty = {"mean": "–", "ci": ""}
     return [
@@ -134,7 +134,7 @@ def flatten(data: Any, prefix: str = "") -> list[tuple[str, str]]:
             rows += flatten(v, f"{prefix}[{i}]")
         return rows
     if isinstance(data, float):
-        return [(prefix, fmt_number(data))]
+        return [(prefix, fmt.number(data))]
     return [(prefix, "–" if data is None else str(data))]
 
 
@@ -181,7 +181,7 @@ def render_page(
             "seed": r.seed,
             "engine": r.engine,
             "replications": len(r.replications),
-            "horizon": f"{r.horizon_h / HOURS_PER_YEAR:.3g} years ({fmt_number(r.horizon_h)} h)",
+            "horizon": f"{r.horizon_h / HOURS_PER_YEAR:.3g} years ({fmt.number(r.horizon_h)} h)",
             "workers": r.workers,
             "elapsed": f"{r.elapsed_s:.1f} s",
             "recommended": k == recommended,
@@ -208,8 +208,8 @@ def render_page(
             {
                 "id": b.id,
                 "type": str(b.bearing_type),
-                "c": fmt_number(b.dynamic_rating_N),
-                "price": fmt_number(b.price),
+                "c": fmt.number(b.dynamic_rating_N),
+                "price": fmt.number(b.price),
             }
             for b in first.bearings.values()
         ],

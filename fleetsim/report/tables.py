@@ -22,14 +22,14 @@ formula injection through CSV files (OWASP, from memory).
 
 from __future__ import annotations
 
-import math
 from collections.abc import Sequence
 from pathlib import Path
 
 import pandas as pd
 
+from fleetsim import numbers as fmt
 from fleetsim.report.headline import Headline, headline_figures
-from fleetsim.report.text import fmt_number, variant_labels
+from fleetsim.report.text import variant_labels
 from fleetsim.study.result import StudyResult
 
 HEADLINE_COLUMNS = (
@@ -108,12 +108,7 @@ def short_name(h: Headline, horizon_years: float) -> str:
 
 
 def _cell(h: Headline) -> str:
-    def num(x: float) -> str:
-        return f"{100.0 * x:.2f}" if h.is_share and math.isfinite(x) else fmt_number(x)
-
-    if not (math.isfinite(h.ci_low) and math.isfinite(h.ci_high)):
-        return num(h.mean)
-    return f"{num(h.mean)} [{num(h.ci_low)}, {num(h.ci_high)}]"
+    return fmt.estimate(h.mean, h.ci_low, h.ci_high, share=h.is_share, style="brackets")
 
 
 def summary_table(results: Sequence[StudyResult], labels: Sequence[str] | None = None) -> str:

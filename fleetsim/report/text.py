@@ -1,58 +1,13 @@
-"""Plain-text helpers of the report: number formats, variant labels, safe figure text."""
+"""Plain-text helpers of the report: variant labels and safe figure text.
+
+Numbers are formatted by :mod:`fleetsim.report.numbers`.
+"""
 
 from __future__ import annotations
 
-import math
 from collections.abc import Sequence
 
 from fleetsim.study.result import StudyResult
-
-
-def fmt_number(value: float | None, *, percent: bool = False) -> str:
-    """A number for people: thousands separators, about three significant digits.
-
-    Parameters
-    ----------
-    value
-        The number (None or NaN gives ``"n/a"``).
-    percent
-        Show a share (0–1) as a percentage with two decimals.
-    """
-    if value is None or not math.isfinite(value):
-        return "n/a"
-    if percent:
-        return f"{100.0 * value:.2f}\u00a0%"  # no-break space: the sign stays with its number
-    a = abs(value)
-    if value == int(value) and a < 1e15:
-        return f"{int(value):,}"
-    if a >= 100:
-        return f"{value:,.0f}"
-    if a >= 10:
-        return f"{value:.1f}"
-    if a >= 1:
-        return f"{value:.2f}"
-    return f"{value:.3g}"
-
-
-def fmt_interval(low: float | None, high: float | None, *, percent: bool = False) -> str:
-    """``"low to high"`` for a confidence interval (``"n/a"`` when undefined)."""
-    if low is None or high is None or not (math.isfinite(low) and math.isfinite(high)):
-        return "n/a"
-    return f"{fmt_number(low, percent=percent)} to {fmt_number(high, percent=percent)}"
-
-
-def fmt_estimate(
-    mean: float | None,
-    low: float | None,
-    high: float | None,
-    *,
-    percent: bool = False,
-    unit: str = "",
-) -> str:
-    """``"mean unit (95 % CI low to high)"``."""
-    text = fmt_number(mean, percent=percent) + (f" {unit}" if unit else "")
-    ci = fmt_interval(low, high, percent=percent)
-    return text if ci == "n/a" else f"{text} (95 % CI {ci})"
 
 
 def variant_labels(results: Sequence[StudyResult]) -> list[str]:
