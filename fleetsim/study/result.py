@@ -77,6 +77,11 @@ class StudyResult:
         Event log of the first replication (``time_h, unit, position, kind``) or None.
     label
         Name of the variant (policy, interval, ...) for comparisons.
+    view
+        ``"budget"``: from today's fleet over the horizon; ``"policy"``: the
+        long-run view of :mod:`fleetsim.study.policy_view`.
+    notes
+        How the figures were obtained (the policy view's window), for reports.
     """
 
     scenario: Scenario
@@ -87,6 +92,8 @@ class StudyResult:
     workers: int = 1
     events: pd.DataFrame | None = None
     label: str = ""
+    view: str = "budget"
+    notes: tuple[str, ...] = ()
     _cache: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property
