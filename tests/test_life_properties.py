@@ -71,7 +71,7 @@ def test_same_case_in_newtons_and_pound_force() -> None:
     assert_allclose(a.rating_life_h, b.rating_life_h, rtol=1e-3)
     assert_allclose(parse_quantity("30 Hz", "speed", "s"), 1800.0)
     assert_allclose(parse_quantity("2 weeks", "time", "t"), 336.0)
-    # pint's year is the Julian year of 365.25 days (IAU), 8766 h.
+    # fleetsim's year is the Julian year of 365.25 days (IAU), 8766 h.
     assert math.isclose(parse_quantity("1 year", "time", "t"), 8766.0, rel_tol=1e-12)
 
 

@@ -740,3 +740,27 @@ def test_a_killed_writer_is_cleaned_up_and_its_old_report_restored(tmp_path, fas
         write_report(make_results(), out, title="t", extra={"bad": object()})
     assert sorted(p.name for p in tmp_path.iterdir()) == ["north"]
     assert json.loads((out / "summary.json").read_text())["title"] == "Pump station bearing study"
+
+
+def test_a_users_own_files_in_a_report_folder_survive_a_rewrite(tmp_path, fast_png) -> None:
+    out = tmp_path / "north"
+    first = full_report(out)
+    manifest = json.loads((out / ".fleetsim-manifest.json").read_text())["files"]
+    assert sorted(manifest) == sorted(p.relative_to(out).as_posix() for p in first.files())
+    (out / "notes.txt").write_text("my notes")
+    (out / "mine").mkdir()
+    (out / "mine" / "photo.jpg").write_bytes(b"\xff\xd8")
+    (out / "empty").mkdir()
+    (out / "figures" / "sketch.png").write_bytes(b"mine")
+    # a file fleetsim wrote last time and does not write now is removed
+    (out / "figures" / "retired.png").write_bytes(b"stale")
+    manifest.append("figures/retired.png")
+    (out / ".fleetsim-manifest.json").write_text(json.dumps({"files": manifest}))
+    second = full_report(out, make_results(label_prefix="new "))
+    assert (out / "notes.txt").read_text() == "my notes"
+    assert (out / "mine" / "photo.jpg").read_bytes() == b"\xff\xd8"
+    assert (out / "empty").is_dir()
+    assert (out / "figures" / "sketch.png").read_bytes() == b"mine"
+    assert not (out / "figures" / "retired.png").exists()
+    assert "new age 20,000 h" in second.summary_json.read_text(encoding="utf-8")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["north"]

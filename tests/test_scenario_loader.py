@@ -131,7 +131,7 @@ def test_base_scenario_settings() -> None:
     assert s.source == "plant.toml"
     assert len(s.digest) == 64
     assert s.study.name == "test plant"
-    # pint's year is the Julian year of 365.25 d (from memory): 10 years = 87,660 h.
+    # fleetsim's year is the Julian year of 365.25 d (from memory): 10 years = 87,660 h.
     assert s.study.horizon_h == pytest.approx(10 * 365.25 * 24, rel=1e-12)
     assert (s.study.replications, s.study.seed) == (50, 7)
     assert s.costs.currency == "EUR"

@@ -10,10 +10,16 @@ A report directory holds::
     events.csv           event log of the first replication (when kept)
     figures/*.png        every figure of the page
 
+    .fleetsim-manifest.json   the list of the files above (what fleetsim owns)
+
 Everything is built in a hidden sibling directory and swapped into place only
 when complete (rename the old report away, rename the new one in, delete the
 old one), so an interrupted run never leaves a half-written report and never
-destroys the previous one. Should a writer be killed outright, the next write
+destroys the previous one. fleetsim replaces only what it wrote: any other
+file or folder found in the old report (one not in its manifest — for a
+report written before manifests, one not named above) is carried over into
+the new one (hard-linked, or copied) before the swap, so a user's own notes
+in a report folder survive every rewrite. Should a writer be killed outright, the next write
 to the same place deletes its half-built directory and, if it died between
 the two renames, first puts the previous report back. Figures are drawn on ``matplotlib.figure.Figure``
 objects without pyplot, so writing a report changes no backend or global
@@ -52,6 +58,12 @@ if TYPE_CHECKING:
 HTML_NAME = "report.html"
 SUMMARY_NAME = "summary.json"
 FIGURES_DIR = "figures"
+MANIFEST_NAME = ".fleetsim-manifest.json"
+#: What a report written before manifests owned (its top-level names).
+_LEGACY_OWNED = frozenset(
+    {HTML_NAME, SUMMARY_NAME, FIGURES_DIR, "replications.csv", "summary.csv", "headline.csv",
+     "events.csv"}
+)
 DEFAULT_DPI = 110
 #: Width of every figure, inches (about the page width at the default dpi).
 WIDTH_IN = 8.5
@@ -287,6 +299,50 @@ def _recover(out_dir: Path) -> None:
             shutil.rmtree(path, ignore_errors=True)
 
 
+def _owned(out_dir: Path) -> set[str]:
+    """Relative paths of the files fleetsim wrote into an existing report (its manifest)."""
+    try:
+        doc = json.loads((out_dir / MANIFEST_NAME).read_text(encoding="utf-8"))
+        files = doc["files"]
+        if isinstance(files, list) and all(isinstance(f, str) for f in files):
+            return set(files) | {MANIFEST_NAME}
+    except (OSError, ValueError, KeyError, TypeError):
+        pass
+    owned = {MANIFEST_NAME, *_LEGACY_OWNED}
+    figures_dir = out_dir / FIGURES_DIR
+    if figures_dir.is_dir():
+        owned |= {f"{FIGURES_DIR}/{p.name}" for p in figures_dir.iterdir() if p.suffix == ".png"}
+    return owned
+
+
+def _link_or_copy(src: str, dst: str) -> None:
+    try:
+        os.link(src, dst, follow_symlinks=False)
+    except OSError:
+        shutil.copy2(src, dst, follow_symlinks=False)
+
+
+def _carry_over(out_dir: Path, work: Path) -> None:
+    """Bring the user's own files and folders of the old report ``out_dir`` into ``work``."""
+    if not out_dir.is_dir():
+        return
+    owned = _owned(out_dir)
+    for path in sorted(out_dir.rglob("*")):
+        rel = path.relative_to(out_dir).as_posix()
+        target = work / rel
+        if rel in owned or target.exists() or target.is_symlink():
+            continue  # fleetsim's own, or a name fleetsim writes now: the new one wins
+        if path.is_dir() and not path.is_symlink():
+            if not any(path.iterdir()):
+                target.mkdir(parents=True)
+            continue
+        target.parent.mkdir(parents=True, exist_ok=True)
+        if path.is_symlink():
+            os.symlink(os.readlink(path), target)
+        else:
+            _link_or_copy(str(path), str(target))
+
+
 def _swap_in(new: Path, out_dir: Path) -> None:
     """Replace ``out_dir`` by ``new``: rename the old away, rename the new in, delete the old."""
     if not out_dir.exists():
@@ -420,6 +476,9 @@ def write_report(
             generated=datetime.now(UTC).strftime("%Y-%m-%d"),
         )
         (work / HTML_NAME).write_bytes(page.encode("utf-8"))
+        manifest = {"files": sorted([HTML_NAME, *files])}
+        (work / MANIFEST_NAME).write_text(json.dumps(manifest, indent=1), encoding="utf-8")
+        _carry_over(out_dir, work)
         _swap_in(work, out_dir)
     except BaseException:
         shutil.rmtree(work, ignore_errors=True)
