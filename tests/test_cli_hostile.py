@@ -13,9 +13,7 @@ import re
 from pathlib import Path
 
 import pytest
-
-from cli_cases import ROOT, PUMPS, edited, expect_one_line_error
-
+from cli_cases import PUMPS, ROOT, edited, expect_one_line_error
 
 # --- unit strings -------------------------------------------------------------------
 LIFE = ["life", "--type", "ball", "--dynamic-rating", "30.7 kN", "--radial-load", "3.2 kN",
