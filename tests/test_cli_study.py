@@ -106,6 +106,8 @@ def test_sweep_marks_the_best_and_the_analytic_optimum(small: Path, tmp_path: Pa
         (["sweep", "{small}", "--vary", "policy.interval=5 kN"], "policy.interval"),
         (["run", "{small}", "--engine", "vector", "--replications", "0"], "--replications"),
         (["run", "{small}", "--workers", "-1"], "--workers"),
+        (["run", "{small}", "--seed", "-1"], "--seed: expected a seed (a whole number >= 0), got -1"),
+        (["sweep", "{small}", "--vary", "policy.interval=6000 h", "--seed", "-1"], "--seed"),
     ],
 )
 def test_bad_input_is_one_line(args, fragment, small: Path, tmp_path: Path, capsys,

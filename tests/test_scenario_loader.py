@@ -568,6 +568,11 @@ ERRORS = [
         "missing required table [study]",
     ),
     ("[[group]]", "[group]", "group", "expected an array of tables [[group]]"),
+    # the study seed (fleetsim.seed.check_seed)
+    ("seed = 7", "seed = -1", "study.seed", "expected a seed (a whole number >= 0), got -1"),
+    ("seed = 7", "seed = 7.0", "study.seed", "expected a seed (a whole number >= 0), got 7.0"),
+    ("seed = 7", "seed = true", "study.seed", "expected a seed (a whole number >= 0), got True"),
+    ("seed = 7", 'seed = "7"', "study.seed", "expected a seed (a whole number >= 0), got '7'"),
 ]
 
 

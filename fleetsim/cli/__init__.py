@@ -10,6 +10,7 @@ from __future__ import annotations
 import sys
 import warnings
 from collections.abc import Sequence
+from typing import TextIO
 
 import click
 
@@ -47,7 +48,8 @@ def _register() -> None:
 _register()
 
 
-def _show_warning(message, category, filename, lineno, file=None, line=None):  # type: ignore[no-untyped-def]
+def _show_warning(message: Warning | str, category: type[Warning], filename: str, lineno: int,
+                  file: TextIO | None = None, line: str | None = None) -> None:
     click.echo(f"fleetsim: warning: {message}", err=True)
 
 

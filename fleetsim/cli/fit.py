@@ -254,7 +254,7 @@ def fit(
     recs = read_records(records)
     samples: dict[str | None, CensoredSample]
     if group_by:
-        samples = dict(recs.groups(group_by))
+        samples = {name: s for name, s in recs.groups(group_by).items()}
     else:
         samples = {None: recs.sample()}
     results: dict[str | None, FitResult] = {}

@@ -258,7 +258,7 @@ def size(
         p, n, life_h, reliability,
         bearing_type=bearing_type, model=model, application_factor=application_factor,
     )
-    selected = None
+    selected: dict[str, Any] | None = None
     if catalog is not None:
         try:
             entries = read_catalogue(catalog)
@@ -275,7 +275,7 @@ def size(
                 "price": pick.price,
                 "margin": pick.dynamic_rating_N / required,
             }
-    out = {
+    result = {
         "required_dynamic_rating_N": required,
         "load_N": p,
         "speed_rpm": n,
@@ -288,7 +288,7 @@ def size(
         "caution": SAFETY_CAUTION,
     }
     if as_json:
-        echo_json(out)
+        echo_json(result)
         return
     rows = [
         ("required dynamic rating C", fmt(required / 1e3, ".4g", "kN")),

@@ -81,10 +81,10 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
                f"(positions in series, equal allocation)\n")
     w = max(len(f"{r['machine']}/{r['position']}") for r in rows)
     click.echo(f"{'position':<{w}}  {'today':<10} {'needs C':>9}  {'selected':<10} note")
-    for r in rows:
-        need = fmt(None if r["required_rating_N"] is None else r["required_rating_N"] / 1e3, ".4g", "kN")
-        click.echo(f"{r['machine'] + '/' + r['position']:<{w}}  {r['current_bearing']:<10} "
-                   f"{need:>9}  {r['selected'] or '—':<10} {r['note']}")
+    for c in plan.choices:
+        need = fmt(None if c.required_rating_N is None else c.required_rating_N / 1e3, ".4g", "kN")
+        click.echo(f"{c.machine + '/' + c.position:<{w}}  {c.current_bearing:<10} "
+                   f"{need:>9}  {c.selected or '—':<10} {c.note}")
     click.echo("")
     for m, v in machines_out.items():
         click.echo(f"{m}: reliability over the period {v['today']:.4f} today → {v['new']:.4f} "

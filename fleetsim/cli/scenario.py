@@ -80,7 +80,7 @@ def position_ages(machine: Machine, index: int) -> tuple[list[float], list[float
     """
     ages = [machine.age_h(u, index) for u in range(machine.count)]
     life = machine.positions[index].life
-    remaining = np.atleast_1d(life.remaining_life_at_reliability(REMAINING_RELIABILITY, ages))
+    remaining = np.atleast_1d(life.remaining_life_at_reliability(REMAINING_RELIABILITY, np.array(ages)))
     return ages, remaining.tolist()
 
 

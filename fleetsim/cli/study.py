@@ -4,15 +4,20 @@ from __future__ import annotations
 
 import os
 import sys
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
 
 from fleetsim import SAFETY_CAUTION
 from fleetsim.cli.common import echo_json, slug
 from fleetsim.errors import InputError
+from fleetsim.seed import check_seed
+
+if TYPE_CHECKING:
+    from fleetsim.study.result import StudyResult
+    from fleetsim.study.variants import Variant
 
 ENGINE_CHOICE = click.Choice(["auto", "des", "vector"])
 OBJECTIVES = {
@@ -73,9 +78,11 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
     return fn
 
 
-def _check_options(replications: int | None, workers: int) -> None:
+def _check_options(replications: int | None, seed: int | None, workers: int) -> None:
     if replications is not None and replications < 1:
         raise InputError("--replications", f"expected at least 1, got {replications}")
+    if seed is not None:
+        check_seed(seed, "--seed")
     _workers(workers)
 
 
@@ -85,8 +92,9 @@ def _workers(n: int) -> int:
     return n or (os.cpu_count() or 1)
 
 
-def _run_variants(variants, *, replications, seed, engine, workers, cluster, quiet, resume,
-                  out_dir: Path):  # type: ignore[no-untyped-def]
+def _run_variants(variants: Sequence[Variant], *, replications: int | None, seed: int | None,
+                  engine: str | None, workers: int, cluster: str | None, quiet: bool, resume: bool,
+                  out_dir: Path) -> tuple[list[StudyResult], Path]:
     from fleetsim.study import run_study
 
     ck_dir = out_dir.parent / f".{out_dir.name}.checkpoints"
@@ -94,7 +102,7 @@ def _run_variants(variants, *, replications, seed, engine, workers, cluster, qui
         for f in ck_dir.glob("*.jsonl"):
             f.unlink()
     ck_dir.mkdir(parents=True, exist_ok=True)
-    results = []
+    results: list[StudyResult] = []
     for k, v in enumerate(variants):
         bar = _Progress(quiet, v.name[:30])
         try:
@@ -108,9 +116,8 @@ def _run_variants(variants, *, replications, seed, engine, workers, cluster, qui
     return results, ck_dir
 
 
-def _finish(results, out_dir: Path, ck_dir: Path, title: str, as_json: bool, quiet: bool,
-            extra: dict[str, Any], stock_from: int = 0,
-            **report_kw: Any) -> None:  # type: ignore[no-untyped-def]
+def _finish(results: list[StudyResult], out_dir: Path, ck_dir: Path, title: str, as_json: bool,
+            quiet: bool, extra: dict[str, Any], stock_from: int = 0, **report_kw: Any) -> None:
     from fleetsim.report import summary_table, write_report
     from fleetsim.study.advice import recommended_stock
 
@@ -165,7 +172,7 @@ def _finish(results, out_dir: Path, ck_dir: Path, title: str, as_json: bool, qui
 def run(scenario: str, replications: int | None, seed: int | None, out: str | None, engine: str,
         workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool) -> None:
     """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
-    _check_options(replications, workers)
+    _check_options(replications, seed, workers)
     from fleetsim.study import choose_engine
     from fleetsim.study.variants import file_variants, read_document
 
@@ -213,7 +220,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
           seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
           resume: bool, quiet: bool, as_json: bool) -> None:
     """Run every combination of --vary values on common random numbers and mark the best."""
-    _check_options(replications, workers)
+    _check_options(replications, seed, workers)
     import hashlib
 
     import pandas as pd

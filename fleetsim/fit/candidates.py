@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from scipy import stats
@@ -61,20 +62,20 @@ class FittedDistribution:
     location_h: float = 0.0
 
     @property
-    def frozen(self) -> object:
-        """The equivalent frozen scipy distribution."""
+    def frozen(self) -> Any:
+        """The equivalent frozen scipy distribution (scipy ships no type information)."""
         if self.family == "weibull":
             return stats.weibull_min(c=self.shape, loc=self.location_h, scale=self.scale_h)
         return stats.lognorm(s=self.shape, loc=self.location_h, scale=self.scale_h)
 
     def cdf(self, hours: float | np.ndarray) -> float | np.ndarray:
         """Fraction failed by ``hours``."""
-        out = self.frozen.cdf(hours)  # type: ignore[attr-defined]
+        out = self.frozen.cdf(hours)
         return float(out) if np.ndim(out) == 0 else out
 
     def ppf(self, q: float | np.ndarray) -> float | np.ndarray:
         """Age in hours by which a fraction ``q`` has failed."""
-        out = self.frozen.ppf(q)  # type: ignore[attr-defined]
+        out = self.frozen.ppf(q)
         return float(out) if np.ndim(out) == 0 else out
 
     def b_life_h(self, percent: float) -> float:

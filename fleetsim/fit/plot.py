@@ -153,7 +153,7 @@ def probability_plot(
     ax.set_xlabel("operating hours")
     ax.set_ylabel("fraction failed (Weibull scale), %")
     # fixed ticks that do not widen the view (unlike set_yticks)
-    ax.yaxis.set_major_locator(FixedLocator(weibull_y(np.array(_PERCENT_TICKS) / 100.0)))
+    ax.yaxis.set_major_locator(FixedLocator(weibull_y(np.array(_PERCENT_TICKS) / 100.0).tolist()))
     ax.yaxis.set_major_formatter(
         FuncFormatter(lambda v, _pos: f"{100.0 * -math.expm1(-math.exp(v)):.3g}")
     )

@@ -169,7 +169,7 @@ def read_catalogue(path: str | Path) -> list[CatalogueEntry]:
         if c is None:
             raise InputError(f"{path}:{i}: dynamic_rating_kN", "expected a value")
         e, x, y = num("e"), num("X"), num("Y")
-        factors = LoadFactors(e, x, y) if None not in (e, x, y) else None
+        factors = LoadFactors(e, x, y) if e is not None and x is not None and y is not None else None
         out.append(
             CatalogueEntry(
                 designation=row["designation"].strip(),

@@ -30,6 +30,7 @@ from fleetsim.study.result import StudyResult, survival_curve
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
+    from matplotlib.axis import Axis
 
 #: Reliability whose life is marked besides L10 unless the caller chooses another.
 DEFAULT_MARKED_RELIABILITY = 0.95
@@ -45,11 +46,11 @@ def new_axes(ax: Axes | None, size_in: tuple[float, float] = (7.5, 4.0)) -> Axes
     return new
 
 
-def thousands(axis: object) -> None:
+def thousands(axis: Axis) -> None:
     """Show an axis's tick labels with thousands separators (``12,000``)."""
     from matplotlib.ticker import FuncFormatter
 
-    axis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{v:,.0f}"))  # type: ignore[attr-defined]
+    axis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{v:,.0f}"))
 
 
 def life_label(reliability: float) -> str:

@@ -249,7 +249,7 @@ def plot_spares(
                         colors=COLOURS["ink"],
                         linestyles="--",
                         lw=1.6,
-                        label="recommended stock (units on hand)" if first else None,
+                        label="recommended stock (units on hand)" if first else "_nolegend_",
                     )
                     first = False
         ax.set_xlabel("Bearing")

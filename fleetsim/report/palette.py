@@ -10,8 +10,13 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 from contextlib import contextmanager
+from typing import TYPE_CHECKING, Any
 
 import matplotlib as mpl
+from cycler import cycler  # matplotlib's own dependency, the documented way to build one
+
+if TYPE_CHECKING:
+    from matplotlib.typing import RcKeyType
 
 #: Named colours (hex sRGB), chosen for contrast on white and in greyscale print.
 COLOURS: dict[str, str] = {
@@ -50,7 +55,7 @@ CAUSE_COLOURS: dict[str, str] = {
 RECOMMENDED = COLOURS["moss"]
 OTHER = COLOURS["pewter"]
 
-_RC: dict[str, object] = {
+_RC: dict[RcKeyType, Any] = {
     "figure.dpi": 100,
     "savefig.dpi": 110,
     "font.size": 9.5,
@@ -85,6 +90,6 @@ def report_style() -> Iterator[None]:
     import seaborn as sns
 
     rc = dict(_RC)
-    rc["axes.prop_cycle"] = mpl.cycler(color=[COLOURS[n] for n in SERIES])
+    rc["axes.prop_cycle"] = cycler(color=[COLOURS[n] for n in SERIES])
     with sns.axes_style("whitegrid", {"grid.color": "#e3e6ea"}), mpl.rc_context(rc):
         yield

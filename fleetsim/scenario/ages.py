@@ -185,10 +185,10 @@ def _distribute(
     units: dict[str, tuple[int, int | None]] = {}
     owner: dict[str, str] = {}
     for i, m in enumerate(machines):
-        for u, uid in enumerate(m.unit_ids()):
+        for unit_no, uid in enumerate(m.unit_ids()):
             owner[uid] = m.id
             if i in readers:
-                units[uid] = (i, u)
+                units[uid] = (i, unit_no)
         owner.setdefault(m.id, m.id)
         if i in readers and m.id not in units:
             units[m.id] = (i, None)

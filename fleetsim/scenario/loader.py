@@ -61,7 +61,8 @@ from fleetsim.scenario.model import (
     Study,
 )
 from fleetsim.scenario.policies import read_policy
-from fleetsim.scenario.reader import Table, join, show, suggest
+from fleetsim.scenario.reader import NumberOptions, Table, join, show, suggest
+from fleetsim.seed import SEED_EXPECTED, check_seed
 
 SECTIONS = (
     "study", "costs", "life", "bearing", "machine", "group", "policy", "stores", "crews",
@@ -218,14 +219,14 @@ def _study(t: Table | None, source: str) -> Study:
     name = t.text("name", stem or "scenario")
     horizon = t.quantity("horizon", "time", positive=True)
     reps = t.integer("replications", 100, minimum=1, what="a number of replications")
-    seed = t.integer("seed", 0, minimum=0, what="a seed (whole number >= 0)")
+    seed = check_seed(t.raw("seed", 0, SEED_EXPECTED), where=t.where("seed"))
     return Study(name=name, horizon_h=horizon, replications=reps, seed=seed)
 
 
 def _costs(t: Table | None) -> Costs:
     if t is None:
         return Costs()
-    money = {"minimum": 0.0, "what": "an amount of money"}
+    money: NumberOptions = {"minimum": 0.0, "what": "an amount of money"}
     return Costs(
         currency=t.text("currency", "EUR"),
         planned_replacement=t.number("planned_replacement", 0.0, **money),
@@ -383,15 +384,15 @@ def _stores(root: Table, bearings: dict[str, Bearing], lead: dict[str, Any]) -> 
                 f"no [[bearing]] with id {bid!r}{suggest(bid, bearings)}",
             )
         t = Table(raw[bid], join("stores", bid), root.source, STOCK_KEYS)
-        count = {"what": "a number of bearings"}
-        s = t.integer("reorder_point", minimum=-1, **count)
-        big_s = t.integer("order_up_to", minimum=0, **count)
+        count = "a number of bearings"
+        s = t.integer("reorder_point", minimum=-1, what=count)
+        big_s = t.integer("order_up_to", minimum=0, what=count)
         if not s < big_s:
             raise t.error(
                 "reorder_point",
                 f"expected reorder_point s < order_up_to S, got s = {s} and S = {big_s}",
             )
-        initial = t.integer("initial", big_s, minimum=0, **count)
+        initial = t.integer("initial", big_s, minimum=0, what=count)
         lead_time = t.duration("lead_time", lead.get(bid))
         if lead_time is None:
             raise t.error(

@@ -24,7 +24,7 @@ from fleetsim.life import (
 )
 from fleetsim.scenario.model import HOURS_PER_YEAR, Bearing, Machine, Policy, Position
 from fleetsim.scenario.policies import read_policy
-from fleetsim.scenario.reader import Table, join, show, suggest
+from fleetsim.scenario.reader import NumberBounds, Table, join, show, suggest
 
 #: Upper limit on ``count`` of machines and positions (a guard against typos).
 MAX_COUNT = 100_000
@@ -229,7 +229,7 @@ def _derive(t: Table, bearing: Bearing, bearing_path: str, defaults: LifeDefault
         if radial == 0 and axial == 0:
             raise t.error("radial_load", "expected a positive radial or axial load, got both zero")
         steps = [DutyStep(1.0, radial, axial, t.quantity("speed", "speed", positive=True))]
-    factor = {"minimum": 0.0, "exclusive_minimum": True}
+    factor: NumberBounds = {"minimum": 0.0, "exclusive_minimum": True}
     application = t.number("application_factor", 1.0, what="an application factor a_f", **factor)
     rotation = t.number("rotation_factor", 1.0, what="a rotation factor V", **factor)
     kappa = t.number(

@@ -16,7 +16,7 @@ import json
 import math
 import re
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, TypedDict
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Duration
@@ -69,6 +69,21 @@ def suggest(word: str, choices: Iterable[str]) -> str:
     if not options:
         return ""
     return "; expected one of: " + ", ".join(options)
+
+
+class NumberBounds(TypedDict, total=False):
+    """Bounds of :meth:`Table.number` that several keys of a section share."""
+
+    minimum: float | None
+    maximum: float | None
+    exclusive_minimum: bool
+    exclusive_maximum: bool
+
+
+class NumberOptions(NumberBounds, total=False):
+    """Bounds and description of :meth:`Table.number` that several keys share."""
+
+    what: str
 
 
 class Table:

@@ -20,6 +20,7 @@ from __future__ import annotations
 from collections.abc import Callable
 
 import simpy
+from simpy.resources.resource import PriorityRequest
 
 UNPLANNED = 0
 PLANNED = 1
@@ -41,7 +42,7 @@ class CrewPool:
         self.resource = simpy.PriorityResource(env, count) if count is not None else None
         self.busy_h = 0.0
 
-    def request(self, priority: int, notify: Callable[[], None] | None = None) -> simpy.Event | None:
+    def request(self, priority: int, notify: Callable[[], None] | None = None) -> PriorityRequest | None:
         """Ask for a crew; None means granted at once (unlimited crews).
 
         ``notify`` is called when a queued request is granted.
@@ -54,11 +55,11 @@ class CrewPool:
         return req
 
     @staticmethod
-    def granted(req: simpy.Event | None) -> bool:
+    def granted(req: PriorityRequest | None) -> bool:
         """True when the request holds a crew."""
         return req is None or req.triggered
 
-    def withdraw(self, req: simpy.Event | None) -> None:
+    def withdraw(self, req: PriorityRequest | None) -> None:
         """Give up a request: leave the queue, or hand the crew back if already granted."""
         if req is None or self.resource is None:
             return
@@ -67,7 +68,7 @@ class CrewPool:
         else:
             req.cancel()
 
-    def release(self, req: simpy.Event | None, worked_h: float) -> None:
+    def release(self, req: PriorityRequest | None, worked_h: float) -> None:
         """Hand a crew back after ``worked_h`` hours of work."""
         self.busy_h += worked_h
         if req is not None and self.resource is not None:

@@ -15,7 +15,7 @@ replacement without finite stores or crews is all quiet units.
 from __future__ import annotations
 
 from collections.abc import Generator
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, cast
 
 import simpy
 
@@ -24,6 +24,7 @@ from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
 
 if TYPE_CHECKING:
     from fleetsim.sim.setup import PositionState
+    from fleetsim.sim.stores import UnlimitedSupply  # a quiet unit's stores are all unlimited
     from fleetsim.sim.unit import UnitRunner
 
 
@@ -96,7 +97,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 p.failed = True
                 p.defects += 1
                 p.failures += 1
-                p.store.issue(now)
+                cast("UnlimitedSupply", p.store).issue(now)
                 if log is not None:
                     log(now, uid, p.id, "failure")
             counts["defects"] += len(failed)
@@ -124,12 +125,12 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 if p.failed:
                     continue
                 if p.pending:
-                    p.store.issue(now)
+                    cast("UnlimitedSupply", p.store).issue(now)
                     work.append(p)
                     continue
                 s = p.policy.opportunistic_share
                 if s is not None and p.interval_h and clock - p.installed_op >= s * p.interval_h:
-                    p.store.issue(now)
+                    cast("UnlimitedSupply", p.store).issue(now)
                     work.append(p)
         if duration > 0.0:
             yield timeout(duration)

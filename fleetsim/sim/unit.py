@@ -41,6 +41,7 @@ from collections.abc import Generator
 from typing import Any
 
 import simpy
+from simpy.resources.resource import PriorityRequest
 
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
 from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext
@@ -93,7 +94,7 @@ class UnitRunner:
         self.pending: list[PositionState] = []
         self.start_at = INF
         self.crew_asked = False
-        self.crew_req: simpy.Event | None = None
+        self.crew_req: PriorityRequest | None = None
         self.wake: simpy.Event | None = None
         self._timer: simpy.Event | None = None
         self._timer_at = INF
@@ -188,9 +189,12 @@ class UnitRunner:
         else:
             life = p.life.life_from_uniform(p.life_table.get(k, p.unit_no, p.slot))
         pf = p.policy.pf_interval
-        pf_h = pf.quantile(p.pf_table.get(k, p.unit_no, p.slot)) if pf is not None else 0.0
-        if self.random_stops:
-            p.stop_u = p.stop_table.get(k, p.unit_no, p.slot)
+        pf_table = p.pf_table  # drawn whenever a position of the machine has a P-F interval
+        pf_h = (pf.quantile(pf_table.get(k, p.unit_no, p.slot))
+                if pf is not None and pf_table is not None else 0.0)
+        stop_table = p.stop_table  # drawn exactly when stops are random
+        if stop_table is not None:
+            p.stop_u = stop_table.get(k, p.unit_no, p.slot)
         p.k = k + 1
         p.installed_op = clock
         p.defect_op = clock + life

@@ -30,7 +30,7 @@ a planned change costs ``planned_replacement`` + price, a failure
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -60,15 +60,15 @@ class _Tally:
     failed_after_detection: int = 0
     downtime_repair_h: float = 0.0
     downtime_planned_h: float = 0.0
-    issued: np.ndarray | None = None  # per position index
-    intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] | None = None  # (unit, start, end)
+    issued: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))  # per position
+    intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = field(default_factory=list)  # (unit, start, end)
     first_stop_h: float = math.inf  # first stop of any unit (for a fleet without groups)
     # With discounting (fleetsim.sim.discount), the engine's twins of the DES's sums:
     pv_failures: float = 0.0  # Σ v(t) over failures
     pv_changes: float = 0.0  # Σ v(t) over planned and opportunistic changes (end of the stop)
     pv_inspections: float = 0.0
     pv_down_h: float = 0.0  # ∫ v(t) dt over stopped hours
-    pv_issued: np.ndarray | None = None  # Σ v(t) over spares issued, per position index
+    pv_issued: np.ndarray = field(default_factory=lambda: np.zeros(0))  # Σ v(t) over spares issued, per position
 
 
 def _life_params(machine: Machine) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -10,13 +10,16 @@ engine when the scenario allows it (no finite stores or crews).
 from __future__ import annotations
 
 import math
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
 import numpy as np
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Scenario
 from fleetsim.sim.discount import per_year
+
+if TYPE_CHECKING:
+    from fleetsim.sim.records import ReplicationResult
 
 EngineName = Literal["des", "vector"]
 #: Below this many positions the discrete-event engine is about as fast (benchmarks/).
@@ -63,7 +66,7 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
     raise InputError("--engine", f"expected des, vector or auto, got {requested!r}")
 
 
-def des_figures(result, scenario: Scenario) -> dict[str, float]:  # type: ignore[no-untyped-def]
+def des_figures(result: ReplicationResult, scenario: Scenario) -> dict[str, float]:
     """Reduce a :class:`fleetsim.sim.ReplicationResult` to the study's figures."""
     H = result.horizon_h
     years = result.years

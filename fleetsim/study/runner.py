@@ -25,7 +25,7 @@ from typing import Any
 import pandas as pd
 
 from fleetsim.errors import InputError
-from fleetsim.study.seeds import replication_seed
+from fleetsim.study.seeds import check_seed, replication_seed
 
 #: ``task(payload, seed_sequence) -> {figure: value}``; must be a module-level function.
 ReplicationTask = Callable[[Any, Any], Mapping[str, float]]
@@ -140,6 +140,7 @@ def run_replications(
     """
     if replications < 1:
         raise InputError("replications", f"expected at least 1, got {replications}")
+    seed = check_seed(seed)
     if workers < 1:
         raise InputError("workers", f"expected at least 1, got {workers}")
     done: dict[int, dict] = {}

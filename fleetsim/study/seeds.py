@@ -11,9 +11,17 @@ from __future__ import annotations
 
 import numpy as np
 
+from fleetsim.seed import check_seed
+
+__all__ = ["check_seed", "replication_seed"]
+
 
 def replication_seed(seed: int, index: int) -> np.random.SeedSequence:
-    """The seed sequence of replication ``index`` (0-based) of a study seeded ``seed``."""
+    """The seed sequence of replication ``index`` (0-based) of a study seeded ``seed``.
+
+    Raises :class:`~fleetsim.errors.InputError` for a seed that
+    :func:`~fleetsim.seed.check_seed` refuses.
+    """
     if index < 0:
         raise ValueError(f"replication index must be >= 0, got {index}")
-    return np.random.SeedSequence(entropy=seed, spawn_key=(index,))
+    return np.random.SeedSequence(entropy=check_seed(seed), spawn_key=(index,))

@@ -16,6 +16,7 @@ import json
 import time
 from collections.abc import Mapping
 from pathlib import Path
+from typing import Any
 
 import pandas as pd
 
@@ -24,7 +25,7 @@ from fleetsim.scenario.model import Policy, Scenario
 from fleetsim.study.engines import choose_engine, replicate
 from fleetsim.study.result import StudyResult
 from fleetsim.study.runner import Progress, run_replications
-from fleetsim.study.seeds import replication_seed
+from fleetsim.study.seeds import check_seed, replication_seed
 
 
 def study_key(scenario: Scenario, seed: int, replications: int, engine: str, horizon_h: float) -> str:
@@ -75,7 +76,7 @@ def run_study(
     StudyResult
     """
     reps = scenario.study.replications if replications is None else replications
-    s = scenario.study.seed if seed is None else seed
+    s = check_seed(scenario.study.seed if seed is None else seed)
     horizon = scenario.study.horizon_h if horizon_h is None else horizon_h
     if not horizon > 0:
         raise InputError("horizon", f"expected a horizon > 0, got {horizon} h")
@@ -122,7 +123,7 @@ def with_policy(scenario: Scenario, policy: Policy, machines: list[str] | None =
 
 
 def compare(
-    variants: Mapping[str, Scenario], **kwargs: object
+    variants: Mapping[str, Scenario], **kwargs: Any
 ) -> list[StudyResult]:
     """Run several variants on the same seed (common random numbers).
 
@@ -130,9 +131,9 @@ def compare(
     positions see the same lives in every variant and the paired differences
     have small variance. Keyword arguments go to :func:`run_study`.
     """
-    results = []
+    results: list[StudyResult] = []
     for name, sc in variants.items():
-        results.append(run_study(sc, label=name, **kwargs))  # type: ignore[arg-type]
+        results.append(run_study(sc, label=name, **kwargs))
     return results
 
 

@@ -162,7 +162,9 @@ def parse_values(text: str, where: str) -> list[Any]:
 
 def _split_top(text: str) -> list[str]:
     """Split on commas outside braces, brackets and quotes."""
-    out, depth, quote, cur = [], 0, "", []
+    out: list[str] = []
+    cur: list[str] = []
+    depth, quote = 0, ""
     for ch in text:
         if quote:
             quote = "" if ch == quote else quote
