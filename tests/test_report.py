@@ -11,8 +11,8 @@ import base64
 import io
 import json
 import math
-import subprocess
 import re
+import subprocess
 from html.parser import HTMLParser
 from pathlib import Path
 
