@@ -56,9 +56,15 @@ POSITIONS_PER_UNIT = 4
 YARDSTICK_ROUNDS = 7
 
 
+CONDITION_PF = Duration("exponential", 1_500.0)
+
+
 def fleet(positions: int, policy: Policy, repair_h: float = 0.0) -> Scenario:
     """A fleet of ``positions`` bearing positions, four per unit, all on ``policy``."""
-    pos = tuple(Position(f"p{j}", "B", LIFE, policy) for j in range(POSITIONS_PER_UNIT))
+    # the condition fleet's bearings have a P-F interval (it belongs to the position)
+    pf = CONDITION_PF if policy.kind == "condition" else None
+    pos = tuple(Position(f"p{j}", "B", LIFE, policy, pf_interval=pf)
+                for j in range(POSITIONS_PER_UNIT))
     units = max(1, positions // POSITIONS_PER_UNIT)
     rep = Duration.fixed(repair_h)
     return Scenario(
@@ -141,8 +147,7 @@ POLICIES = {
     "run-to-failure": Policy(),
     "age": Policy("age", 30_000.0),
     "block": Policy("block", 30_000.0),
-    "condition": Policy("condition", inspection_every_h=720.0,
-                        pf_interval=Duration("exponential", 1_500.0), detection=0.8),
+    "condition": Policy("condition", inspection_every_h=720.0, detection=0.8),
 }
 
 

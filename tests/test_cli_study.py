@@ -195,7 +195,7 @@ def test_an_inspection_sweep_draws_its_cost_curve_and_names_only_what_varies(
     out = tmp_path / "insp"
     code = main(["sweep", str(small), "--json", "--quiet", "--out", str(out), "--replications", "4",
                  "--vary", 'policy={kind = "condition", inspection_every = "2 weeks", '
-                           'pf_interval = "3 weeks", detection = 0.9}',
+                           'detection = 0.9}', "--vary", "life.pf_interval=3 weeks",
                  "--vary", "policy.inspection_every=1,4 weeks", "--vary", "costs.inspection=20"])
     assert code == 0
     sweep = json.loads(capsys.readouterr().out)

@@ -29,12 +29,13 @@ from fleetsim.scenario.model import (
 from fleetsim.study import run_study
 
 LIFE = LifeDistribution(shape=1.4, scale_h=30_000.0, location_h=1_500.0)
+#: the P-F interval belongs to the position: the same under every policy
+PF = Duration("weibull", 2_500.0, shape=2.0)
 POLICIES = {
     "run-to-failure": Policy(),
     "age": Policy("age", 20_000.0),
     "block": Policy("block", 25_000.0, block_scope="machine"),
-    "condition": Policy("condition", inspection_every_h=1_000.0,
-                        pf_interval=Duration("weibull", 2_500.0, shape=2.0), detection=0.7,
+    "condition": Policy("condition", inspection_every_h=1_000.0, detection=0.7,
                         respond_within_h=100.0),
     "age+opportunistic": Policy("age", 20_000.0, opportunistic_share=0.7),
 }
@@ -42,9 +43,9 @@ POLICIES = {
 
 def scenario(policy: Policy) -> Scenario:
     positions = (
-        Position("drive-end", "B1", LIFE, policy),
-        Position("non-drive-end", "B1", LIFE.scaled(1.5), policy),
-        Position("pump", "B2", LIFE.scaled(0.8), policy),
+        Position("drive-end", "B1", LIFE, policy, pf_interval=PF),
+        Position("non-drive-end", "B1", LIFE.scaled(1.5), policy, pf_interval=PF),
+        Position("pump", "B2", LIFE.scaled(0.8), policy, pf_interval=PF),
     )
     return Scenario(
         Study("agree", 87_660.0, 120, 2024),

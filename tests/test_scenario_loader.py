@@ -310,8 +310,8 @@ def test_condition_and_block_policies() -> None:
         BASE,
         'policy = { kind = "run-to-failure" }',
         'policy = { kind = "condition", inspection_every = "4 weeks", detection = 0.8, '
-        'pf_interval = { kind = "lognormal", median = "60 d", p90 = "120 d" }, '
-        'respond_within = "3 d" }',
+        'respond_within = "3 d" }\n'
+        '  pf_interval = { kind = "lognormal", median = "60 d", p90 = "120 d" }',
     )
     text = edit(
         text, 'kind = "age"', 'kind = "block"\nblock_scope = "position"\nopportunistic_share = 0.5'
@@ -329,7 +329,30 @@ def test_condition_and_block_policies() -> None:
     assert pol.inspection_every_h == 28 * 24.0
     assert pol.detection == 0.8
     assert pol.respond_within_h == 72.0
-    assert pol.pf_interval == Duration("lognormal", 60 * 24.0, p90_h=120 * 24.0)
+    assert nde.pf_interval == Duration("lognormal", 60 * 24.0, p90_h=120 * 24.0)
+    assert de.pf_interval is None
+
+
+def test_pf_interval_belongs_to_the_position_bearing_or_life_section() -> None:
+    """The P-F interval is part of the failure process: read from the position, else
+    its [[bearing]], else [life]; the same under every policy."""
+    text = edit(BASE, 'price = 300', 'price = 300\npf_interval = "10 d"')
+    text = edit(text, '[[bearing]]\nid = "TB-1"', '[life]\npf_interval = "3 d"\n\n[[bearing]]\nid = "TB-1"')
+    s = load(text)
+    de, nde = s.machine("fan").positions
+    assert de.pf_interval == Duration.fixed(72.0)  # [life] default
+    assert nde.pf_interval == Duration.fixed(240.0)  # its bearing's
+    s = load(edit(text, '  policy = { kind = "run-to-failure" }',
+                  '  policy = { kind = "run-to-failure" }\n  pf_interval = "1 d"'))
+    assert s.machine("fan").positions[1].pf_interval == Duration.fixed(24.0)
+    assert s.machine("fan").positions[1].policy.kind == "run-to-failure"
+
+
+def test_a_policy_that_gives_a_pf_interval_is_refused() -> None:
+    text = edit(BASE, '{ kind = "run-to-failure" }',
+                '{ kind = "condition", inspection_every = "30 d", pf_interval = "60 d" }')
+    with pytest.raises(InputError, match="belongs to the failure process"):
+        load(text)
 
 
 def test_defaults_when_sections_are_absent() -> None:
@@ -446,7 +469,7 @@ ERRORS = [
     ),
     (
         '{ kind = "run-to-failure" }',
-        '{ kind = "condition", pf_interval = "30 d" }',
+        '{ kind = "condition", detection = 0.5 }',
         f"{POS1}.policy.inspection_every",
         "inspection interval",
     ),
@@ -467,7 +490,7 @@ ERRORS = [
     ("contamination = 0.5", "contamination = 1.5", f"{POS1}.contamination", "<= 1, got 1.5"),
     (
         '{ kind = "run-to-failure" }',
-        '{ kind = "condition", inspection_every = "30 d", pf_interval = "60 d", detection = 1.2 }',
+        '{ kind = "condition", inspection_every = "30 d", detection = 1.2 }',
         f"{POS1}.policy.detection",
         "probability >= 0 and <= 1, got 1.2",
     ),

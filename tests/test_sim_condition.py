@@ -31,8 +31,9 @@ B = "FB-1"
 LIFE = LifeDistribution(shape=1.5, scale_h=3_000.0, location_h=200.0)
 
 
-def fleet(policy: Policy, *, units: int, positions: int, horizon: float, life=LIFE) -> Scenario:
-    pos = tuple(Position(f"p{j}", B, life, policy) for j in range(positions))
+def fleet(policy: Policy, *, units: int, positions: int, horizon: float, life=LIFE,
+          pf: Duration | None = None) -> Scenario:
+    pos = tuple(Position(f"p{j}", B, life, policy, pf_interval=pf) for j in range(positions))
     return Scenario(
         study=Study("condition", horizon, 1, 0),
         costs=Costs(inspection=10.0),
@@ -91,8 +92,8 @@ def test_share_of_defects_that_fail_follows_the_delay_time_model(pf: Duration, d
     def uniform_life(unit: str, position: str, k: int) -> float:
         return float(rng.uniform(0.0, 2.0 * every))
 
-    policy = Policy("condition", inspection_every_h=every, pf_interval=pf, detection=detection)
-    sc = fleet(policy, units=4, positions=25, horizon=30_000.0)
+    policy = Policy("condition", inspection_every_h=every, detection=detection)
+    sc = fleet(policy, units=4, positions=25, horizon=30_000.0, pf=pf)
     r = simulate(sc, np.random.SeedSequence(7), keep_events=False, life_sampler=uniform_life)
     fails, found = r.counts["failures"], r.counts["detections"]
     n = fails + found
@@ -122,11 +123,11 @@ def test_run_to_failure_is_the_limit_of_blind_or_absent_inspection() -> None:
     run-to-failure."""
     pf = Duration("lognormal", 500.0, 1500.0)
     horizon = 60_000.0
-    rtf = fleet(Policy("run-to-failure", pf_interval=pf), units=3, positions=4, horizon=horizon)
-    blind = fleet(Policy("condition", inspection_every_h=200.0, pf_interval=pf, detection=0.0),
-                  units=3, positions=4, horizon=horizon)
-    never = fleet(Policy("condition", inspection_every_h=1e9, pf_interval=pf, detection=0.9),
-                  units=3, positions=4, horizon=horizon)
+    rtf = fleet(Policy("run-to-failure"), units=3, positions=4, horizon=horizon, pf=pf)
+    blind = fleet(Policy("condition", inspection_every_h=200.0, detection=0.0),
+                  units=3, positions=4, horizon=horizon, pf=pf)
+    never = fleet(Policy("condition", inspection_every_h=1e9, detection=0.9),
+                  units=3, positions=4, horizon=horizon, pf=pf)
     seed = np.random.SeedSequence(99)
     base = simulate(rtf, seed)
     assert len(_failures(base)) > 30
@@ -146,9 +147,9 @@ def test_monitoring_prevents_failures_on_the_same_lives() -> None:
     first replacement differs."""
     pf = Duration.fixed(600.0)
     horizon = 60_000.0
-    rtf = fleet(Policy("run-to-failure", pf_interval=pf), units=3, positions=4, horizon=horizon)
-    cbm = fleet(Policy("condition", inspection_every_h=150.0, pf_interval=pf, detection=0.9),
-                units=3, positions=4, horizon=horizon)
+    rtf = fleet(Policy("run-to-failure"), units=3, positions=4, horizon=horizon, pf=pf)
+    cbm = fleet(Policy("condition", inspection_every_h=150.0, detection=0.9),
+                units=3, positions=4, horizon=horizon, pf=pf)
     seed = np.random.SeedSequence(5)
     a, b = simulate(rtf, seed), simulate(cbm, seed)
     # Every window holds at least 3 inspections (600 h / 150 h), so a defect is

@@ -26,14 +26,16 @@ from fleetsim.scenario.model import (
     Study,
 )
 from fleetsim.sim import simulate
+from fleetsim.study.figures import figures_of
 
 LIFE = LifeDistribution(shape=1.5, scale_h=10_000.0)  # unused when lives are tabled
 NEVER = 1e12
 B = "FB-1"
 
 
-def pos(pid: str, policy: Policy | None = None, bearing: str = B) -> Position:
-    return Position(pid, bearing, LIFE, policy or Policy())
+def pos(pid: str, policy: Policy | None = None, bearing: str = B,
+        pf: Duration | None = None) -> Position:
+    return Position(pid, bearing, LIFE, policy or Policy(), pf_interval=pf)
 
 
 B2 = "FR-2"
@@ -113,15 +115,15 @@ def test_failure_waits_for_the_replenishment_order() -> None:
     assert r.costs["downtime"] == 158.0 * 10.0
     assert r.costs["holding"] == pytest.approx(0.25 * 100.0 * (242.0 / 500.0) * years)
     assert r.costs["total"] == pytest.approx(sum(v for k, v in r.costs.items() if k != "total"))
-    # The flat figures agree with the tables.
-    f = r.figures()
+    # The study's figures (the one reduction of the tally) agree with the tables.
+    assert r.tally is not None
+    f = figures_of(r.tally, sc)
     assert f["failures"] == 2.0 and f["stockouts"] == 1.0
-    assert f["downtime.waiting_spare_h"] == 142.0 and f["downtime.total_h"] == 158.0
-    assert f["availability.P1"] == pytest.approx(342.0 / 500.0) == f["availability"]
-    assert f["spares.FB-1.fill_rate"] == 0.5 and f["spares.FB-1.issued"] == 2.0
-    assert f["cost.total"] == pytest.approx(r.costs["total"])
-    assert f["cost.per_operating_h"] == pytest.approx(r.costs["total"] / 342.0)
-    assert f["group.fleet.had_down"] == 1.0 and f["group.fleet.first_down_h"] == 100.0
+    assert f["downtime_spares_h"] == 142.0 and f["downtime_h"] == 158.0
+    assert f["availability:P1"] == pytest.approx(342.0 / 500.0) == f["availability"]
+    assert f["fill_rate:FB-1"] == 0.5 and f["spares_issued:FB-1"] == 2.0
+    assert f["cost_total"] == pytest.approx(r.costs["total"])
+    assert f["fleet_down"] == 1.0 and f["fleet_first_down_h"] == 100.0
 
 
 def test_crew_queue_first_come_first_served_but_failures_first() -> None:
@@ -357,11 +359,10 @@ def test_detection_schedules_replacement_and_opportunistic_sibling() -> None:
     # within 24 h. Its defect appears at 250 (failure would be at 400); the
     # inspection at 300 finds it; the stop at 324 also changes nde, whose age
     # (324 h) is beyond 0.5 × 400 h.
-    cond = Policy("condition", inspection_every_h=100.0, pf_interval=fixed(150.0),
-                  detection=1.0, respond_within_h=24.0)
-    opp = Policy("run-to-failure", interval_h=400.0, opportunistic_share=0.5)
+    cond = Policy("condition", inspection_every_h=100.0, detection=1.0, respond_within_h=24.0)
+    opp = Policy("age", interval_h=400.0, opportunistic_share=0.5)
     sc = scenario(
-        [Machine("U", 1, 1.0, 0.0, (pos("de", cond), pos("nde", opp)))],
+        [Machine("U", 1, 1.0, 0.0, (pos("de", cond, pf=fixed(150.0)), pos("nde", opp)))],
         crews=Crews(1, fixed(6.0), fixed(10.0)),
         costs=Costs(inspection=20.0, planned_replacement=50.0),
         horizon=450.0,
@@ -391,9 +392,9 @@ def test_missed_defect_and_failure_after_detection() -> None:
     # response (200 h) and perfect detection, it is found at 300 and fails at 400
     # before the planned change at 500.
     for detection, respond, missed, after in ((0.0, 24.0, 1, 0), (1.0, 200.0, 0, 1)):
-        cond = Policy("condition", inspection_every_h=100.0, pf_interval=fixed(150.0),
-                      detection=detection, respond_within_h=respond)
-        sc = scenario([Machine("U", 1, 1.0, 0.0, (pos("de", cond),))],
+        cond = Policy("condition", inspection_every_h=100.0, detection=detection,
+                      respond_within_h=respond)
+        sc = scenario([Machine("U", 1, 1.0, 0.0, (pos("de", cond, pf=fixed(150.0)),))],
                       crews=Crews(1, fixed(6.0), fixed(10.0)), horizon=450.0)
         r = simulate(sc, 1, life_sampler=lives({("U", "de"): [250.0]}))
         c = r.counts
@@ -464,3 +465,79 @@ def test_bad_scenarios_raise_input_error() -> None:
         simulate(scenario([Machine("U", 1, 1.0, 0.0, (pos("a", bearing="nope"),))]), 1)
     with pytest.raises(InputError, match="horizon"):
         simulate(scenario([Machine("U", 1, 1.0, 0.0, (pos("a"),))]), 1, horizon_h=-1.0)
+
+
+def test_block_opportunistic_on_the_calendar_clock_and_the_modified_block_rule() -> None:
+    """Block replacement every 1000 h (calendar) with opportunistic share 0.5 and the
+    modified block rule "skip positions fitted less than 500 h before" (Berg & Epstein
+    1976, from memory), on a machine running half the time.
+
+    b fails at 300 operating hours = calendar 600. In that stop a's *calendar* age
+    (600 h) has reached 0.5 × 1000 h, so a is changed opportunistically (its operating
+    age, 300 h, would not have reached it: the old mixed-clock rule never fired on
+    such a machine). At the block date 1000 a is 390 h old (fitted at 610): younger
+    than 500 h, so it is skipped and no stop is made; at 2000 it is changed.
+    """
+    blk = Policy("block", 1_000.0, opportunistic_share=0.5, skip_younger_than_h=500.0)
+    sc = scenario(
+        [Machine("U", 1, 0.5, 0.0, (pos("a", blk), pos("b")))],
+        crews=Crews(None, fixed(4.0), fixed(10.0)),
+        costs=Costs(planned_replacement=50.0),
+        horizon=2_500.0,
+    )
+    r = simulate(sc, 1, life_sampler=lives({("U", "b"): [300.0]}))
+    assert r.event_log() == [
+        (600.0, "U", "b", "failure"),
+        (600.0, "U", "", "work"),
+        (610.0, "U", "b", "corrective"),
+        (610.0, "U", "a", "opportunistic"),
+        (610.0, "U", "", "up"),
+        (2_000.0, "U", "", "stop"),
+        (2_004.0, "U", "a", "planned"),
+        (2_004.0, "U", "", "up"),
+    ]
+    assert (r.counts["planned"], r.counts["opportunistic"]) == (1, 1)
+    # Without the skip rule the block date at 1000 changes a again, 390 h after fitting.
+    plain = scenario(
+        [Machine("U", 1, 0.5, 0.0, (pos("a", Policy("block", 1_000.0, opportunistic_share=0.5)),
+                                    pos("b")))],
+        crews=Crews(None, fixed(4.0), fixed(10.0)), horizon=2_500.0,
+    )
+    r = simulate(plain, 1, life_sampler=lives({("U", "b"): [300.0]}))
+    assert [e for e in r.event_log() if e[3] == "planned"] == [
+        (1_004.0, "U", "a", "planned"), (2_004.0, "U", "a", "planned")]
+
+
+def test_a_block_date_during_a_stop_does_not_ask_again_for_what_the_stop_changes() -> None:
+    """Block date 1000 falls inside the repair of a failure at 995 (10 h): a, changed
+    opportunistically in that stop, is not requested again (no second spare, no
+    second stop); the unlimited store issues exactly two spares."""
+    blk = Policy("block", 1_000.0, opportunistic_share=0.5)
+    sc = scenario([Machine("U", 1, 1.0, 0.0, (pos("a", blk), pos("b")))],
+                  crews=Crews(None, fixed(4.0), fixed(10.0)), horizon=1_500.0)
+    r = simulate(sc, 1, life_sampler=lives({("U", "b"): [995.0]}))
+    assert [e for e in r.event_log() if e[2] == "a"] == [(1_005.0, "U", "a", "opportunistic")]
+    assert r.spares.loc[B, "issued"] == 2
+    assert r.counts["planned"] == 0
+
+
+def test_downtime_is_charged_per_operating_hour_lost_and_group_down_per_hour() -> None:
+    """A unit running 40 % of the time, down 10 h, loses 4 operating hours; a 1-of-1
+    group over it is down those 10 calendar hours at its own rate."""
+    sc = Scenario(
+        study=Study("test", 500.0, 1, 0),
+        costs=Costs(downtime_per_hour=100.0),
+        bearings={B: Bearing(B, "ball", 10_000.0)},
+        machines=(Machine("U", 1, 0.4, 0.0, (pos("a"),)),),
+        groups=(Group("g", ("U",), 1, downtime_per_hour=1_000.0),),
+        crews=Crews(None, fixed(0.0), fixed(10.0)),
+    )
+    r = simulate(sc, 1, life_sampler=lives({("U", "a"): [40.0]}))  # fails at calendar 100
+    assert r.units.loc["U", "down_h"] == 10.0
+    assert r.costs["downtime"] == pytest.approx(100.0 * 0.4 * 10.0)
+    assert r.costs["group_downtime"] == pytest.approx(1_000.0 * 10.0)
+    assert r.tally is not None
+    f = figures_of(r.tally, sc)
+    assert f["lost_operating_h"] == pytest.approx(4.0)
+    assert f["cost_group_downtime"] == pytest.approx(10_000.0)
+    assert f["cost_total"] == pytest.approx(400.0 + 10_000.0)

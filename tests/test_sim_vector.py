@@ -23,6 +23,7 @@ from fleetsim.scenario.model import (
     Study,
 )
 from fleetsim.sim.vector import simulate_vector
+from fleetsim.study.figures import figures_of
 
 LIFE = LifeDistribution(shape=1.5, scale_h=20_000.0, location_h=1_000.0)
 H = 87_660.0
@@ -31,8 +32,8 @@ COSTS = Costs(planned_replacement=100.0, failure=500.0)
 
 def fleet(policy: Policy, *, units: int = 50, positions: int = 4, life: LifeDistribution = LIFE,
           repair: Duration | None = None, costs: Costs | None = COSTS, groups=(),
-          horizon_h: float = H) -> Scenario:
-    pos = tuple(Position(f"p{j}", "B1", life, policy) for j in range(positions))
+          horizon_h: float = H, pf: Duration | None = None) -> Scenario:
+    pos = tuple(Position(f"p{j}", "B1", life, policy, pf_interval=pf) for j in range(positions))
     rep = repair or Duration.fixed(0.0)
     return Scenario(
         Study("t", horizon_h, 100, 1),
@@ -45,7 +46,8 @@ def fleet(policy: Policy, *, units: int = 50, positions: int = 4, life: LifeDist
 
 
 def run(scenario: Scenario, reps: int, seed: int = 1) -> dict[str, np.ndarray]:
-    rows = [simulate_vector(scenario, np.random.SeedSequence(seed, spawn_key=(i,))) for i in range(reps)]
+    rows = [figures_of(simulate_vector(scenario, np.random.SeedSequence(seed, spawn_key=(i,))),
+                       scenario) for i in range(reps)]
     return {k: np.array([r[k] for r in rows]) for k in rows[0]}
 
 
@@ -108,8 +110,8 @@ def test_condition_policy_matches_delay_time_model() -> None:
     life = LifeDistribution(shape=1.0, scale_h=40_000.0)
     delta = 720.0
     for pf, p in [(Duration("exponential", 500.0), 1.0), (Duration("weibull", 900.0, shape=2.0), 0.6)]:
-        policy = Policy("condition", inspection_every_h=delta, pf_interval=pf, detection=p)
-        out = run(fleet(policy, life=life, units=100, positions=2, horizon_h=200_000.0), 20)
+        policy = Policy("condition", inspection_every_h=delta, detection=p)
+        out = run(fleet(policy, life=life, units=100, positions=2, horizon_h=200_000.0, pf=pf), 20)
         f, d = out["failures"].sum(), out["detections"].sum()
         share = f / (f + d)
         delay = stats.expon(scale=500.0) if pf.kind == "exponential" else stats.weibull_min(2.0, scale=900.0)

@@ -26,6 +26,7 @@ from fleetsim.scenario import Machine, Policy, Position, build_scenario, load_sc
 from fleetsim.scenario.model import Bearing, Costs, Crews, Scenario, Study
 from fleetsim.sim import simulate
 from fleetsim.sim.vector import simulate_vector
+from fleetsim.study.figures import figures_of
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -280,7 +281,8 @@ def test_age_replacement_falls_due_at_each_positions_own_age() -> None:
         (140.0, "U", "a", "planned"),
         (140.0, "U", "", "up"),
     ]
-    fig = simulate_vector(two_position_unit((60.0, 10.0)), np.random.SeedSequence(1))
+    sc = two_position_unit((60.0, 10.0))
+    fig = figures_of(simulate_vector(sc, np.random.SeedSequence(1)), sc)
     assert fig["planned_replacements"] == 3 and fig["failures"] == 0
 
 
@@ -288,7 +290,8 @@ def test_a_position_past_its_interval_is_changed_at_the_start() -> None:
     r = simulate(two_position_unit((250.0, 0.0)), 1, life_sampler=lambda *_: 1e12)
     assert r.event_log()[:3] == [(0.0, "U", "", "stop"), (0.0, "U", "a", "planned"),
                                  (0.0, "U", "", "up")]
-    fig = simulate_vector(two_position_unit((250.0, 0.0)), np.random.SeedSequence(1))
+    sc = two_position_unit((250.0, 0.0))
+    fig = figures_of(simulate_vector(sc, np.random.SeedSequence(1)), sc)
     assert fig["planned_replacements"] == 3  # a at 0 and 100, b at 100
 
 
@@ -303,5 +306,5 @@ def test_equal_ages_give_the_same_results_as_starting_age() -> None:
     scs = [Scenario(Study("eq", 40_000.0, 1, 0), machines=(m,), **common) for m in (base, same)]
     des = [simulate(sc, 5) for sc in scs]
     assert des[0].event_log() == des[1].event_log() and len(des[0].event_log()) > 10
-    vec = [simulate_vector(sc, np.random.SeedSequence(5)) for sc in scs]
+    vec = [figures_of(simulate_vector(sc, np.random.SeedSequence(5)), sc) for sc in scs]
     assert vec[0] == vec[1] and vec[0]["failures"] > 0

@@ -37,6 +37,8 @@ from fleetsim.scenario.model import (
     Study,
 )
 from fleetsim.sim import simulate
+from fleetsim.sim.discount import Discount
+from fleetsim.sim.streams import Streams
 from fleetsim.sim.vector import simulate_machine
 from fleetsim.study import run_study
 
@@ -77,9 +79,10 @@ def des_first_failures(sc: Scenario, seed: int) -> np.ndarray:
 def vector_first_failures(sc: Scenario, seed: int) -> np.ndarray:
     """Operating hours to each unit's first stop, by the vectorised engine (stops are failures)."""
     m = sc.machines[0]
-    tally = simulate_machine(m, 0, sc, np.random.SeedSequence(seed), HORIZON_H)
+    sums = simulate_machine(m, 0, sc, Streams(np.random.SeedSequence(seed)), HORIZON_H,
+                            Discount(0.0), keep_intervals=True)
     first = np.full(m.count, math.inf)
-    for unit, start, _end in tally.intervals:
+    for unit, start, _end in sums.intervals:
         np.minimum.at(first, unit, start)
     assert np.all(np.isfinite(first))
     return first * SHARE

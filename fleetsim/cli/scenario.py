@@ -37,8 +37,8 @@ def describe_duration(d: Duration | None) -> str:
     return f"Weibull, shape {d.shape:g}, scale {d.value_h:g} h"
 
 
-def describe_policy(p: Policy) -> str:
-    """A short text for a maintenance policy."""
+def describe_policy(p: Policy, pf_interval: Duration | None = None) -> str:
+    """A short text for a maintenance policy (with the position's P-F interval)."""
     if p.kind == "run-to-failure":
         return "run to failure"
     if p.kind == "age":
@@ -47,7 +47,7 @@ def describe_policy(p: Policy) -> str:
         text = f"block {p.interval_h:,.0f} h calendar ({p.block_scope})"
     else:
         text = (
-            f"inspect every {p.inspection_every_h:,.0f} h, P-F {describe_duration(p.pf_interval)}, "
+            f"inspect every {p.inspection_every_h:,.0f} h, P-F {describe_duration(pf_interval)}, "
             f"detection {p.detection:g}"
         )
     if p.opportunistic_share is not None:
@@ -55,13 +55,13 @@ def describe_policy(p: Policy) -> str:
     return text
 
 
-def _policy_dict(p: Policy) -> dict[str, Any]:
+def _policy_dict(p: Policy, pf_interval: Duration | None = None) -> dict[str, Any]:
     return {
         "kind": p.kind,
         "interval_h": p.interval_h,
         "block_scope": p.block_scope if p.kind == "block" else None,
         "inspection_every_h": p.inspection_every_h,
-        "pf_interval_mean_h": None if p.pf_interval is None else p.pf_interval.mean_h,
+        "pf_interval_mean_h": None if pf_interval is None else pf_interval.mean_h,
         "detection": p.detection if p.kind == "condition" else None,
         "respond_within_h": p.respond_within_h if p.kind == "condition" else None,
         "opportunistic_share": p.opportunistic_share,
@@ -114,7 +114,7 @@ def position_row(
         "life_mean_h": pos.life.mean_h,
         "starting_age_h": ages,
         "remaining_l10_h": remaining,
-        "policy": _policy_dict(pos.policy),
+        "policy": _policy_dict(pos.policy, pos.pf_interval),
     }
 
 
@@ -244,7 +244,7 @@ def check_report(scenario: Scenario) -> str:
                     fmt(pos.life.location_h, ",.0f"),
                     _span(ages),
                     _span(remaining),
-                    describe_policy(pos.policy),
+                    describe_policy(pos.policy, pos.pf_interval),
                 ]
             )
     notes = (

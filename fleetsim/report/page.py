@@ -20,7 +20,7 @@ import jinja2
 import fleetsim
 from fleetsim import numbers as fmt
 from fleetsim.report.headline import headline_figures
-from fleetsim.scenario.model import HOURS_PER_YEAR, Policy, Scenario
+from fleetsim.scenario.model import HOURS_PER_YEAR, Duration, Policy, Scenario
 from fleetsim.study.result import StudyResult
 
 TEMPLATE = "report.html.j2"
@@ -61,14 +61,14 @@ def _template() -> jinja2.Template:
     return env.from_string(text)
 
 
-def policy_text(policy: Policy) -> str:
-    """A maintenance policy in a few plain words."""
+def policy_text(policy: Policy, pf_interval: Duration | None = None) -> str:
+    """A maintenance policy in a few plain words (with the position's P-F interval)."""
     if policy.kind == "age" and policy.interval_h:
         return f"age replacement at {fmt.number(policy.interval_h)} operating h"
     if policy.kind == "block" and policy.interval_h:
         return f"block replacement every {fmt.number(policy.interval_h)} h ({policy.block_scope})"
     if policy.kind == "condition" and policy.inspection_every_h:
-        pf = f", P-F {fmt.number(policy.pf_interval.mean_h)} h mean" if policy.pf_interval else ""
+        pf = f", P-F {fmt.number(pf_interval.mean_h)} h mean" if pf_interval else ""
         return (
             f"inspect every {fmt.number(policy.inspection_every_h)} h{pf}, "
             f"detection {100 * policy.detection:g} %"
@@ -92,7 +92,7 @@ def fleet_rows(scenario: Scenario) -> list[dict[str, str]]:
                     "basic_l10": fmt.number(basic) if basic is not None else "given life",
                     "life_l10": fmt.number(float(p.life.life_at_reliability(0.9))),
                     "shape": f"{p.life.shape:.3g}",
-                    "policy": policy_text(p.policy),
+                    "policy": policy_text(p.policy, p.pf_interval),
                 }
             )
     return rows

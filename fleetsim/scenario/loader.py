@@ -53,6 +53,7 @@ from fleetsim.scenario.model import (
     Bearing,
     Costs,
     Crews,
+    Duration,
     Group,
     Machine,
     Policy,
@@ -78,7 +79,7 @@ COSTS_KEYS = (
     "holding_rate",
     "discount_rate",
 )
-LIFE_KEYS = ("model", "viscosity_ratio", "contamination")
+LIFE_KEYS = ("model", "viscosity_ratio", "contamination", "pf_interval")
 BEARING_KEYS = (
     "id",
     "type",
@@ -87,11 +88,12 @@ BEARING_KEYS = (
     "fatigue_limit",
     "price",
     "lead_time",
+    "pf_interval",
     "e",
     "X",
     "Y",
 )
-GROUP_KEYS = ("id", "machines", "need", "hold_planned_work")
+GROUP_KEYS = ("id", "machines", "need", "hold_planned_work", "downtime_per_hour")
 STOCK_KEYS = (
     "initial",
     "reorder_point",
@@ -175,7 +177,7 @@ def build_scenario(
     study = _study(root.table("study", STUDY_KEYS, required=True), source)
     costs = _costs(root.table("costs", COSTS_KEYS))
     defaults = _life_defaults(root.table("life", LIFE_KEYS))
-    bearings, bearing_paths, bearing_lead = _bearings(
+    bearings, bearing_paths, bearing_lead, pf_intervals = _bearings(
         root.tables("bearing", BEARING_KEYS, required=True)
     )
     default_policy = Policy()
@@ -184,7 +186,7 @@ def build_scenario(
     machine_tables = root.tables("machine", MACHINE_KEYS, required=True)
     machines = read_machines(
         machine_tables,
-        BearingIndex(bearings, bearing_paths),
+        BearingIndex(bearings, bearing_paths, pf_intervals),
         defaults,
         default_policy,
     )
@@ -277,15 +279,17 @@ def _life_defaults(t: Table | None) -> LifeDefaults:
             "viscosity_ratio", None, minimum=0.0, exclusive_minimum=True, what="a viscosity ratio κ"
         ),
         contamination=t.probability("contamination", None, what="a contamination factor e_C"),
+        pf_interval=t.duration("pf_interval", None, positive=True),
     )
 
 
 def _bearings(
     tables: list[Table],
-) -> tuple[dict[str, Bearing], dict[str, str], dict[str, Any]]:
+) -> tuple[dict[str, Bearing], dict[str, str], dict[str, Any], dict[str, Duration]]:
     bearings: dict[str, Bearing] = {}
     paths: dict[str, str] = {}
     lead: dict[str, Any] = {}
+    pf: dict[str, Duration] = {}
     for t in tables:
         bid = t.identifier()
         if bid in bearings:
@@ -317,7 +321,9 @@ def _bearings(
         )
         paths[bid] = t.path
         lead[bid] = t.duration("lead_time", None)
-    return bearings, paths, lead
+        if t.has("pf_interval"):
+            pf[bid] = t.duration("pf_interval", positive=True)
+    return bearings, paths, lead, pf
 
 
 # ---------------------------------------------------------------------------------------
@@ -364,7 +370,9 @@ def _groups(tables: list[Table], machines: tuple[Machine, ...]) -> tuple[Group, 
         hold = t.raw("hold_planned_work", False, what="true or false")
         if not isinstance(hold, bool):
             raise t.error("hold_planned_work", f"expected true or false, got {show(hold)}")
-        groups.append(Group(id=gid, machines=tuple(members), need=need, hold_planned_work=hold))
+        groups.append(Group(id=gid, machines=tuple(members), need=need, hold_planned_work=hold,
+                            downtime_per_hour=t.number("downtime_per_hour", 0.0, minimum=0.0,
+                                                       what="a cost per hour the group is down")))
     return tuple(groups)
 
 

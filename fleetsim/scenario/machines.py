@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 import warnings
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 from fleetsim.errors import InputError
 from fleetsim.life import (
@@ -22,7 +22,7 @@ from fleetsim.life import (
     WeibullShape,
     position_life,
 )
-from fleetsim.scenario.model import HOURS_PER_YEAR, Bearing, Machine, Policy, Position
+from fleetsim.scenario.model import HOURS_PER_YEAR, Bearing, Duration, Machine, Policy, Position
 from fleetsim.scenario.policies import read_policy
 from fleetsim.scenario.reader import NumberBounds, Table, join, show, suggest
 
@@ -45,6 +45,7 @@ POSITION_KEYS = (
     "life",
     "field_factor",
     "policy",
+    "pf_interval",
 )
 DUTY_KEYS = ("share", "radial_load", "axial_load", "speed")
 FIELD_LIFE_KEYS = ("shape", "scale", "location")
@@ -68,6 +69,8 @@ class LifeDefaults:
     model: WeibullShape
     viscosity_ratio: float | None
     contamination: float | None
+    #: default P-F interval of every position (None: zero)
+    pf_interval: Duration | None = None
 
 
 @dataclass(frozen=True)
@@ -76,6 +79,8 @@ class BearingIndex:
 
     bearings: dict[str, Bearing]
     paths: dict[str, str]
+    #: P-F interval given on the [[bearing]] (the default of its positions)
+    pf_intervals: dict[str, Duration] = field(default_factory=dict)
 
 
 def read_machines(
@@ -161,6 +166,16 @@ def _positions(
             raise t.error(
                 "field_factor", f"the scaled life is out of range ({exc.expected})"
             ) from None
+    pf = t.duration("pf_interval", None, positive=True)
+    if pf is None:
+        pf = index.pf_intervals.get(bid, defaults.pf_interval)
+    if pf is None and policy.kind == "condition":
+        raise t.error(
+            "pf_interval",
+            "a condition-monitored position needs a P-F interval (the window in which an "
+            "inspection can find the defect): give pf_interval on the position, its "
+            "[[bearing]] or in [life], e.g. pf_interval = '8 weeks'",
+        )
     ids = [pid] if count == 1 else [f"{pid}#{k}" for k in range(1, count + 1)]
     return [
         Position(
@@ -170,6 +185,7 @@ def _positions(
             policy=policy,
             derived=derived,
             field_factor=field_factor,
+            pf_interval=pf,
         )
         for i in ids
     ]

@@ -11,8 +11,11 @@ Semantics (also stated in the README):
   operating hours; it ages only while its machine runs. A machine runs a share
   ``operating_share`` of calendar time, modelled as ageing at that rate per
   calendar hour while the machine is up.
-* The life ends at the first detectable defect (P); functional failure (F)
-  follows after the P-F interval (zero unless a condition policy gives one).
+* The life ends at the first detectable defect (P), the rating life's
+  criterion; functional failure (F) follows after the position's P-F interval
+  (:attr:`Position.pf_interval`, zero when none is given) under *every*
+  policy. A policy only decides inspections and responses: a condition policy
+  that never detects gives exactly the run-to-failure failures.
 * Replacement restores a position to new (renewal).
 * A :class:`Group` is a k-out-of-n set of machine units: up while at least
   ``need`` of its units are up.
@@ -139,6 +142,14 @@ class Study:
     replications: int
     seed: int
 
+    def __post_init__(self) -> None:
+        if not (self.horizon_h > 0 and math.isfinite(self.horizon_h)):
+            raise InputError("study.horizon", f"expected a finite horizon > 0 h, got {self.horizon_h}")
+        if isinstance(self.replications, bool) or not isinstance(self.replications, int | np.integer) \
+                or self.replications < 1:
+            raise InputError("study.replications",
+                             f"expected a whole number of replications >= 1, got {self.replications!r}")
+
 
 @dataclass(frozen=True)
 class Costs:
@@ -217,26 +228,88 @@ class Policy:
         at once) or ``"position"`` (each position on its own calendar).
     inspection_every_h
         Calendar hours between inspections (condition policy).
-    pf_interval
-        P-F interval: delay from detectable defect to functional failure.
-        ``None`` means zero (the defect is the failure).
     detection
         Probability that one inspection inside the P-F window finds the defect.
     respond_within_h
         Hours from detection to the planned replacement.
     opportunistic_share
-        When the machine stops, also replace this position if its age exceeds
-        this share of ``interval_h`` (None: never).
+        When the machine stops, also replace this position if its age has
+        reached this share of ``interval_h``, both on the interval's own clock
+        (:attr:`opportunistic_age_h`): operating hours under age replacement,
+        calendar hours since the bearing was fitted under block replacement
+        (None: never).
+    skip_younger_than_h
+        Block replacement only: at a block date, a position whose bearing was
+        fitted (after a failure or an opportunistic change) less than this
+        many calendar hours before is not changed; it waits for the next block
+        date. This is the modified block replacement policy (Berg, M. and
+        Epstein, B., "A modified block replacement policy", Naval Research
+        Logistics Quarterly 23 (1976) 15-24; from memory). 0 (the default) is
+        the plain block policy.
+
+    Raises
+    ------
+    InputError
+        On construction, when the policy lacks what its kind needs or a value
+        is out of range (a policy built in Python gets the same one-line
+        errors as one read from a scenario file).
     """
 
     kind: PolicyKind = "run-to-failure"
     interval_h: float | None = None
     block_scope: Literal["machine", "position"] = "machine"
     inspection_every_h: float | None = None
-    pf_interval: Duration | None = None
     detection: float = 1.0
     respond_within_h: float = 0.0
     opportunistic_share: float | None = None
+    skip_younger_than_h: float = 0.0
+
+    def __post_init__(self) -> None:
+        kinds = ("run-to-failure", "age", "block", "condition")
+        if self.kind not in kinds:
+            raise InputError("policy.kind", f"expected one of {', '.join(kinds)}, got {self.kind!r}")
+        if self.kind in ("age", "block"):
+            if self.interval_h is None or not (self.interval_h > 0 and math.isfinite(self.interval_h)):
+                raise InputError("policy.interval",
+                                 f"a {self.kind} policy needs a finite interval > 0 h, "
+                                 f"got {self.interval_h}")
+        if self.block_scope not in ("machine", "position"):
+            raise InputError("policy.block_scope",
+                             f"expected 'machine' or 'position', got {self.block_scope!r}")
+        if self.kind == "condition":
+            every = self.inspection_every_h
+            if every is None or not (every > 0 and math.isfinite(every)):
+                raise InputError("policy.inspection_every",
+                                 f"a condition policy needs a finite inspection interval > 0 h, "
+                                 f"got {every}")
+        if not 0.0 <= self.detection <= 1.0:
+            raise InputError("policy.detection",
+                             f"expected a probability between 0 and 1, got {self.detection}")
+        if not (self.respond_within_h >= 0 and math.isfinite(self.respond_within_h)):
+            raise InputError("policy.respond_within",
+                             f"expected a finite response time >= 0 h, got {self.respond_within_h}")
+        share = self.opportunistic_share
+        if share is not None and not (share >= 0.0 and math.isfinite(share)):
+            raise InputError("policy.opportunistic_share",
+                             f"expected a finite share of the interval >= 0, got {share}")
+        skip = self.skip_younger_than_h
+        if not (skip >= 0 and math.isfinite(skip)):
+            raise InputError("policy.skip_younger_than", f"expected a finite age >= 0 h, got {skip}")
+        if skip > 0 and self.kind != "block":
+            raise InputError("policy.skip_younger_than",
+                             f"applies to block policies only, not {self.kind!r}")
+
+    @property
+    def opportunistic_age_h(self) -> float:
+        """Age at which the position is changed in another job's stop, hours (inf: never).
+
+        Operating hours for an age policy, calendar hours since fitting for a
+        block policy: the threshold and the age it is compared with are on the
+        interval's own clock.
+        """
+        if self.opportunistic_share is None or self.interval_h is None:
+            return math.inf
+        return self.opportunistic_share * self.interval_h
 
 
 @dataclass(frozen=True)
@@ -258,6 +331,10 @@ class Position:
         was given explicitly.
     field_factor
         Multiplier already applied to the catalogue life (1 = catalogue).
+    pf_interval
+        P-F interval: operating hours from the first detectable defect (P) to
+        functional failure (F). It belongs to the failure process, so it is the
+        same under every policy. None means zero (the defect is the failure).
     """
 
     id: str
@@ -266,6 +343,7 @@ class Position:
     policy: Policy
     derived: PositionLife | None = None
     field_factor: float = 1.0
+    pf_interval: Duration | None = None
 
 
 @dataclass(frozen=True)
@@ -303,6 +381,17 @@ class Machine:
     ages_source: str | None = None
 
     def __post_init__(self) -> None:
+        where = f"machine {self.id!r}"
+        if isinstance(self.count, bool) or not isinstance(self.count, int | np.integer) or self.count < 1:
+            raise InputError(f"{where}.count", f"expected at least 1 unit, got {self.count!r}")
+        if not 0.0 <= self.operating_share <= 1.0:
+            raise InputError(f"{where}.operating_hours_per_year",
+                             f"expected an operating share between 0 and 1, got {self.operating_share}")
+        if not (self.starting_age_h >= 0 and math.isfinite(self.starting_age_h)):
+            raise InputError(f"{where}.starting_age",
+                             f"expected a finite age >= 0 h, got {self.starting_age_h}")
+        if not self.positions:
+            raise InputError(f"{where}.position", "expected at least one bearing position")
         ages = self.position_ages_h
         if ages is None:
             return
@@ -357,6 +446,15 @@ class Group:
     machines: tuple[str, ...]
     need: int
     hold_planned_work: bool = False
+    #: lost production per hour the group is down (fewer than ``need`` units up)
+    downtime_per_hour: float = 0.0
+
+    def __post_init__(self) -> None:
+        if isinstance(self.need, bool) or not isinstance(self.need, int | np.integer) or self.need < 1:
+            raise InputError(f"group {self.id!r}.need", f"expected at least 1 unit, got {self.need!r}")
+        if not (self.downtime_per_hour >= 0 and math.isfinite(self.downtime_per_hour)):
+            raise InputError(f"group {self.id!r}.downtime_per_hour",
+                             f"expected a finite cost >= 0 per hour, got {self.downtime_per_hour}")
 
 
 @dataclass(frozen=True)
@@ -388,6 +486,12 @@ class Stock:
     emergency_lead_time: Duration | None = None
     emergency_premium: float = 0.0
 
+    def __post_init__(self) -> None:
+        if not (-1 <= self.reorder_point < self.order_up_to) or self.initial < 0:
+            raise InputError("stores",
+                             "expected initial >= 0 and -1 <= reorder point < order-up-to, got "
+                             f"{self.initial}, {self.reorder_point}, {self.order_up_to}")
+
 
 @dataclass(frozen=True)
 class Crews:
@@ -396,6 +500,11 @@ class Crews:
     count: int | None = None
     planned_repair: Duration = field(default_factory=lambda: Duration.fixed(0.0))
     unplanned_repair: Duration = field(default_factory=lambda: Duration.fixed(0.0))
+
+    def __post_init__(self) -> None:
+        if self.count is not None and self.count < 1:
+            raise InputError("crews.count",
+                             f"expected at least 1 crew (or none for unlimited), got {self.count}")
 
 
 @dataclass(frozen=True)
@@ -432,6 +541,21 @@ class Scenario:
     life_model: str = "iso281"
     source: str = "<memory>"
     digest: str = ""
+
+    def __post_init__(self) -> None:
+        for m in self.machines:
+            for p in m.positions:
+                if p.bearing_id not in self.bearings:
+                    raise InputError(f"machine {m.id!r}.position {p.id!r}.bearing",
+                                     f"expected a defined bearing, got {p.bearing_id!r}")
+        for g in self.groups:
+            try:
+                n = len(self.group_members(g))
+            except KeyError as exc:
+                raise InputError(f"group {g.id!r}.machines",
+                                 f"expected defined machines or units, got {exc.args[0]!r}") from None
+            if not 1 <= g.need <= n:
+                raise InputError(f"group {g.id!r}.need", f"expected 1 <= need <= {n} units, got {g.need}")
 
     def machine(self, machine_id: str) -> Machine:
         """The machine type named ``machine_id`` (KeyError if none)."""

@@ -7,9 +7,13 @@ error rather than silently ignored):
 * ``age``: ``interval`` (operating hours since the last renewal), optional
   ``opportunistic_share``.
 * ``block``: ``interval`` (calendar time), ``block_scope`` (``"machine"`` or
-  ``"position"``), optional ``opportunistic_share``.
-* ``condition``: ``inspection_every`` (calendar time), ``pf_interval``
-  (duration), ``detection`` (probability per inspection), ``respond_within``.
+  ``"position"``), optional ``opportunistic_share`` and ``skip_younger_than``
+  (calendar time: the modified block rule, see :class:`~fleetsim.scenario.model.Policy`).
+* ``condition``: ``inspection_every`` (calendar time), ``detection``
+  (probability per inspection), ``respond_within``.
+
+The P-F interval is not a policy key: it belongs to the failure process and is
+given per position, per bearing or in ``[life]`` (``pf_interval``).
 """
 
 from __future__ import annotations
@@ -23,15 +27,21 @@ from fleetsim.scenario.reader import Table
 POLICY_KEYS: dict[str, tuple[str, ...]] = {
     "run-to-failure": ("kind",),
     "age": ("kind", "interval", "opportunistic_share"),
-    "block": ("kind", "interval", "block_scope", "opportunistic_share"),
-    "condition": ("kind", "inspection_every", "pf_interval", "detection", "respond_within"),
+    "block": ("kind", "interval", "block_scope", "opportunistic_share", "skip_younger_than"),
+    "condition": ("kind", "inspection_every", "detection", "respond_within"),
 }
 ALL_POLICY_KEYS = tuple(dict.fromkeys(k for keys in POLICY_KEYS.values() for k in keys))
 
 
 def read_policy(data: Any, path: str, source: str) -> Policy:
     """Validate a policy table found at key path ``path`` of file ``source``."""
-    head = Table(data, path, source, ALL_POLICY_KEYS)
+    head = Table(data, path, source, ALL_POLICY_KEYS + ("pf_interval",))
+    if head.has("pf_interval"):
+        raise head.error(
+            "pf_interval",
+            "the P-F interval belongs to the failure process, not to the policy: give "
+            "pf_interval on the position, the [[bearing]] or in [life]",
+        )
     kind = head.text("kind", choices=POLICY_KEYS)
     takes = POLICY_KEYS[kind]
     for key in head.data:
@@ -58,6 +68,7 @@ def read_policy(data: Any, path: str, source: str) -> Policy:
             interval_h=t.quantity("interval", "time", positive=True),
             block_scope=t.text("block_scope", "machine", choices=("machine", "position")),
             opportunistic_share=share,
+            skip_younger_than_h=t.quantity("skip_younger_than", "time", 0.0),
         )
     if not t.has("inspection_every"):
         raise t.error(
@@ -68,7 +79,6 @@ def read_policy(data: Any, path: str, source: str) -> Policy:
     return Policy(
         kind="condition",
         inspection_every_h=t.quantity("inspection_every", "time", positive=True),
-        pf_interval=t.duration("pf_interval", positive=True),
         detection=t.probability("detection", 1.0, what="a detection probability"),
         respond_within_h=t.quantity("respond_within", "time", 0.0),
     )

@@ -23,7 +23,8 @@ year, paid continuously over the horizon T, with the same present value,
 PV·δ_y / (1 − e^(−δ_y T)) with δ_y = ln(1 + r) (the annuity of any
 engineering-economics text, e.g. Park, *Contemporary Engineering Economics*,
 continuous compounding; from memory). With r = 0 every formula reduces to the
-undiscounted one (v = 1, cost per year = total / years).
+undiscounted one (v = 1, cost per year = total / years): an undiscounted study
+is the identity :class:`Discount`, not a second path through the engines.
 """
 
 from __future__ import annotations
@@ -36,13 +37,13 @@ from fleetsim.scenario.model import HOURS_PER_YEAR
 
 
 class Discount:
-    """Discount factors at an annual effective rate ``rate`` (> 0)."""
+    """Discount factors at an annual effective rate ``rate`` (>= 0; 0 is the identity)."""
 
     __slots__ = ("rate", "delta_h")
 
     def __init__(self, rate: float) -> None:
-        if not rate > 0.0:
-            raise ValueError(f"a discount rate > 0 is needed, got {rate}")
+        if not (rate >= 0.0 and math.isfinite(rate)):
+            raise ValueError(f"a finite discount rate >= 0 is needed, got {rate}")
         self.rate = float(rate)
         #: continuous discount rate per calendar hour
         self.delta_h = math.log1p(rate) / HOURS_PER_YEAR
@@ -56,6 +57,8 @@ class Discount:
         if b_h <= a_h:
             return 0.0
         d = self.delta_h
+        if d == 0.0:
+            return b_h - a_h
         return math.exp(-d * a_h) * -math.expm1(-d * (b_h - a_h)) / d
 
     def factors(self, t_h: np.ndarray) -> np.ndarray:
@@ -67,12 +70,14 @@ class Discount:
         a = np.asarray(a_h, dtype=float)
         span = np.maximum(np.asarray(b_h, dtype=float) - a, 0.0)
         d = self.delta_h
+        if d == 0.0:
+            return span
         return np.exp(-d * a) * -np.expm1(-d * span) / d
 
 
-def discount_for(rate: float) -> Discount | None:
-    """A :class:`Discount` for ``rate`` > 0, None for an undiscounted study."""
-    return Discount(rate) if rate > 0.0 else None
+def discount_for(rate: float) -> Discount:
+    """The :class:`Discount` of a study (rate 0: the identity, v(t) = 1)."""
+    return Discount(rate)
 
 
 def per_year(total: float, years: float, rate: float) -> float:

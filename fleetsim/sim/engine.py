@@ -24,7 +24,7 @@ from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import discount_for
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
-from fleetsim.sim.policies import check_policy, start_calendar_policies
+from fleetsim.sim.policies import start_calendar_policies
 from fleetsim.sim.quiet import quiet_process
 from fleetsim.sim.records import (
     GROUP_COLUMNS,
@@ -36,6 +36,15 @@ from fleetsim.sim.records import (
 from fleetsim.sim.setup import LifeSampler, MachineSetup, SimContext
 from fleetsim.sim.stores import SpareStore, StoreStats, UnlimitedSupply
 from fleetsim.sim.streams import Streams, as_seed_sequence
+from fleetsim.sim.tally import (
+    COUNTS,
+    BearingTally,
+    Charged,
+    GroupTally,
+    MachineTally,
+    Tally,
+    costs_of,
+)
 from fleetsim.sim.unit import UnitRunner, position_columns, unit_columns
 
 #: Run quiet units with :func:`~fleetsim.sim.quiet.quiet_process` (tests turn it off to
@@ -43,40 +52,10 @@ from fleetsim.sim.unit import UnitRunner, position_columns, unit_columns
 QUIET_PROCESS = True
 
 
-def _check(scenario: Scenario, horizon_h: float) -> None:
+def _check(horizon_h: float) -> None:
+    # Everything else is validated by the model objects on construction.
     if not (horizon_h > 0 and math.isfinite(horizon_h)):
         raise InputError("study.horizon", f"expected a finite horizon > 0 h, got {horizon_h}")
-    count = scenario.crews.count
-    if count is not None and count < 1:
-        raise InputError("crews.count", f"expected at least 1 crew (or none for unlimited), got {count}")
-    for m in scenario.machines:
-        where = f"machine {m.id!r}"
-        if m.count < 1:
-            raise InputError(f"{where}.count", f"expected at least 1 unit, got {m.count}")
-        if not 0.0 <= m.operating_share <= 1.0:
-            raise InputError(f"{where}.operating_hours_per_year",
-                             f"expected an operating share between 0 and 1, got {m.operating_share}")
-        if m.starting_age_h < 0:
-            raise InputError(f"{where}.starting_age", f"expected an age >= 0 h, got {m.starting_age_h}")
-        for p in m.positions:
-            pw = f"{where}.position {p.id!r}"
-            if p.bearing_id not in scenario.bearings:
-                raise InputError(f"{pw}.bearing", f"expected a defined bearing, got {p.bearing_id!r}")
-            check_policy(p.policy, pw)
-    for bid, st in scenario.stores.items():
-        if not (-1 <= st.reorder_point < st.order_up_to) or st.initial < 0:
-            raise InputError(f"stores.{bid}",
-                             "expected initial >= 0 and -1 <= reorder point < order-up-to, got "
-                             f"{st.initial}, {st.reorder_point}, {st.order_up_to}")
-    for g in scenario.groups:
-        try:
-            n = len(scenario.group_members(g))
-        except KeyError as exc:
-            raise InputError(
-                f"group {g.id!r}.machines", f"expected defined machines or units, got {exc.args[0]!r}"
-            ) from None
-        if not 1 <= g.need <= n:
-            raise InputError(f"group {g.id!r}.need", f"expected 1 <= need <= {n} units, got {g.need}")
 
 
 def simulate(
@@ -118,7 +97,7 @@ def simulate(
         When the scenario cannot be simulated (missing interval, bad group, ...).
     """
     horizon = float(scenario.study.horizon_h if horizon_h is None else horizon_h)
-    _check(scenario, horizon)
+    _check(horizon)
     root = as_seed_sequence(seed)
     with gc_paused():
         return _run(scenario, root, horizon, keep_events, life_sampler)
@@ -159,6 +138,7 @@ def _run(
         [(g.id, g.need, scenario.group_members(g)) for g in scenario.groups],
         n_units,
         [g.hold_planned_work for g in scenario.groups],
+        discount,
     )
     ctx = SimContext(env, recorder, CrewPool(env, scenario.crews.count), scenario.crews,
                      stores, groups, streams, life_sampler, discount)
@@ -172,7 +152,7 @@ def _run(
                 env.process(quiet_process(unit))
             else:
                 env.process(unit.run())
-                start_calendar_policies(env, unit)
+                start_calendar_policies(env, unit, setup.plan)
 
     env.run(until=horizon)
     return _result(scenario, root, horizon, recorder, units, stores, groups, ctx.crews.busy_h)
@@ -217,35 +197,9 @@ def _result(
     counts["orders"] = sum(s.orders for s in stats.values())
     counts["emergency_orders"] = sum(s.emergency_orders for s in stats.values())
 
-    c = scenario.costs
-    price = {bid: (scenario.bearings[bid].price if bid in scenario.bearings else 0.0) for bid in stores}
-    premium = {bid: scenario.stores[bid].emergency_premium if bid in scenario.stores else 0.0
-               for bid in stores}
-    if c.discount_rate_per_year > 0.0:  # present values (fleetsim.sim.discount)
-        pv = recorder.pv
-        changes, failures = pv["changes"], pv["failures"]
-        inspections, down_h = pv["inspections"], pv["down_h"]
-        issued = {bid: st.issued_pv for bid, st in stats.items()}
-        on_hand_h = {bid: st.on_hand_pv_area for bid, st in stats.items()}
-        emergency = {bid: st.emergency_pv for bid, st in stats.items()}
-    else:
-        changes = counts["planned"] + counts["opportunistic"]
-        failures, inspections = counts["failures"], counts["inspections"]
-        down_h = sum(unit_table["down_h"])
-        issued = {bid: st.issued for bid, st in stats.items()}
-        on_hand_h = {bid: st.on_hand_area for bid, st in stats.items()}
-        emergency = {bid: st.emergency_orders for bid, st in stats.items()}
-    costs = {
-        "planned_labour": changes * c.planned_replacement,
-        "failure_labour": failures * (c.planned_replacement + c.failure),
-        "parts": sum(issued[bid] * price[bid] for bid in stats),
-        "downtime": down_h * c.downtime_per_hour,
-        "inspection": inspections * c.inspection,
-        "holding": sum(c.holding_rate_per_year * price[bid] * on_hand_h[bid] / HOURS_PER_YEAR
-                       for bid in stats),
-        "emergency": sum(emergency[bid] * premium[bid] for bid in stats),
-    }
-    costs["total"] = sum(costs.values())
+    group_rows = groups.finish(horizon)
+    tally = _tally(scenario, horizon, recorder, unit_table, stats, group_rows)
+    costs = costs_of(tally, scenario)
 
     ev = recorder.events
     events: Table = {
@@ -261,14 +215,68 @@ def _result(
         counts=dict(counts),
         costs=costs,
         crew_busy_h=crew_busy_h,
-        discount_rate_per_year=c.discount_rate_per_year,
+        discount_rate_per_year=scenario.costs.discount_rate_per_year,
         tables={
             "events": events,
             "units": unit_table,
             "positions": position_columns(units),
             "spares": _columns(spare_rows, SPARE_COLUMNS),
-            "groups": _columns(groups.finish(horizon), GROUP_COLUMNS),
+            "groups": _columns(group_rows, GROUP_COLUMNS),
         },
+        tally=tally,
+    )
+
+
+def _tally(
+    scenario: Scenario,
+    horizon: float,
+    recorder: Recorder,
+    unit_table: Table,
+    stats: dict[str, StoreStats],
+    group_rows: list[dict[str, Any]],
+) -> Tally:
+    """The replication's :class:`~fleetsim.sim.tally.Tally`."""
+    c = recorder.counts
+    pv = recorder.pv
+    machines = {m.id: MachineTally(units=m.count) for m in scenario.machines}
+    for mid, fails, down, lost in zip(unit_table["machine"], unit_table["failures"],
+                                      unit_table["down_h"], unit_table["lost_operating_h"],
+                                      strict=True):
+        mt = machines[mid]
+        mt.failures += fails
+        mt.down_h += down
+        mt.lost_operating_h += lost
+    bearings = {
+        b: BearingTally(issued=float(st.issued),
+                        fill_rate=1.0 - st.stockouts / st.demands if st.demands else 1.0)
+        for b, st in stats.items()
+    }
+    groups = [GroupTally(str(r["group"]), bool(r["had_down"]),
+                         horizon if not math.isfinite(float(r["first_down_h"])) else float(r["first_down_h"]),
+                         float(r["down_h"]))
+              for r in group_rows]
+    charged = Charged(
+        changes=pv["changes"], failures=pv["failures"], inspections=pv["inspections"],
+        lost_operating_h=pv["lost_operating_h"],
+        issued={b: st.issued_pv for b, st in stats.items()},
+        on_hand_h={b: st.on_hand_pv_area for b, st in stats.items()},
+        emergency={b: st.emergency_pv for b, st in stats.items()},
+        group_down_h={str(r["group"]): float(r["down_pv_h"]) for r in group_rows
+                      if r["group"] != GroupTracker.FLEET},
+    )
+    counts = {name: float(c[name]) for name in COUNTS if name in c}
+    counts["missed_defects"] = float(c["missed_defects"])
+    counts["failures_after_detection"] = float(c["failures_after_detection"])
+    return Tally(
+        horizon_h=horizon,
+        counts=counts,
+        downtime_h={cause: float(sum(unit_table[col])) for cause, col in
+                    (("crew", "waiting_crew_h"), ("spares", "waiting_spare_h"),
+                     ("repair", "repair_h"), ("planned", "planned_h"))},
+        machines=machines,
+        bearings=bearings,
+        groups=groups,
+        charged=charged,
     )
 
 

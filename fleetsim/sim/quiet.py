@@ -41,7 +41,6 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
     unplanned = u.ctx.crews_spec.unplanned_repair
     planned = u.ctx.crews_spec.planned_repair
     sampler = u.ctx.life_sampler
-    random_stops = u.random_stops
     phase_h = u.phase_h
     opportunistic = u.opportunistic
     discount = u.discount
@@ -128,8 +127,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                     cast("UnlimitedSupply", p.store).issue(now)
                     work.append(p)
                     continue
-                s = p.policy.opportunistic_share
-                if s is not None and p.interval_h and clock - p.installed_op >= s * p.interval_h:
+                if p.opp_age_h < INF and p.opportunity_due(clock, now):
                     cast("UnlimitedSupply", p.store).issue(now)
                     work.append(p)
         if duration > 0.0:
@@ -150,19 +148,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 pv["changes"] += discount.factor(now)
             if log is not None:
                 log(now, uid, p.id, kind)
-            # A new bearing: UnitRunner.install for k >= 1 without a P-F interval, inlined.
-            k = p.k
-            if sampler is None:
-                life = p.life.life_from_uniform(p.life_table.get(k, p.unit_no, p.slot))
-            else:
-                life = float(sampler(uid, p.id, k))
-            if random_stops:
-                p.stop_u = p.stop_table.get(k, p.unit_no, p.slot)  # type: ignore[union-attr]
-            p.k = k + 1
-            p.installed_op = clock
-            p.defect_op = p.fail_op = clock + life
-            p.due_op = clock + p.interval_h if p.is_age and p.interval_h else INF
-            p.failed = p.pending = False
+            # A new bearing, by the one install rule (PositionState.fit).
+            p.fit(clock, now, float(sampler(uid, p.id, p.k)) if sampler is not None else None)
         crews.busy_h += duration
         u.t_sync = now
         u.running = True
@@ -170,7 +157,9 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         u.phase = RUNNING
         u.phase_t = now
         if discount is not None:
-            pv["down_h"] += discount.integral(u.down_since, now)
+            lost = discount.integral(u.down_since, now)
+            pv["down_h"] += lost
+            pv["lost_operating_h"] += share * lost
         up(now)
         if log is not None:
             log(now, uid, "", "up")

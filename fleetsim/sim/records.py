@@ -25,21 +25,10 @@ kind                   meaning (``unit``, ``position``)
 ``up``                 the unit runs again (position ``""``)
 =====================  =========================================================
 
-Cost categories (money in the scenario's currency; present values at the start
-when ``costs.discount_rate`` > 0, see :mod:`fleetsim.sim.discount`):
-
-* ``planned_labour`` = planned and opportunistic changes × ``costs.planned_replacement``;
-* ``failure_labour`` = failures × (``costs.planned_replacement`` + ``costs.failure``):
-  a failed bearing is changed like a planned one, plus the failure's own cost
-  (secondary damage, call-out);
-* ``parts`` = spares issued × bearing price;
-* ``downtime`` = machine-hours stopped × ``costs.downtime_per_hour``;
-* ``inspection`` = inspections × ``costs.inspection`` (one per unit visit);
-* ``holding`` = ``holding_rate_per_year`` × price × time-average stock on hand × years;
-* ``emergency`` = emergency orders × ``emergency_premium``.
-
-So a planned change costs c_p = planned_replacement + price and a failure
-c_f = planned_replacement + failure + price (+ downtime in both cases).
+Costs (``costs``) come from the one cost model,
+:func:`fleetsim.sim.tally.costs_of`, applied to the replication's
+:class:`~fleetsim.sim.tally.Tally` (``tally``), which the vectorised engine
+fills too; see :mod:`fleetsim.sim.tally` for the conventions.
 """
 
 from __future__ import annotations
@@ -51,13 +40,13 @@ from typing import Any
 import pandas as pd
 
 from fleetsim.scenario.model import HOURS_PER_YEAR
-from fleetsim.sim.discount import per_year
+from fleetsim.sim.tally import Tally
 
 EVENT_COLUMNS = ("time_h", "unit", "position", "kind")
 DOWN_CAUSES = ("waiting_spare_h", "waiting_crew_h", "repair_h", "planned_h")
 UNIT_COLUMNS = (
     "unit", "machine", "running_h", "operating_h", *DOWN_CAUSES, "down_h", "availability",
-    "failures", "stops",
+    "failures", "stops", "lost_operating_h",
 )  # fmt: skip
 POSITION_COLUMNS = (
     "unit", "position", "machine", "bearing", "policy", "failures", "planned", "opportunistic",
@@ -98,8 +87,8 @@ class Recorder:
         #: with discounting (:mod:`fleetsim.sim.discount`): the sum of discount factors of
         #: failures, planned and opportunistic changes and inspections, and the integral
         #: of the discount factor over every unit's stopped hours (``down_h``)
-        self.pv: dict[str, float] = dict.fromkeys(("failures", "changes", "inspections", "down_h"),
-                                                  0.0)
+        self.pv: dict[str, float] = dict.fromkeys(
+            ("failures", "changes", "inspections", "down_h", "lost_operating_h"), 0.0)
 
     def log(self, time_h: float, unit: str, position: str, kind: str) -> None:
         """Append one event to the log."""
@@ -118,8 +107,7 @@ class ReplicationResult:
     """Everything one replication recorded.
 
     The tables are kept as plain columns and turned into pandas DataFrames on
-    first access, so reducing a replication to :meth:`figures` costs no pandas
-    work at all.
+    first access; a study reads only ``tally``, which costs no pandas work.
 
     Attributes
     ----------
@@ -134,7 +122,9 @@ class ReplicationResult:
         condition-monitored positions never detected),
         failures_after_detection, stockouts, orders, emergency_orders.
     costs
-        Cost by category and ``total`` (see the module docstring).
+        Cost by category and ``total`` (:func:`fleetsim.sim.tally.costs_of`).
+    tally
+        The :class:`~fleetsim.sim.tally.Tally` both engines fill (what a study reads).
     crew_busy_h
         Crew-hours worked.
     discount_rate_per_year
@@ -151,7 +141,7 @@ class ReplicationResult:
         One row per machine unit (index ``unit``): ``machine, running_h,
         operating_h`` and down hours by cause ``waiting_spare_h,
         waiting_crew_h, repair_h, planned_h``, ``down_h``, ``availability``,
-        ``failures, stops``.
+        ``failures, stops``, ``lost_operating_h`` (down hours × operating share).
     positions
         One row per (unit, position): ``machine, bearing, policy, failures,
         planned, opportunistic, defects, detections, age_end_h``.
@@ -172,6 +162,7 @@ class ReplicationResult:
     crew_busy_h: float
     tables: dict[str, Table] = field(repr=False)
     discount_rate_per_year: float = 0.0
+    tally: Tally | None = field(default=None, repr=False)
 
     def _frame(self, name: str) -> pd.DataFrame:
         cache = self.__dict__.setdefault("_frames", {})
@@ -228,42 +219,3 @@ class ReplicationResult:
         """The events as a list of ``(time_h, unit, position, kind)`` tuples."""
         e = self.tables["events"]
         return list(zip(e["time_h"], e["unit"], e["position"], e["kind"], strict=True))
-
-    def figures(self) -> dict[str, float]:
-        """A flat ``{figure: value}`` summary for replication tables (no pandas).
-
-        Keys: every count; ``cost.<category>``; ``cost.per_year`` and
-        ``cost.per_operating_h``; ``downtime.<cause>`` and ``downtime.total_h``;
-        ``availability`` and ``availability.<unit>``; ``operating_h``;
-        ``crew_busy_h``; ``spares.<bearing>.{issued,per_year,stockouts,
-        fill_rate,emergency_orders,mean_on_hand}``; ``group.<id>.{down_h,
-        down_events,had_down,first_down_h}`` including ``group.fleet``.
-        """
-        out: dict[str, float] = {k: float(v) for k, v in self.counts.items()}
-        for k, v in self.costs.items():
-            out[f"cost.{k}"] = float(v)
-        u = self.tables["units"]
-        operating = float(sum(u["operating_h"]))
-        total = self.costs.get("total", 0.0)
-        out["cost.per_year"] = per_year(total, self.years, self.discount_rate_per_year)
-        out["cost.per_operating_h"] = total / operating if operating > 0 else math.nan
-        out["operating_h"] = operating
-        out["crew_busy_h"] = self.crew_busy_h
-        for cause, hours in self.downtime_by_cause.items():
-            out[f"downtime.{cause}"] = hours
-        out["downtime.total_h"] = float(sum(u["down_h"]))
-        out["availability"] = self.availability
-        for unit, a in zip(u["unit"], u["availability"], strict=True):
-            out[f"availability.{unit}"] = float(a)
-        sp = self.tables["spares"]
-        for i, bearing in enumerate(sp["bearing"]):
-            for col, name in (("issued", "issued"), ("issued_per_year", "per_year"),
-                              ("stockouts", "stockouts"), ("fill_rate", "fill_rate"),
-                              ("emergency_orders", "emergency_orders"),
-                              ("mean_on_hand", "mean_on_hand")):
-                out[f"spares.{bearing}.{name}"] = float(sp[col][i])
-        g = self.tables["groups"]
-        for i, group in enumerate(g["group"]):
-            for col in ("down_h", "down_events", "had_down", "first_down_h"):
-                out[f"group.{group}.{col}"] = float(g[col][i])
-        return out

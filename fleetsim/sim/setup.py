@@ -23,8 +23,9 @@ from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import Discount
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.records import Recorder
+from fleetsim.sim.schedule import MaintenancePlan, compile_plan, inspections_to_detect
 from fleetsim.sim.stores import Claim, SpareStore, UnlimitedSupply
-from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
+from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams, UniformTable
 
 INF = math.inf
 
@@ -59,9 +60,10 @@ class MachineSetup:
     ``life_sampler(unit, position, 0)``), P-F intervals and stop quantiles.
     """
 
-    __slots__ = ("machine", "index", "start_ages_h", "stores", "life_table", "pf_table",
-                 "stop_table", "random_stops", "opportunistic", "quiet",
-                 "first_defect_h", "first_fail_h", "first_stop_u")
+    __slots__ = ("machine", "index", "plan", "start_ages_h", "start_cal_h", "stores",
+                 "life_table", "pf_table", "stop_table", "det_table", "random_stops",
+                 "opportunistic", "quiet", "first_defect_h", "first_fail_h", "first_stop_u",
+                 "first_looks")
 
     def __init__(self, ctx: SimContext, machine: Machine, machine_index: int) -> None:
         specs = machine.positions
@@ -70,23 +72,29 @@ class MachineSetup:
         crews = ctx.crews_spec
         self.machine = machine
         self.index = machine_index
+        self.plan: MaintenancePlan = compile_plan(machine)
+        plan = self.plan
         ages = machine.ages_h()
         #: starting ages in hours, [unit][position]
         self.start_ages_h: list[list[float]] = ages.tolist()
+        #: calendar hours since the bearings fitted at the start were fitted, [unit][position]
+        self.start_cal_h: list[list[float]] = start_calendar_ages(ages, machine.operating_share).tolist()
         self.stores = [ctx.stores[p.bearing_id] for p in specs]
         self.random_stops = crews.planned_repair.kind != "fixed" or crews.unplanned_repair.kind != "fixed"
         # Tables are keyed streams: leaving out the ones nothing reads shifts no other stream.
         self.life_table = streams.table(machine_index, machine.count, n_pos, LIFE)
         self.pf_table = (streams.table(machine_index, machine.count, n_pos, PF)
-                         if any(p.policy.pf_interval is not None for p in specs) else None)
+                         if plan.pf_given else None)
         self.stop_table = (streams.table(machine_index, machine.count, n_pos, STOP)
                            if self.random_stops else None)
-        self.opportunistic = any(p.policy.opportunistic_share is not None for p in specs)
+        self.det_table = (streams.table(machine_index, machine.count, n_pos, DETECTION)
+                          if plan.rounds else None)
+        self.opportunistic = plan.opportunistic
         # Nothing outside a unit can wake it when every position is run-to-failure or
         # age-replaced without a P-F interval, spares are unlimited, crews too, and no
         # group holds its planned work (the last is checked per unit).
         self.quiet = ctx.crews.resource is None and all(
-            p.policy.kind in ("run-to-failure", "age") and p.policy.pf_interval is None
+            p.policy.kind in ("run-to-failure", "age") and p.pf_interval is None
             and not store.limited
             for p, store in zip(specs, self.stores, strict=True)
         )
@@ -103,68 +111,136 @@ class MachineSetup:
         else:
             life = np.array([[float(sampler(uid, p.id, 0)) for p in specs]
                              for uid in machine.unit_ids()])
-        fail = life.copy()
-        if self.pf_table is not None:
-            pf0 = self.pf_table.row(0)
-            for j, p in enumerate(specs):
-                if p.policy.pf_interval is not None:
-                    fail[:, j] += p.policy.pf_interval.quantiles(pf0[:, j])
+        fail = life + pf_hours(specs, self.pf_table, 0)
         #: operating hours to the first defect and to the failure, [unit][position]
         self.first_defect_h: list[list[float]] = life.tolist()
         self.first_fail_h: list[list[float]] = fail.tolist()
         self.first_stop_u: list[list[float]] | None = (
             self.stop_table.row(0).tolist() if self.stop_table is not None else None
         )
+        #: inspections the first defects need to be found, [unit][position]
+        self.first_looks: list[list[float]] | None = (
+            looks_needed(plan, self.det_table, 0).tolist() if self.det_table is not None else None
+        )
+
+
+def start_calendar_ages(ages_h: np.ndarray, operating_share: float) -> np.ndarray:
+    """Calendar hours since the bearings fitted at the start were fitted.
+
+    Starting ages are operating hours; the calendar age is taken as the
+    operating age over the machine's operating share (the operating age itself
+    when the machine never runs).
+    """
+    return ages_h / operating_share if operating_share > 0 else ages_h.copy()
+
+
+def pf_hours(specs: tuple[Position, ...], pf_table: UniformTable | None, k: int) -> np.ndarray:
+    """P-F intervals in operating hours of the k-th bearings of every unit, (units, positions).
+
+    Zero where a position has no P-F interval (or no position has one).
+    """
+    if pf_table is None:
+        return np.zeros(1)
+    u = pf_table.row(k)
+    out = np.zeros_like(u)
+    for j, p in enumerate(specs):
+        if p.pf_interval is not None:
+            out[:, j] = p.pf_interval.quantiles(u[:, j])
+    return out
+
+
+def looks_needed(plan: MaintenancePlan, det_table: UniformTable, k: int) -> np.ndarray:
+    """Inspections the k-th defects of every unit need before one finds it, (units, positions)."""
+    return inspections_to_detect(det_table.row(k), plan.detection[None, :])
 
 
 class PositionState:
     """The current bearing of one position of one unit, and its counters."""
 
     __slots__ = (
-        "id", "bearing_id", "policy", "life", "store", "interval_h", "is_age", "is_condition",
-        "life_table", "pf_table", "stop_table", "machine_no", "unit_no", "slot", "_det_rng",
-        "_streams", "k", "stop_u", "installed_op", "defect_op", "fail_op", "due_op", "defect_seen",
-        "detected", "failed", "pending", "start_at", "claim",
-        "failures", "planned", "opportunistic", "defects", "detections",
+        "id", "bearing_id", "policy", "life", "pf", "store", "age_due_h", "opp_age_h",
+        "opp_calendar", "skip_younger_h", "detection", "is_condition",
+        "life_table", "pf_table", "stop_table", "det_table", "machine_no", "unit_no", "slot",
+        "k", "stop_u", "installed_op", "installed_cal", "defect_op", "fail_op", "due_op",
+        "looks", "looks_needed", "defect_seen", "detected", "failed", "pending", "in_stop",
+        "start_at", "claim", "failures", "planned", "opportunistic", "defects", "detections",
     )  # fmt: skip
 
     def __init__(
         self, spec: Position, setup: MachineSetup, streams: Streams, unit_no: int, slot: int
     ) -> None:
         """The position with the bearing fitted at the start (drawn by ``setup``)."""
-        policy = spec.policy
+        plan = setup.plan
         self.id = spec.id
         self.bearing_id = spec.bearing_id
-        self.policy = policy
+        self.policy = spec.policy
         self.life = spec.life
+        self.pf = spec.pf_interval
         self.store = setup.stores[slot]
-        self.interval_h = policy.interval_h
-        self.is_age = policy.kind == "age"
-        self.is_condition = policy.kind == "condition"
-        self._streams = streams
+        self.age_due_h = float(plan.age_due_h[slot])
+        self.opp_age_h = float(plan.opportunistic_age_h[slot])
+        self.opp_calendar = bool(plan.opportunistic_calendar[slot])
+        self.skip_younger_h = float(plan.skip_younger_h[slot])
+        self.detection = float(plan.detection[slot])
+        self.is_condition = bool(plan.inspected[slot])
         self.machine_no = setup.index
         self.unit_no = unit_no
         self.slot = slot
         self.life_table = setup.life_table
         self.pf_table = setup.pf_table
         self.stop_table = setup.stop_table
-        self._det_rng: np.random.Generator | None = None
+        self.det_table = setup.det_table
         self.k = 1
         stop_u = setup.first_stop_u
         self.stop_u = stop_u[unit_no][slot] if stop_u is not None else 0.5
         self.installed_op = -setup.start_ages_h[unit_no][slot]
+        self.installed_cal = -setup.start_cal_h[unit_no][slot]
         self.defect_op = setup.first_defect_h[unit_no][slot]
         self.fail_op = setup.first_fail_h[unit_no][slot]
-        self.due_op = self.installed_op + self.interval_h if self.is_age and self.interval_h else INF
-        self.defect_seen = self.detected = self.failed = self.pending = False
+        self.due_op = self.installed_op + self.age_due_h
+        looks = setup.first_looks
+        self.looks = 0
+        self.looks_needed = looks[unit_no][slot] if looks is not None else INF
+        self.defect_seen = self.detected = self.failed = self.pending = self.in_stop = False
         self.start_at = INF
         self.claim: Claim | None = None
         self.failures = self.planned = self.opportunistic = self.defects = self.detections = 0
 
-    @property
-    def det_rng(self) -> np.random.Generator:
-        """Generator of this position's detection draws (created on first use)."""
-        if self._det_rng is None:
-            self._det_rng = self._streams.position(self.machine_no, self.unit_no, self.slot,
-                                                   DETECTION)
-        return self._det_rng
+    def fit(self, clock_op: float, now_h: float, life_h: float | None = None) -> None:
+        """Fit the next bearing (its k-th life, k >= 1) at operating clock ``clock_op``.
+
+        The one install rule of both unit processes (:mod:`fleetsim.sim.unit`,
+        :mod:`fleetsim.sim.quiet`). ``life_h``: the life to the defect from a
+        ``life_sampler``; None draws it from the life table.
+        """
+        k = self.k
+        u, j = self.unit_no, self.slot
+        if life_h is None:
+            life_h = self.life.life_from_uniform(self.life_table.get(k, u, j))
+        self.defect_op = clock_op + life_h
+        pf = self.pf
+        self.fail_op = (self.defect_op + pf.quantile(self.pf_table.get(k, u, j))  # type: ignore[union-attr]
+                        if pf is not None else self.defect_op)
+        if self.stop_table is not None:
+            self.stop_u = self.stop_table.get(k, u, j)
+        if self.det_table is not None:
+            self.looks_needed = float(inspections_to_detect(self.det_table.get(k, u, j),
+                                                            self.detection))
+            self.looks = 0
+        self.k = k + 1
+        self.installed_op = clock_op
+        self.installed_cal = now_h
+        self.due_op = clock_op + self.age_due_h
+        self.defect_seen = self.detected = self.failed = self.pending = self.in_stop = False
+        self.start_at = INF
+        self.claim = None
+
+    def opportunity_due(self, clock_op: float, now_h: float) -> bool:
+        """True when the position's age has reached its opportunistic threshold.
+
+        The age is on the interval's own clock: calendar hours since fitting
+        under block replacement, operating hours otherwise.
+        """
+        if self.opp_calendar:
+            return now_h - self.installed_cal >= self.opp_age_h
+        return clock_op - self.installed_op >= self.opp_age_h

@@ -27,9 +27,11 @@ repair duration (``planned``). If the unit fails meanwhile, the planned
 positions whose spares are on hand are changed in the failure's stop.
 
 **Opportunistic changes.** When a crew starts on a stopped unit, every other
-position whose age is at least ``opportunistic_share × interval_h`` is
-changed in the same stop if a spare is on the shelf right now (opportunistic
-changes never wait for parts).
+position whose age has reached its opportunistic threshold (on the interval's
+own clock, :mod:`fleetsim.sim.schedule`) is changed in the same stop if a
+spare is on the shelf right now (opportunistic changes never wait for parts).
+A block date that falls while a position is being changed does not ask for
+it again.
 
 **Renewal.** A replaced position is as good as new; its next life is the next
 draw of its own life stream (or of ``life_sampler``).
@@ -173,7 +175,9 @@ class UnitRunner:
         self.phase = RUNNING
         self.phase_t = now
         if self.discount is not None:
-            self.pv["down_h"] += self.discount.integral(self.down_since, now)
+            down = self.discount.integral(self.down_since, now)
+            self.pv["down_h"] += down
+            self.pv["lost_operating_h"] += self.share * down
         self.ctx.groups.unit_up(self.index, now)
         if self.log is not None:
             self.log(now, self.id, "", "up")
@@ -181,28 +185,9 @@ class UnitRunner:
     # --- lives ---------------------------------------------------------------------
     def install(self, p: PositionState) -> None:
         """Fit a new bearing in ``p``: its k-th life (k >= 1) starts now."""
-        clock = self.clock_op
-        k = p.k
         sampler = self.ctx.life_sampler
-        if sampler is not None:
-            life = float(sampler(self.id, p.id, k))
-        else:
-            life = p.life.life_from_uniform(p.life_table.get(k, p.unit_no, p.slot))
-        pf = p.policy.pf_interval
-        pf_table = p.pf_table  # drawn whenever a position of the machine has a P-F interval
-        pf_h = (pf.quantile(pf_table.get(k, p.unit_no, p.slot))
-                if pf is not None and pf_table is not None else 0.0)
-        stop_table = p.stop_table  # drawn exactly when stops are random
-        if stop_table is not None:
-            p.stop_u = stop_table.get(k, p.unit_no, p.slot)
-        p.k = k + 1
-        p.installed_op = clock
-        p.defect_op = clock + life
-        p.fail_op = p.defect_op + pf_h
-        p.due_op = clock + p.interval_h if p.is_age and p.interval_h else INF
-        p.defect_seen = p.detected = p.failed = p.pending = False
-        p.start_at = INF
-        p.claim = None
+        life = float(sampler(self.id, p.id, p.k)) if sampler is not None else None
+        p.fit(self.clock_op, self.env.now, life)
 
     def _defect(self, p: PositionState) -> None:
         p.defect_seen = True
@@ -230,7 +215,7 @@ class UnitRunner:
 
     # --- requests from policies --------------------------------------------------------
     def _request(self, p: PositionState, start_at: float) -> None:
-        if p.failed:
+        if p.failed or p.in_stop:
             return  # it is about to be changed anyway
         if p.pending:
             if start_at < p.start_at:
@@ -251,6 +236,13 @@ class UnitRunner:
             self._request(p, start_at)
         self._poke()
 
+    def block_date(self, positions: list[PositionState]) -> None:
+        """A block date of ``positions``: request those not fitted too recently (modified block)."""
+        now = self.env.now
+        due = [p for p in positions if now - p.installed_cal >= p.skip_younger_h]
+        if due:
+            self.request_planned(due, now)
+
     def inspect(self, positions: list[PositionState]) -> None:
         """One inspection visit of this unit, covering ``positions`` (skipped while stopped)."""
         if not self.running:
@@ -267,7 +259,8 @@ class UnitRunner:
         for p in positions:
             if p.detected or p.failed or p.defect_op > clock or p.fail_op <= clock:
                 continue
-            if p.det_rng.random() < p.policy.detection:
+            p.looks += 1
+            if p.looks >= p.looks_needed:
                 p.detected = True
                 p.detections += 1
                 self.counts["detections"] += 1
@@ -401,6 +394,8 @@ class UnitRunner:
         if self.log is not None:
             self.log(env.now, self.id, "", "work")
         work = self._work_list(failed)
+        for p, _ in work:
+            p.in_stop = True  # a block date during the repair does not ask for it again
         duration = self.ctx.crews_spec.unplanned_repair.quantile(failed[0].stop_u)
         if duration > 0.0:
             yield env.timeout(duration)
@@ -421,6 +416,8 @@ class UnitRunner:
             self.ctx.crews.release(req, 0.0)
             self._go_up()
             return
+        for p, _ in work:
+            p.in_stop = True
         lead = next((p for p, kind in work if kind == "planned"), work[0][0])
         duration = self.ctx.crews_spec.planned_repair.quantile(lead.stop_u)
         if duration > 0.0:
@@ -435,6 +432,7 @@ class UnitRunner:
         if not self.pending and not self.opportunistic:
             return work  # nothing else can join this stop
         clock = self.clock_op
+        now = self.env.now
         for p in self.positions:
             if p.failed:
                 continue
@@ -442,13 +440,7 @@ class UnitRunner:
                 if p.claim is not None and p.claim.filled:
                     work.append((p, "planned"))
                 continue
-            share = p.policy.opportunistic_share
-            if (
-                share is not None
-                and p.interval_h
-                and clock - p.installed_op >= share * p.interval_h
-                and p.store.try_issue()
-            ):
+            if p.opp_age_h < INF and p.opportunity_due(clock, now) and p.store.try_issue():
                 work.append((p, "opportunistic"))
         return work
 
@@ -477,7 +469,9 @@ class UnitRunner:
         if self.running:
             self.clock_op += self.share * (horizon_h - self.t_sync)
         elif self.discount is not None:
-            self.pv["down_h"] += self.discount.integral(self.down_since, horizon_h)
+            down = self.discount.integral(self.down_since, horizon_h)
+            self.pv["down_h"] += down
+            self.pv["lost_operating_h"] += self.share * down
         self.t_sync = horizon_h
         self.phase_h[self.phase] += horizon_h - self.phase_t
         self.phase_t = horizon_h
@@ -500,6 +494,7 @@ def unit_columns(units: list[UnitRunner], horizon_h: float) -> dict[str, list[An
         "availability": [h[RUNNING] / horizon_h for h in hours],
         "failures": [u.failures for u in units],
         "stops": [u.stops for u in units],
+        "lost_operating_h": [d * u.share for u, d in zip(units, down, strict=True)],
     }
 
 

@@ -1,8 +1,10 @@
 """The figures of one replication: names, units and meanings.
 
-Every engine reduces a replication to one flat mapping ``{figure: float}``
-with the names below, so studies, sweeps and reports read the same columns
-whatever engine produced them. Per-item figures carry the item after a colon:
+Both engines fill one :class:`~fleetsim.sim.tally.Tally` per replication;
+:func:`figures_of` is the one reduction of a tally to the flat mapping
+``{figure: float}`` with the names below, so studies, sweeps and reports read
+the same columns whatever engine produced them (the engines do not know these
+names). Per-item figures carry the item after a colon:
 ``"spares_per_year:KB-40"``, ``"availability:pump-A"``,
 ``"group_down:station-1"``.
 
@@ -12,6 +14,13 @@ group of the scenario.
 """
 
 from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from fleetsim.scenario.model import Scenario
+    from fleetsim.sim.tally import Tally
 
 #: Fleet-wide figures: name → (unit, meaning).
 FLEET_FIGURES: dict[str, tuple[str, str]] = {
@@ -27,6 +36,7 @@ FLEET_FIGURES: dict[str, tuple[str, str]] = {
     "downtime_spares_h": ("unit-hours", "down waiting for a spare"),
     "downtime_repair_h": ("unit-hours", "down during unplanned repair"),
     "downtime_planned_h": ("unit-hours", "down for planned work"),
+    "lost_operating_h": ("h", "operating hours lost: down hours × each unit's operating share"),
     "availability": ("share", "1 − downtime / (units × horizon)"),
     "cost_total": ("currency", "all costs over the horizon (present value when discounted)"),
     "cost_per_year": ("currency/year",
@@ -34,7 +44,8 @@ FLEET_FIGURES: dict[str, tuple[str, str]] = {
     "cost_parts": ("currency", "bearing prices of every change"),
     "cost_planned": ("currency", "labour of planned changes"),
     "cost_failure": ("currency", "failure costs (secondary damage, call-out, labour)"),
-    "cost_downtime": ("currency", "downtime cost"),
+    "cost_downtime": ("currency", "downtime cost (per operating hour lost)"),
+    "cost_group_downtime": ("currency", "cost of k-out-of-n groups being down (per group-hour)"),
     "cost_inspection": ("currency", "inspection cost"),
     "cost_holding": ("currency", "holding cost of spares"),
     "cost_emergency": ("currency", "emergency order premiums"),
@@ -94,3 +105,65 @@ def range_of(column: str) -> tuple[float, float] | None:
     except KeyError:
         return None
     return (0.0, 1.0) if unit in _UNIT_SHARES else (0.0, float("inf"))
+
+
+def figures_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
+    """The study's figures of one replication, from the tally either engine filled.
+
+    The one reduction (and, through :func:`fleetsim.sim.tally.costs_of`, the
+    one cost model) behind every study, sweep and report.
+    """
+    from fleetsim.sim.discount import per_year
+    from fleetsim.sim.tally import costs_of
+
+    H = tally.horizon_h
+    c = tally.counts
+    down = tally.downtime_h
+    out: dict[str, float] = {
+        "failures": c["failures"],
+        "planned_replacements": c["planned"] + c["opportunistic"],
+        "opportunistic_replacements": c["opportunistic"],
+        "inspections": c["inspections"],
+        "detections": c["detections"],
+        "missed_defects": c["missed_defects"],
+        "failures_after_detection": c["failures_after_detection"],
+        "orders": c["orders"],
+        "emergency_orders": c["emergency_orders"],
+        "stockouts": c["stockouts"],
+        "downtime_crew_h": down["crew"],
+        "downtime_spares_h": down["spares"],
+        "downtime_repair_h": down["repair"],
+        "downtime_planned_h": down["planned"],
+    }
+    out["downtime_h"] = sum(down.values())
+    n_units = sum(mt.units for mt in tally.machines.values())
+    out["availability"] = 1.0 - out["downtime_h"] / (n_units * H)
+    out["lost_operating_h"] = sum(mt.lost_operating_h for mt in tally.machines.values())
+    for m in scenario.machines:
+        mt = tally.machines[m.id]
+        out[f"failures:{m.id}"] = mt.failures
+        out[f"downtime_h:{m.id}"] = mt.down_h
+        out[f"availability:{m.id}"] = 1.0 - mt.down_h / (m.count * H)
+    costs = costs_of(tally, scenario)
+    for name in ("parts", "planned", "failure", "downtime", "group_downtime", "inspection",
+                 "holding", "emergency"):
+        key = {"planned": "planned_labour", "failure": "failure_labour"}.get(name, name)
+        out[f"cost_{name}"] = costs[key]
+    out["cost_total"] = costs["total"]
+    out["cost_per_year"] = per_year(costs["total"], tally.years, scenario.costs.discount_rate_per_year)
+    for b in scenario.bearings:
+        bt = tally.bearings.get(b)
+        issued = bt.issued if bt is not None else 0.0
+        out[f"spares_issued:{b}"] = issued
+        out[f"spares_per_year:{b}"] = issued / tally.years
+        fill = bt.fill_rate if bt is not None else 1.0
+        out[f"fill_rate:{b}"] = fill if math.isfinite(fill) else 1.0
+    for g in tally.groups:
+        if g.id == "fleet":
+            out["fleet_down"] = float(g.had_down)
+            out["fleet_first_down_h"] = g.first_down_h
+        else:
+            out[f"group_down:{g.id}"] = float(g.had_down)
+            out[f"group_downtime_h:{g.id}"] = g.down_h
+            out[f"group_first_down_h:{g.id}"] = g.first_down_h
+    return {k: float(v) for k, v in out.items()}

@@ -156,10 +156,13 @@ def policy_window(scenario: Scenario, horizon_h: float | None = None) -> PolicyW
     horizon = scenario.study.horizon_h if horizon_h is None else float(horizon_h)
     if not horizon > 0:
         raise InputError("horizon", f"expected a horizon > 0, got {horizon} h")
-    policies = [p.policy for m in scenario.machines for p in m.positions]
+    positions = [p for m in scenario.machines for p in m.positions]
+    policies = [p.policy for p in positions]
     blocks = [float(p.interval_h) for p in policies if p.kind == "block" and p.interval_h]
-    renewal_only = all(p.kind in ("age", "run-to-failure") and p.opportunistic_share is None
-                       and p.pf_interval is None for p in policies if p.kind != "block")
+    # the P-F interval belongs to the position: with one, the life to F is not the life model
+    renewal_only = all(p.policy.kind in ("age", "run-to-failure")
+                       and p.policy.opportunistic_share is None and p.pf_interval is None
+                       for p in positions if p.policy.kind != "block")
     coupled = (not scenario.independent_positions
                or any(g.hold_planned_work for g in scenario.groups))
     if renewal_only and not coupled:

@@ -10,7 +10,7 @@ practice")::
     [[variant]]
     name = "Vibration route every 4 weeks"
     set = { "policy" = { kind = "condition", inspection_every = "4 weeks",
-            pf_interval = "60 d", detection = 0.8, respond_within = "3 d" } }
+            detection = 0.8, respond_within = "3 d" } }
 
 Each key of ``set`` is a *key path* into the document: dotted names, with
 ``[i]`` for the i-th entry of an array of tables or ``[id]`` for the entry
