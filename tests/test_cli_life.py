@@ -109,3 +109,69 @@ def test_size_reports_when_nothing_fits(capsys) -> None:
                         "--life", "25000 h", "--reliability", "0.99", "--catalog",
                         "scenarios/catalogue.csv"], capsys)
     assert code == 0 and "none of the roller bearings" in out
+
+
+PAIR = ["life", "--type", "tapered-roller", "--dynamic-rating", "160 kN", "--static-rating",
+        "190 kN", "--radial-load", "14 kN", "--radial-load-b", "11 kN", "--axial-load", "5 kN",
+        "--speed", "380 rpm", "--e", "0.37", "--X", "0.4", "--Y", "1.6",
+        "--arrangement", "face-to-face"]
+
+
+def test_life_opposed_pair_json_contract(capsys) -> None:
+    code, out, _ = run(PAIR + ["--json"], capsys)
+    assert code == 0
+    obj = json.loads(out)
+    assert obj["arrangement"] == "face-to-face"
+    assert [b["name"] for b in obj["bearings"]] == ["A", "B"]
+    for b in obj["bearings"]:
+        assert {"name", "axial_load_N", "equivalent_load_N", "rating_life_h"} <= set(b)
+    # Induced thrust Fr/(2Y) (the standard tapered-roller rule, from memory):
+    # FaA = 11/3.2 + 5 kN, FaB = 11/3.2 kN.
+    assert math.isclose(obj["bearings"][0]["axial_load_N"], 11_000 / 3.2 + 5_000, rel_tol=1e-12)
+    assert math.isclose(obj["bearings"][1]["axial_load_N"], 11_000 / 3.2, rel_tol=1e-12)
+    assert obj["arrangement_life_h"] == obj["rating_life_h"]
+    assert obj["arrangement_life_h"] < min(b["rating_life_h"] for b in obj["bearings"])
+    # ISO 76 single-row tapered: P0 = max(Fr, 0.5 Fr + 0.22 cot α Fa), cot α = 1.5/e.
+    p0 = max(14_000, 0.5 * 14_000 + 0.33 / 0.37 * (11_000 / 3.2 + 5_000))
+    assert math.isclose(obj["static_equivalent_load_N"], p0, rel_tol=1e-12)
+    assert math.isclose(obj["static_safety_factor"], 190_000 / p0, rel_tol=1e-12)
+    code, out, _ = run(PAIR, capsys)
+    assert code == 0 and "bearing A" in out and "in series" in out
+
+
+def test_life_static_keys_for_a_single_ball_bearing(capsys) -> None:
+    code, out, _ = run(BASE + ["--json"], capsys)
+    obj = json.loads(out)
+    # ISO 76: P0 = max(Fr, 0.6 Fr + 0.5 Fa) = 3.2 kN here (from memory).
+    assert obj["static_equivalent_load_N"] == 3_200
+    assert math.isclose(obj["static_safety_factor"], 19_000 / 3_200)
+    assert obj["arrangement"] == "single" and len(obj["bearings"]) == 1
+
+
+@pytest.mark.parametrize(
+    "args, option",
+    [
+        (PAIR[:15] + PAIR[21:], "--e"),
+        (BASE + ["--e", "0.3"], "--e"),
+        (PAIR[:21] + ["--arrangement", "single"], "--radial-load-b"),
+        (PAIR + ["--Y", "-1"], "--Y"),
+        (PAIR[:9] + PAIR[11:], "--radial-load-b"),
+    ],
+)
+def test_life_contact_angle_bad_input(args, option, capsys) -> None:
+    code, out, err = run(args, capsys)
+    assert code == 2 and out == "" and err.count("\n") == 1 and option in err
+
+
+def test_reliability_outside_a1_range_warns_in_the_cli(capsys) -> None:
+    code, _, err = run(BASE + ["--reliability", "0.5"], capsys)
+    assert code == 0 and "warning" in err and "below 0.90" in err
+
+
+def test_size_accepts_every_bearing_type(capsys) -> None:
+    # C = P (x_D / a1)^(1/p), p = 10/3 for roller bearings (ISO 281), a1(0.9) = 1.
+    code, out, _ = run(["size", "--type", "tapered-roller", "--load", "10 kN", "--speed",
+                        "380 rpm", "--life", "40000 h", "--reliability", "0.9", "--json"], capsys)
+    assert code == 0
+    expected = 10_000 * (40_000 * 60 * 380 / 1e6) ** (3 / 10)
+    assert math.isclose(json.loads(out)["required_dynamic_rating_N"], expected, rel_tol=1e-12)

@@ -10,17 +10,21 @@ from fleetsim import SAFETY_CAUTION
 from fleetsim.cli.common import echo_json, fmt, positive, quantity, table
 from fleetsim.errors import InputError
 from fleetsim.life import (
+    Arrangement,
     BearingRating,
     BearingType,
     DutyStep,
+    LoadFactors,
     Lubrication,
     position_life,
     read_catalogue,
     required_dynamic_rating,
     select_bearing,
+    warn_reliability_range,
 )
 
-TYPE_CHOICE = click.Choice(["ball", "roller"])
+TYPE_CHOICE = click.Choice([k.value for k in BearingType])
+ARRANGEMENT_CHOICE = click.Choice([a.value for a in Arrangement])
 MODEL_CHOICE = click.Choice(["iso281", "textbook"])
 
 
@@ -55,12 +59,16 @@ _LIFE_OPTIONS = {
     "load": "--load",
     "life": "--life",
     "model": "--model",
+    "bearing": "--e",
+    "arrangement": "--arrangement",
+    "radial load b": "--radial-load-b",
 }
 
 
 @click.command()
 @click.option("--type", "bearing_type", type=TYPE_CHOICE, required=True,
-              help="ball (radial deep-groove) or roller (cylindrical, radial load only).")
+              help="ball (radial deep-groove), roller (cylindrical, radial load only), "
+                   "angular-contact-ball or tapered-roller (these two need --e, --X, --Y).")
 @click.option("--dynamic-rating", required=True, help="Basic dynamic load rating C, e.g. '30.7 kN'.")
 @click.option("--static-rating", default=None, help="Basic static load rating C0, e.g. '19 kN'.")
 @click.option("--radial-load", required=True, help="Radial load Fr, e.g. '3.2 kN' or '720 lbf'.")
@@ -78,6 +86,19 @@ _LIFE_OPTIONS = {
 @click.option("--viscosity-ratio", type=float, default=None, help="κ = ν/ν1, for a_ISO.")
 @click.option("--contamination", type=float, default=None, help="Contamination factor e_C in [0, 1].")
 @click.option("--fatigue-limit", default=None, help="Fatigue load limit Cu, e.g. '1.3 kN'.")
+@click.option("--e", "factor_e", type=float, default=None,
+              help="Catalogue e (angular-contact-ball, tapered-roller).")
+@click.option("--X", "factor_x", type=float, default=None, help="Catalogue X, used above e.")
+@click.option("--Y", "factor_y", type=float, default=None, help="Catalogue Y, used above e.")
+@click.option("--Y1", "factor_y1", type=float, default=None,
+              help="Catalogue Y1 of a double-row bearing, used at or below e (X1 = 1).")
+@click.option("--Y0", "factor_y0", type=float, default=None,
+              help="Catalogue static factor Y0 (default: ISO 76 from e).")
+@click.option("--arrangement", type=ARRANGEMENT_CHOICE, default="single", show_default=True,
+              help="How the bearings are mounted; face-to-face and back-to-back are an "
+                   "opposed pair A, B with the axial load as external thrust on A.")
+@click.option("--radial-load-b", default=None,
+              help="Radial load of bearing B of a face-to-face or back-to-back pair.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
 def life(
     bearing_type: str,
@@ -94,9 +115,16 @@ def life(
     viscosity_ratio: float | None,
     contamination: float | None,
     fatigue_limit: str | None,
+    factor_e: float | None,
+    factor_x: float | None,
+    factor_y: float | None,
+    factor_y1: float | None,
+    factor_y0: float | None,
+    arrangement: str,
+    radial_load_b: str | None,
     as_json: bool,
 ) -> None:
-    """Rating life and life distribution of one bearing position."""
+    """Rating life and life distribution of one bearing position (or arrangement)."""
     c = positive(quantity(dynamic_rating, "force", "--dynamic-rating"), "--dynamic-rating", "rating")
     c0 = positive(quantity(static_rating, "force", "--static-rating"), "--static-rating", "rating")
     fr = quantity(radial_load, "force", "--radial-load")
@@ -104,6 +132,10 @@ def life(
     n = positive(quantity(speed, "speed", "--speed"), "--speed", "speed")
     cu = positive(quantity(fatigue_limit, "force", "--fatigue-limit"), "--fatigue-limit", "load")
     at_h = positive(quantity(at, "time", "--at"), "--at", "life")
+    fr_b = quantity(radial_load_b, "force", "--radial-load-b")
+    if fr_b is not None and fr_b < 0:
+        raise InputError("--radial-load-b", f"expected a load >= 0, got {fr_b:g} N")
+    factors = _catalogue_factors(bearing_type, factor_e, factor_x, factor_y, factor_y1, factor_y0)
     _reliability(reliability)
     _factor(application_factor, "--application-factor")
     _factor(rotation_factor, "--rotation-factor")
@@ -127,17 +159,19 @@ def life(
     if bearing_type == "ball" and fa > 0 and c0 is None:
         raise InputError("--static-rating", "a ball bearing with axial load needs C0, e.g. '19 kN'")
     try:
-        rating = BearingRating(BearingType(bearing_type), c, c0, cu)
+        rating = BearingRating(BearingType(bearing_type), c, c0, cu, factors)
         res = position_life(
             rating,
-            [DutyStep(1.0, fr, fa, n)],
+            [DutyStep(1.0, fr, fa, n, fr_b)],
             model=model,
             rotation_factor=rotation_factor,
             application_factor=application_factor,
             lubrication=lubrication,
+            arrangement=arrangement,
         )
     except InputError as exc:
         raise _relabel(exc, _LIFE_OPTIONS) from None
+    warn_reliability_range(reliability, model)
 
     dist = res.distribution
     basic_life_at_r = res.model.life_ratio(reliability) * res.rating_life_h
@@ -159,6 +193,16 @@ def life(
         "a_iso": res.a_iso,
         "modified_life_h": None if res.a_iso is None else res.a_iso * float(basic_life_at_r),
         "static_safety": res.static_safety,
+        "static_equivalent_load_N": res.static_equivalent_load_N,
+        "static_safety_factor": res.static_safety,
+        "arrangement": res.arrangement.value,
+        "bearings": [
+            {"name": b.name, "radial_load_N": b.radial_load_N, "axial_load_N": b.axial_load_N,
+             "equivalent_load_N": b.equivalent_load_N, "rating_life_h": b.rating_life_h,
+             "static_equivalent_load_N": b.static_equivalent_load_N}
+            for b in res.bearings
+        ],
+        "arrangement_life_h": res.rating_life_h,
         "caution": SAFETY_CAUTION,
     }
     if at_h is not None:
@@ -175,8 +219,18 @@ def life(
         (f"life at R = {reliability:g}", fmt(out["life_at_reliability_h"], ",.0f", "h")),
         (f"Weibull ({model})", f"shape {dist.shape:.4g}, scale {dist.scale_h:,.0f} h, "
                                f"location {dist.location_h:,.0f} h"),
-        ("static safety C0/P", fmt(res.static_safety, ".3g")),
+        ("static load P0", fmt(res.static_equivalent_load_N, ".4g", "N")),
+        ("static safety s0 = C0/P0", fmt(res.static_safety, ".3g")),
     ]
+    if len(res.bearings) > 1:
+        rows[1:1] = [
+            (f"bearing {b.name}", f"Fr {b.radial_load_N:.4g} N, Fa {b.axial_load_N:.4g} N, "
+                                  f"P {b.equivalent_load_N:.4g} N, L10 {b.rating_life_h:,.0f} h")
+            for b in res.bearings
+        ]
+        rows[len(res.bearings) + 2] = (
+            f"rating life L10 ({res.arrangement.value}, in series)",
+            rows[len(res.bearings) + 2][1])
     if res.a_iso is not None:
         rows += [
             ("a_ISO", fmt(res.a_iso, ".4g")),
@@ -188,8 +242,34 @@ def life(
     click.echo(f"\n{SAFETY_CAUTION}")
 
 
+def _catalogue_factors(
+    bearing_type: str, e: float | None, x: float | None, y: float | None, y1: float | None,
+    y0: float | None,
+) -> LoadFactors | None:
+    """e, X, Y (Y1, Y0) of a contact-angle bearing from the options; None for ball and roller."""
+    given = {"--e": e, "--X": x, "--Y": y, "--Y1": y1, "--Y0": y0}
+    if not BearingType(bearing_type).needs_catalogue_factors:
+        extra = [k for k, v in given.items() if v is not None]
+        if extra:
+            raise InputError(extra[0], f"used only with angular-contact-ball or tapered-roller "
+                                       f"(a {bearing_type} bearing takes ISO's factors)")
+        return None
+    for opt in ("--e", "--X", "--Y"):
+        if given[opt] is None:
+            raise InputError(opt, f"a {bearing_type} bearing needs the catalogue's e, X and Y")
+    for opt, v in given.items():
+        if v is not None and not (v >= 0 and v < float("inf")):
+            raise InputError(opt, f"expected a factor >= 0, got {v:g}")
+    assert e is not None and x is not None and y is not None
+    if not e > 0:
+        raise InputError("--e", f"expected e > 0, got {e:g}")
+    return LoadFactors(e=e, X=x, Y=y, Y1=0.0 if y1 is None else y1, Y0=y0)
+
+
 @click.command()
-@click.option("--type", "bearing_type", type=TYPE_CHOICE, default=None, help="ball or roller.")
+@click.option("--type", "bearing_type", type=TYPE_CHOICE, default=None,
+              help="ball, roller, angular-contact-ball or tapered-roller (gives the life "
+                   "exponent: 3 for ball, 10/3 for roller bearings).")
 @click.option("--load", default=None, help="Equivalent dynamic load P, e.g. '4 kN'.")
 @click.option("--speed", default=None, help="Speed, e.g. '1480 rpm'.")
 @click.option("--life", "life_", required=True,
@@ -254,6 +334,7 @@ def size(
     _reliability(reliability)
     _factor(application_factor, "--application-factor")
     assert p is not None and n is not None and life_h is not None
+    warn_reliability_range(reliability, model)
     required = required_dynamic_rating(
         p, n, life_h, reliability,
         bearing_type=bearing_type, model=model, application_factor=application_factor,

@@ -3,12 +3,21 @@
 Knows nothing of simulation, files (except the catalogue reader) or printing.
 """
 
+from fleetsim.life.arrangement import (
+    Arrangement,
+    BearingLoad,
+    bearing_loads,
+    induced_thrust_factor,
+    opposed_axial_loads,
+    series_rating_life,
+)
 from fleetsim.life.distribution import (
     PRESETS,
     LifeDistribution,
     WeibullShape,
     life_shape,
     reliability_factor_a1,
+    warn_reliability_range,
 )
 from fleetsim.life.loads import (
     RADIAL_BALL_TABLE,
@@ -19,7 +28,14 @@ from fleetsim.life.loads import (
     radial_ball_factors,
 )
 from fleetsim.life.modified import life_modification_factor
-from fleetsim.life.position import BearingRating, Lubrication, PositionLife, position_life
+from fleetsim.life.position import (
+    BearingLife,
+    BearingRating,
+    Lubrication,
+    PositionInputs,
+    PositionLife,
+    position_life,
+)
 from fleetsim.life.rating import (
     DutyResult,
     DutyStep,
@@ -36,8 +52,26 @@ from fleetsim.life.sizing import (
     select_bearing,
     series_reliability,
 )
+from fleetsim.life.static import (
+    MINIMUM_S0,
+    static_equivalent_load,
+    static_factors,
+    static_safety_factor,
+)
 
 __all__ = [
+    "static_safety_factor",
+    "static_factors",
+    "static_equivalent_load",
+    "series_rating_life",
+    "opposed_axial_loads",
+    "induced_thrust_factor",
+    "bearing_loads",
+    "PositionInputs",
+    "BearingLoad",
+    "BearingLife",
+    "Arrangement",
+    "MINIMUM_S0",
     "PRESETS",
     "RADIAL_BALL_TABLE",
     "BearingRating",
@@ -66,4 +100,5 @@ __all__ = [
     "revolutions_to_hours",
     "select_bearing",
     "series_reliability",
+    "warn_reliability_range",
 ]

@@ -20,6 +20,7 @@ A life in these units is multiplied by L10 in hours to give hours.
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -27,7 +28,7 @@ from typing import Any
 import numpy as np
 from scipy import stats
 
-from fleetsim.errors import InputError
+from fleetsim.errors import InputError, LifeModelWarning
 
 
 @dataclass(frozen=True)
@@ -121,6 +122,39 @@ def reliability_factor_a1(reliability: float, model: str | WeibullShape = "iso28
     """
     _check_reliability(reliability, "reliability")
     return float(life_shape(model).life_ratio(reliability))
+
+
+#: Range of reliability over which ISO 281:2007 gives the factor a1 (90–99.95 %).
+A1_RANGE: tuple[float, float] = (0.90, 0.9995)
+
+
+def warn_reliability_range(
+    reliability: float, model: str | Mapping[str, Any] | WeibullShape = "iso281"
+) -> None:
+    """Warn when a life at reliability R leaves the range its model covers.
+
+    The ISO 281 preset reproduces a1, which ISO 281:2007 gives for R from 90 %
+    to 99.95 %; both presets were fitted to life tests read at 90 % reliability
+    and above, so below 90 % they extrapolate. A custom model gets no warning.
+    """
+    shape = life_shape(model)
+    lo, hi = A1_RANGE
+    if shape.name == "custom":
+        return
+    if reliability < lo:
+        warnings.warn(
+            f"reliability {reliability:g} is below 0.90: the {shape.name} life model (and "
+            "the a1 factor of ISO 281) is an extrapolation there",
+            LifeModelWarning,
+            stacklevel=2,
+        )
+    elif shape.name == "iso281" and reliability > hi:
+        warnings.warn(
+            f"reliability {reliability:g} is above 0.9995, beyond the range of the ISO 281 "
+            "a1 factor (0.90–0.9995)",
+            LifeModelWarning,
+            stacklevel=2,
+        )
 
 
 def _check_reliability(r: float, where: str) -> None:

@@ -1,6 +1,8 @@
 """Equivalent dynamic load P from radial and axial loads.
 
-P = X·V·Fr + Y·Fa when Fa/(V·Fr) > e, and P = V·Fr otherwise (X1 = 1, Y1 = 0).
+P = X·V·Fr + Y·Fa when Fa/(V·Fr) > e, and P = X1·V·Fr + Y1·Fa otherwise, with
+X1 = 1, Y1 = 0 for single-row bearings; double-row bearings (and pairs acting
+as one) give their own Y1 (ISO 281:2007, Tables 3 and 4).
 
 * Radial (deep-groove) ball bearings take e and Y from the widely published
   table indexed by Fa/C0 (:data:`RADIAL_BALL_TABLE`, X2 = 0.56), interpolated
@@ -86,14 +88,30 @@ class LoadFactors:
     Attributes
     ----------
     e
-        Limit of Fa/(V·Fr) below which the axial load is ignored.
+        Limit of Fa/(V·Fr) between the two sets of factors.
     X, Y
-        Radial and axial factors used when Fa/(V·Fr) > e.
+        Radial and axial factors used when Fa/(V·Fr) > e (X2, Y2 of a
+        double-row bearing).
+    X1, Y1
+        Factors used when Fa/(V·Fr) <= e: 1 and 0 for single-row bearings.
+    X0, Y0
+        Static factors of the catalogue (None: the ISO 76 values, see
+        :mod:`fleetsim.life.static`).
+    induced_thrust_factor
+        Induced axial force per unit radial load of a contact-angle bearing
+        (None: 1/(2Y) for tapered roller bearings, the handbook value by
+        contact angle for angular-contact ball bearings; see
+        :mod:`fleetsim.life.arrangement`).
     """
 
     e: float
     X: float
     Y: float
+    X1: float = 1.0
+    Y1: float = 0.0
+    X0: float | None = None
+    Y0: float | None = None
+    induced_thrust_factor: float | None = None
 
 
 @dataclass(frozen=True)
@@ -107,7 +125,7 @@ class EquivalentLoad:
     bare_load_N
         P before the application factor, in N.
     e, X, Y
-        The factors used. X and Y are the ones applied: (1, 0) when
+        The factors used. X and Y are the ones applied: (X1, Y1) when
         Fa/(V·Fr) <= e.
     """
 
@@ -212,7 +230,7 @@ def equivalent_load(
         lf = factors
 
     if vfr > 0 and axial_load_N / vfr <= lf.e:
-        x, y = 1.0, 0.0
+        x, y = lf.X1, lf.Y1
     else:
         x, y = lf.X, lf.Y
     bare = x * vfr + y * axial_load_N

@@ -53,12 +53,19 @@ class DutyStep:
         Loads in N.
     speed_rpm
         Speed in rev/min (> 0).
+    radial_load_b_N
+        Radial load of bearing B of a face-to-face or back-to-back pair, N
+        (None otherwise); ``axial_load_N`` is then the external thrust.
+    viscosity_ratio
+        κ of this step for a_ISO (None: the position's κ).
     """
 
     share: float
     radial_load_N: float
     axial_load_N: float
     speed_rpm: float
+    radial_load_b_N: float | None = None
+    viscosity_ratio: float | None = None
 
 
 @dataclass(frozen=True)

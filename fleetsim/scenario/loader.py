@@ -92,7 +92,15 @@ BEARING_KEYS = (
     "e",
     "X",
     "Y",
+    "X1",
+    "Y1",
+    "X0",
+    "Y0",
+    "induced_thrust_factor",
+    "bore_mm",
 )
+# Catalogue factors of contact-angle bearings beyond e, X and Y.
+_EXTRA_FACTOR_KEYS = ("X1", "Y1", "X0", "Y0", "induced_thrust_factor")
 GROUP_KEYS = ("id", "machines", "need", "hold_planned_work", "downtime_per_hour")
 STOCK_KEYS = (
     "initial",
@@ -301,14 +309,22 @@ def _bearings(
                 e=t.number("e", minimum=0.0, exclusive_minimum=True, what="the catalogue factor e"),
                 X=t.number("X", minimum=0.0, what="the catalogue factor X"),
                 Y=t.number("Y", minimum=0.0, what="the catalogue factor Y"),
+                X1=t.number("X1", 1.0, minimum=0.0, what="the catalogue factor X1"),
+                Y1=t.number("Y1", 0.0, minimum=0.0, what="the catalogue factor Y1"),
+                X0=t.number("X0", None, minimum=0.0, what="the static factor X0"),
+                Y0=t.number("Y0", None, minimum=0.0, what="the static factor Y0"),
+                induced_thrust_factor=t.number(
+                    "induced_thrust_factor", None, minimum=0.0, exclusive_minimum=True,
+                    what="an induced axial force per unit radial load"),
             )
         else:
-            for key in ("e", "X", "Y"):
+            for key in ("e", "X", "Y", *_EXTRA_FACTOR_KEYS):
                 if t.has(key):
                     raise t.error(
                         key,
-                        f"e, X and Y apply only to angular-contact-ball and tapered-roller "
-                        f"bearings; a {kind.value} bearing takes them from the ISO tables",
+                        f"catalogue factors (e, X, Y, X1, Y1, X0, Y0, induced_thrust_factor) "
+                        f"apply only to angular-contact-ball and tapered-roller bearings; a "
+                        f"{kind.value} bearing takes them from the ISO tables",
                     )
         bearings[bid] = Bearing(
             id=bid,
@@ -318,6 +334,8 @@ def _bearings(
             fatigue_limit_N=t.quantity("fatigue_limit", "force", None, positive=True),
             price=t.number("price", 0.0, minimum=0.0, what="a price"),
             factors=factors,
+            bore_mm=t.number("bore_mm", None, minimum=0.0, exclusive_minimum=True,
+                             what="a bore diameter in mm"),
         )
         paths[bid] = t.path
         lead[bid] = t.duration("lead_time", None)

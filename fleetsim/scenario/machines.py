@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 
 from fleetsim.errors import InputError
 from fleetsim.life import (
+    Arrangement,
     BearingRating,
     DutyStep,
     LifeDistribution,
@@ -35,7 +36,9 @@ POSITION_KEYS = (
     "count",
     "bearing",
     "radial_load",
+    "radial_load_b",
     "axial_load",
+    "arrangement",
     "speed",
     "duty",
     "application_factor",
@@ -47,12 +50,14 @@ POSITION_KEYS = (
     "policy",
     "pf_interval",
 )
-DUTY_KEYS = ("share", "radial_load", "axial_load", "speed")
+DUTY_KEYS = ("share", "radial_load", "radial_load_b", "axial_load", "speed", "viscosity_ratio")
 FIELD_LIFE_KEYS = ("shape", "scale", "location")
 # Keys that describe loads; not allowed next to an explicit life.
 _LOAD_KEYS = (
     "radial_load",
+    "radial_load_b",
     "axial_load",
+    "arrangement",
     "speed",
     "duty",
     "application_factor",
@@ -200,9 +205,11 @@ def _field_life(t: Table) -> LifeDistribution:
 
 
 def _duty(t: Table) -> list[DutyStep]:
-    for key in ("radial_load", "axial_load", "speed"):
+    for key in ("radial_load", "radial_load_b", "axial_load", "speed"):
         if t.has(key):
-            raise t.error(key, "give either duty = [...] or radial_load/axial_load/speed, not both")
+            raise t.error(
+                key, "give either duty = [...] or radial_load/axial_load/speed, not both"
+            )
     raw = t.raw("duty")
     if not isinstance(raw, list) or not raw:
         raise t.error(
@@ -221,6 +228,11 @@ def _duty(t: Table) -> list[DutyStep]:
                 radial_load_N=s.quantity("radial_load", "force", 0.0),
                 axial_load_N=s.quantity("axial_load", "force", 0.0),
                 speed_rpm=s.quantity("speed", "speed", positive=True),
+                radial_load_b_N=s.quantity("radial_load_b", "force", None),
+                viscosity_ratio=s.number(
+                    "viscosity_ratio", None, minimum=0.0, exclusive_minimum=True,
+                    what="a viscosity ratio κ",
+                ),
             )
         )
         if out[-1].radial_load_N == 0 and out[-1].axial_load_N == 0:
@@ -232,7 +244,9 @@ def _duty(t: Table) -> list[DutyStep]:
     if abs(total - 1.0) > 0.01:
         raise t.error("duty", f"expected the shares to add up to 1, got {total:g}")
     return [
-        DutyStep(st.share / total, st.radial_load_N, st.axial_load_N, st.speed_rpm) for st in out
+        DutyStep(st.share / total, st.radial_load_N, st.axial_load_N, st.speed_rpm,
+                 st.radial_load_b_N, st.viscosity_ratio)
+        for st in out
     ]
 
 
@@ -244,7 +258,14 @@ def _derive(t: Table, bearing: Bearing, bearing_path: str, defaults: LifeDefault
         axial = t.quantity("axial_load", "force", 0.0)
         if radial == 0 and axial == 0:
             raise t.error("radial_load", "expected a positive radial or axial load, got both zero")
-        steps = [DutyStep(1.0, radial, axial, t.quantity("speed", "speed", positive=True))]
+        steps = [
+            DutyStep(
+                1.0, radial, axial, t.quantity("speed", "speed", positive=True),
+                t.quantity("radial_load_b", "force", None),
+            )
+        ]
+    arrangement = t.text("arrangement", Arrangement.SINGLE.value,
+                         choices=[a.value for a in Arrangement])
     factor: NumberBounds = {"minimum": 0.0, "exclusive_minimum": True}
     application = t.number("application_factor", 1.0, what="an application factor a_f", **factor)
     rotation = t.number("rotation_factor", 1.0, what="a rotation factor V", **factor)
@@ -253,6 +274,15 @@ def _derive(t: Table, bearing: Bearing, bearing_path: str, defaults: LifeDefault
     )
     e_c = t.probability("contamination", defaults.contamination, what="a contamination factor e_C")
     lubrication = None
+    if kappa is None and e_c is not None and steps and all(
+        st.viscosity_ratio is not None for st in steps
+    ):
+        kappa = steps[0].viscosity_ratio  # every step gives its own κ
+    if e_c is None and any(st.viscosity_ratio is not None for st in steps):
+        raise t.error(
+            "contamination",
+            "a duty step's viscosity_ratio needs contamination (on the position or in [life])",
+        )
     if (kappa is None) != (e_c is None):
         missing = "contamination" if e_c is None else "viscosity_ratio"
         raise t.error(
@@ -279,6 +309,7 @@ def _derive(t: Table, bearing: Bearing, bearing_path: str, defaults: LifeDefault
                 rotation_factor=rotation,
                 application_factor=application,
                 lubrication=lubrication,
+                arrangement=arrangement,
             )
         except InputError as exc:
             raise _relabel(exc, t, bearing, bearing_path) from None
@@ -297,6 +328,8 @@ def _derive(t: Table, bearing: Bearing, bearing_path: str, defaults: LifeDefault
 
 _POSITION_WHERE = {
     "radial load": "radial_load",
+    "radial load b": "radial_load_b",
+    "arrangement": "arrangement",
     "axial load": "axial_load",
     "speed": "speed",
     "equivalent load": "radial_load",
@@ -329,6 +362,6 @@ def _relabel(exc: InputError, t: Table, bearing: Bearing, bearing_path: str) -> 
     key = _POSITION_WHERE.get(where)
     if key is None:
         return InputError(f"{t.where()}.{where.replace(' ', '_')}", exc.expected)
-    if t.has("duty") and key in ("radial_load", "axial_load", "speed"):
+    if t.has("duty") and key in ("radial_load", "radial_load_b", "axial_load", "speed"):
         key = "duty"
     return InputError(t.where(key), exc.expected)

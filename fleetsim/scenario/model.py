@@ -198,7 +198,9 @@ class Bearing:
     price
         Unit price in the scenario's currency.
     factors
-        e, X, Y for contact-angle bearings.
+        e, X, Y (X1, Y1, X0, Y0) for contact-angle bearings.
+    bore_mm
+        Bore diameter, mm (None if not given).
     """
 
     id: str
@@ -208,6 +210,7 @@ class Bearing:
     fatigue_limit_N: float | None = None
     price: float = 0.0
     factors: LoadFactors | None = None
+    bore_mm: float | None = None
 
 
 @dataclass(frozen=True)
