@@ -175,3 +175,12 @@ def test_size_accepts_every_bearing_type(capsys) -> None:
     assert code == 0
     expected = 10_000 * (40_000 * 60 * 380 / 1e6) ** (3 / 10)
     assert math.isclose(json.loads(out)["required_dynamic_rating_N"], expected, rel_tol=1e-12)
+
+
+def test_size_bore_filter(capsys) -> None:
+    args = ["size", "--type", "ball", "--load", "2 kN", "--speed", "1480 rpm", "--life",
+            "25000 h", "--reliability", "0.9", "--catalog", "scenarios/catalogue.csv", "--json"]
+    code, out, _ = run(args + ["--bore", "50"], capsys)
+    assert code == 0 and json.loads(out)["selected"]["bore_mm"] == 50
+    code, _, err = run(args + ["--bore", "keep"], capsys)
+    assert code == 2 and "--bore" in err and err.count("\n") == 1

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import click
@@ -242,6 +243,23 @@ def life(
     click.echo(f"\n{SAFETY_CAUTION}")
 
 
+def _bore_choice(text: str | None, *, scenario: bool) -> str | float | None:
+    """``--bore``: keep/any (with --scenario) or a bore in mm."""
+    if text is None:
+        return "keep" if scenario else None
+    word = text.strip().lower()
+    if scenario and word in ("keep", "any"):
+        return word
+    try:
+        value = float(word.removesuffix("mm").strip())
+    except ValueError:
+        value = math.nan
+    if not (value > 0 and math.isfinite(value)):
+        choices = "keep, any or a bore in mm" if scenario else "a bore in mm"
+        raise InputError("--bore", f"expected {choices}, e.g. '50', got {text!r}")
+    return value
+
+
 def _catalogue_factors(
     bearing_type: str, e: float | None, x: float | None, y: float | None, y1: float | None,
     y0: float | None,
@@ -282,6 +300,9 @@ def _catalogue_factors(
               help="Load (application) factor a_f.")
 @click.option("--catalog", type=click.Path(dir_okay=False), default=None,
               help="Bearing catalogue CSV to choose from.")
+@click.option("--bore", default=None,
+              help="Bore of the catalogue choice in mm; with --scenario 'keep' (default: "
+                   "today's bore where the scenario gives bore_mm), 'any', or a bore in mm.")
 @click.option("--scenario", type=click.Path(dir_okay=False), default=None,
               help="Size every position of this scenario for a machine-level target, then "
                    "simulate today's bearings and the new selection side by side.")
@@ -301,6 +322,7 @@ def size(
     model: str,
     application_factor: float,
     catalog: str | None,
+    bore: str | None,
     scenario: str | None,
     machines: tuple[str, ...],
     replications: int | None,
@@ -321,8 +343,10 @@ def size(
                 raise InputError(opt, "not used with --scenario (loads and speeds come from the file)")
         if catalog is None:
             raise InputError("--catalog", "--scenario needs a bearing catalogue to choose from")
+        bore_choice = _bore_choice(bore, scenario=True)
+        assert bore_choice is not None
         size_scenario(scenario, catalog, life_, reliability, machines, replications, out, quiet,
-                      as_json)
+                      as_json, bore_choice)
         return
     for opt, value in (("--type", bearing_type), ("--load", load), ("--speed", speed)):
         if value is None:
@@ -345,7 +369,9 @@ def size(
             entries = read_catalogue(catalog)
         except InputError as exc:
             raise InputError(f"--catalog {exc.where}", exc.expected) from None
-        pick = select_bearing(entries, required, bearing_type)
+        bore_mm = _bore_choice(bore, scenario=False)
+        assert not isinstance(bore_mm, str)
+        pick = select_bearing(entries, required, bearing_type, bore_mm=bore_mm)
         if pick is not None:
             selected = {
                 "designation": pick.designation,

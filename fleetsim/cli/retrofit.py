@@ -15,7 +15,7 @@ from fleetsim.errors import InputError
 
 def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
                   machines: tuple[str, ...], replications: int | None, out: str | None,
-                  quiet: bool, as_json: bool) -> None:
+                  quiet: bool, as_json: bool, bore: str | float = "keep") -> None:
     """Plan the retrofit, simulate both selections, print and write the report."""
     from fleetsim.life import read_catalogue
     from fleetsim.report import summary_table, write_report
@@ -36,7 +36,8 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
     digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
     today = build_scenario({k: v for k, v in document.items() if k != "variant"},
                            source=scenario_path, digest=digest)
-    plan = plan_retrofit(today, document, entries, target, period_h, list(machines) or None)
+    plan = plan_retrofit(today, document, entries, target, period_h, list(machines) or None,
+                         bore=bore)
     doc = {k: v for k, v in plan.document.items() if k != "variant"}
     new = build_scenario(doc, source=f"{scenario_path} [new selection]", digest=digest)
     rel_now = machine_reliability(today, period_h)
@@ -52,7 +53,8 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
     rows = [
         {"machine": c.machine, "position": c.position, "current_bearing": c.current_bearing,
          "required_reliability": c.required_reliability, "required_rating_N": c.required_rating_N,
-         "selected": c.selected, "selected_rating_N": c.selected_rating_N, "note": c.note}
+         "selected": c.selected, "selected_rating_N": c.selected_rating_N, "note": c.note,
+         "reliability_today": c.reliability_today, "reliability_selected": c.reliability_selected}
         for c in plan.choices
     ]
     machines_out = {
@@ -78,7 +80,8 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
         echo_json(obj)
         return
     click.echo(f"Target: each machine {target:.4g} reliable over {years:.3g} years "
-               f"(positions in series, equal allocation)\n")
+               f"(positions in series; the target shared equally by the positions that can "
+               f"change)\n")
     w = max(len(f"{r['machine']}/{r['position']}") for r in rows)
     click.echo(f"{'position':<{w}}  {'today':<10} {'needs C':>9}  {'selected':<10} note")
     for c in plan.choices:

@@ -1,37 +1,49 @@
 """Reliability target → bearing ratings → a new selection, ready to simulate.
 
 For a machine-level target — reliability R over a calendar period t, the
-machine's positions in series — the target is allocated equally to the n
-positions (each needs R^(1/n) over its operating hours t·share), the dynamic
-rating each position needs follows from its equivalent load and speed through
-:func:`fleetsim.life.required_dynamic_rating` (crediting the position's a_ISO
-and field factor as they are today), and the smallest adequate bearing of the
-same type is picked from a catalogue. The selection is written back into the
-scenario document as new ``[[bearing]]`` entries (prices from the catalogue,
-lead times and stock policy copied from the bearing they replace), so the
-current and the new selection can be simulated side by side on common random
-numbers.
-
-Positions whose life is given explicitly (a field distribution) or whose
-bearing type the catalogue lacks keep their bearing; the result says so.
+machine's positions in series — the positions split into those that cannot
+change (a life given explicitly as a field distribution, or no catalogue
+bearing of its type and bore) and those that can. The fixed positions keep
+their reliability R_fixed over their operating hours t·share; the rest of the
+target is allocated equally over the n positions that can change: each needs
+(R / R_fixed)^(1/n) (equal apportionment of a series system; any reliability
+text). A position that meets its share with today's bearing keeps it
+("kept"), its reliability joins R_fixed and the share of the others is worked
+out again, until no other position meets it (a machine that meets the target
+today keeps everything). Each remaining position takes the smallest adequate
+catalogue bearing: of the same type, of
+today's bore unless told otherwise (``bore="any"`` or a bore in mm; when
+today's bore is unknown, any bore), rated at least as high as today's, and
+adequate when the position's life with *that* bearing — its own static rating,
+fatigue limit and so a_ISO, the position's duty, arrangement and field factor —
+gives the position's share over the period. The selection is written back into
+the scenario document as new ``[[bearing]]`` entries (prices and bores from
+the catalogue, lead times and stock policy copied from the bearing they
+replace), so the current and the new selection can be simulated side by side
+on common random numbers.
 """
 
 from __future__ import annotations
 
 import copy
+import math
+import warnings
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
-from fleetsim.errors import InputError
+from fleetsim.errors import InputError, LifeModelWarning
 from fleetsim.life import (
+    BearingRating,
     CatalogueEntry,
-    allocate_reliability,
-    required_dynamic_rating,
-    select_bearing,
+    PositionLife,
+    position_life,
     series_reliability,
 )
-from fleetsim.scenario.model import Scenario
+from fleetsim.scenario.model import Bearing, Machine, Position, Scenario
+
+#: Bore choices: keep today's bore, allow any bore, or a bore in mm.
+BoreChoice = str | float
 
 
 @dataclass(frozen=True)
@@ -45,25 +57,33 @@ class PositionChoice:
     current_bearing
         Bearing id today.
     required_reliability
-        Its allocated share of the machine target.
+        Its allocated share of the machine target over the period (None for a
+        position that cannot change).
     required_rating_N
-        Basic dynamic rating needed, N (None when not derivable).
+        Basic dynamic rating needed with the chosen (or today's) bearing's own
+        a_ISO and field factor, N (None when not derivable).
     selected
-        Catalogue designation chosen, or None (kept).
+        Catalogue designation chosen, or None (today's bearing stays).
     selected_rating_N
         Its rating, N.
     note
-        Why a position keeps its bearing, or "".
+        ``"kept: ..."`` when today's bearing stays, or "".
+    reliability_today
+        The position's reliability over its operating hours of the period today.
+    reliability_selected
+        The same with the selected bearing (today's when it stays).
     """
 
     machine: str
     position: str
     current_bearing: str
-    required_reliability: float
+    required_reliability: float | None
     required_rating_N: float | None
     selected: str | None
     selected_rating_N: float | None
     note: str = ""
+    reliability_today: float | None = None
+    reliability_selected: float | None = None
 
 
 @dataclass(frozen=True)
@@ -102,6 +122,68 @@ def machine_reliability(scenario: Scenario, period_h: float) -> dict[str, float]
     }
 
 
+def _bore_of(bearing: Bearing, bore: BoreChoice) -> float | None:
+    """The bore a candidate must have (None: any)."""
+    if bore == "keep":
+        return bearing.bore_mm
+    if bore == "any":
+        return None
+    return float(bore)
+
+
+def _candidates(
+    catalogue: Sequence[CatalogueEntry], bearing: Bearing, bore_mm: float | None
+) -> list[CatalogueEntry]:
+    """Catalogue bearings that may replace ``bearing``: same type and bore, C >= today's."""
+    fits = [
+        b
+        for b in catalogue
+        if b.bearing_type is bearing.bearing_type
+        and b.dynamic_rating_N >= bearing.dynamic_rating_N
+        and (bore_mm is None or (b.bore_mm is not None and math.isclose(b.bore_mm, bore_mm)))
+    ]
+    return sorted(fits, key=lambda b: (b.dynamic_rating_N, b.price if b.price is not None else 0.0))
+
+
+def _life_with(
+    entry: CatalogueEntry, bearing: Bearing, derived: PositionLife
+) -> PositionLife | None:
+    """The position's life with a catalogue bearing in place of today's.
+
+    None when the position credits a_ISO and the catalogue gives no fatigue
+    limit for the bearing (its own a_ISO is unknown).
+    """
+    assert derived.inputs is not None
+    if derived.inputs.lubrication is not None and entry.fatigue_limit_N is None:
+        return None
+    factors = entry.factors if entry.factors is not None else bearing.factors
+    rating = BearingRating(entry.bearing_type, entry.dynamic_rating_N, entry.static_rating_N,
+                           entry.fatigue_limit_N, factors)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", LifeModelWarning)  # about candidates, not the plant
+        return position_life(rating, **derived.inputs.as_kwargs())
+
+
+def _reliability(life: PositionLife, field_factor: float, hours: float) -> float:
+    return float(life.distribution.scaled(field_factor).reliability(hours))
+
+
+def _needed_rating(rating_N: float, life: PositionLife, field_factor: float, hours: float,
+                   share: float, exponent: float) -> float:
+    """C that gives reliability ``share`` at ``hours``: lives scale as C^p at fixed loads."""
+    l10 = (life.modified_life_h or life.rating_life_h) * field_factor
+    needed = hours / float(life.model.life_ratio(share))
+    return rating_N * (needed / l10) ** (1.0 / exponent)
+
+
+def _changeable(pos: Position, scenario: Scenario, catalogue: Sequence[CatalogueEntry],
+                bore: BoreChoice) -> bool:
+    if pos.derived is None or pos.derived.inputs is None:
+        return False
+    bearing = scenario.bearings[pos.bearing_id]
+    return bool(_candidates(catalogue, bearing, _bore_of(bearing, bore)))
+
+
 def plan_retrofit(
     scenario: Scenario,
     document: Mapping[str, Any],
@@ -109,6 +191,8 @@ def plan_retrofit(
     target: float,
     period_h: float,
     machines: Sequence[str] | None = None,
+    *,
+    bore: BoreChoice = "keep",
 ) -> RetrofitPlan:
     """Choose bearings so that each machine meets ``target`` over ``period_h`` calendar hours.
 
@@ -126,11 +210,16 @@ def plan_retrofit(
         Calendar hours.
     machines
         Machine ids to treat (default: all).
+    bore
+        ``"keep"`` (today's bore where the scenario gives it), ``"any"``, or a
+        bore in mm for every changed position.
     """
     if not 0.0 < target < 1.0:
         raise InputError("--reliability", f"expected a target strictly between 0 and 1, got {target}")
     if not period_h > 0:
         raise InputError("--life", f"expected a period > 0, got {period_h} h")
+    if not (bore in ("keep", "any") or (isinstance(bore, (int, float)) and bore > 0)):
+        raise InputError("--bore", f"expected keep, any or a bore in mm > 0, got {bore!r}")
     doc = copy.deepcopy(dict(document))
     bearings_doc = doc.setdefault("bearing", [])
     stores_doc = doc.get("stores", {})
@@ -144,42 +233,118 @@ def plan_retrofit(
     for mi, m in enumerate(scenario.machines):
         if wanted is not None and m.id not in wanted:
             continue
-        t_op = period_h * m.operating_share
-        r_each = allocate_reliability(target, len(m.positions))
-        m_doc = doc["machine"][mi]
-        seen: set[str] = set()
-        for pos in m.positions:
-            base = _base_id(pos.id)
-            if base in seen:
+        for choice, new_bearing in _plan_machine(scenario, m, catalogue, target, period_h, bore):
+            choices.append(choice)
+            if new_bearing is None:
                 continue
-            seen.add(base)
-            bearing = scenario.bearings[pos.bearing_id]
-            derived = pos.derived
-            if derived is None:
-                choices.append(PositionChoice(m.id, base, bearing.id, r_each, None, None, None,
-                                              "life given explicitly: kept"))
-                continue
-            credit = (derived.a_iso or 1.0) * pos.field_factor
-            need = required_dynamic_rating(
-                derived.equivalent_load_N, derived.speed_rpm, t_op, r_each,
-                bearing_type=bearing.bearing_type, model=derived.model, a_iso=credit,
-            )
-            pick = select_bearing(catalogue, need, bearing.bearing_type)
-            if pick is None:
-                choices.append(PositionChoice(
-                    m.id, base, bearing.id, r_each, need, None, None,
-                    f"no {bearing.bearing_type.value} bearing in the catalogue is enough: kept"))
-                continue
-            new_id = _add_bearing(bearings_doc, stores_doc, bearing.id, pick, added)
-            for p_doc in m_doc.get("position", []):
-                if p_doc.get("id") == base:
+            new_id = _add_bearing(bearings_doc, stores_doc, choice.current_bearing, new_bearing,
+                                  added)
+            for p_doc in doc["machine"][mi].get("position", []):
+                if p_doc.get("id") == choice.position:
                     p_doc["bearing"] = new_id
-            choices.append(PositionChoice(m.id, base, bearing.id, r_each, need,
-                                          pick.designation, pick.dynamic_rating_N))
     used = {p.get("bearing") for m_doc in doc.get("machine", []) for p in m_doc.get("position", [])}
     for bid in [b for b in list(stores_doc) if b not in used]:
         del stores_doc[bid]  # no position uses it any more: no stock to hold
     return RetrofitPlan(target, period_h, tuple(choices), doc)
+
+
+def _plan_machine(
+    scenario: Scenario,
+    m: Machine,
+    catalogue: Sequence[CatalogueEntry],
+    target: float,
+    period_h: float,
+    bore: BoreChoice,
+) -> list[tuple[PositionChoice, CatalogueEntry | None]]:
+    """The choice for each distinct position of one machine.
+
+    Positions that cannot change, then those that meet their share today, are
+    kept and their reliability is taken out of the target; the rest share what
+    is left equally, so the machine meets the target when each of them gets a
+    bearing that meets its share.
+    """
+    t_op = period_h * m.operating_share
+    groups: dict[str, list[Position]] = {}
+    for pos in m.positions:
+        groups.setdefault(_base_id(pos.id), []).append(pos)
+    r_now = {b: float(ps[0].life.reliability(t_op)) for b, ps in groups.items()}
+    decided: dict[str, PositionChoice] = {}
+    picks: dict[str, CatalogueEntry] = {}
+    held = 1.0  # reliability of the positions kept so far
+    open_: list[str] = []
+    for base, ps in groups.items():
+        pos = ps[0]
+        bearing = scenario.bearings[pos.bearing_id]
+        kept = PositionChoice(m.id, base, bearing.id, None, None, None, None, "",
+                              r_now[base], r_now[base])
+        if pos.derived is None or pos.derived.inputs is None:
+            decided[base] = replace(kept, note="kept: life given explicitly")
+        elif not _changeable(pos, scenario, catalogue, bore):
+            limit = _bore_of(bearing, bore)
+            where = "" if limit is None else f" of bore {limit:g} mm"
+            decided[base] = replace(kept, note=f"kept: no {bearing.bearing_type.value} bearing"
+                                               f"{where} rated at least today's in the catalogue")
+        else:
+            open_.append(base)
+            continue
+        held *= r_now[base] ** len(ps)
+    share = None
+    while open_ and held >= target:
+        share = (target / held) ** (1.0 / sum(len(groups[b]) for b in open_))
+        meeting = [b for b in open_ if r_now[b] >= share]
+        if not meeting:
+            break
+        for base in meeting:
+            decided[base] = _kept_choice(scenario, m, groups[base][0], base, share, t_op,
+                                         r_now[base], "kept: meets its share today")
+            held *= r_now[base] ** len(groups[base])
+            open_.remove(base)
+    for base in open_:
+        pos = groups[base][0]
+        if share is None or held < target:
+            decided[base] = _kept_choice(
+                scenario, m, pos, base, None, t_op, r_now[base],
+                "kept: the positions that cannot change already miss the target")
+            continue
+        choice, entry = _choose(scenario, m, pos, base, share, t_op, r_now[base], catalogue, bore)
+        decided[base] = choice
+        if entry is not None:
+            picks[base] = entry
+    return [(decided[b], picks.get(b)) for b in groups]
+
+
+def _kept_choice(scenario: Scenario, m: Machine, pos: Position, base: str, share: float | None,
+                 t_op: float, r_now: float, note: str) -> PositionChoice:
+    bearing = scenario.bearings[pos.bearing_id]
+    need = None
+    if share is not None and pos.derived is not None:
+        need = _needed_rating(bearing.dynamic_rating_N, pos.derived, pos.field_factor, t_op,
+                              share, bearing.bearing_type.life_exponent)
+    return PositionChoice(m.id, base, bearing.id, share, need, None, None, note, r_now, r_now)
+
+
+def _choose(scenario: Scenario, m: Machine, pos: Position, base: str, share: float,
+            t_op: float, r_now: float, catalogue: Sequence[CatalogueEntry],
+            bore: BoreChoice) -> tuple[PositionChoice, CatalogueEntry | None]:
+    """The smallest candidate whose own life gives the position its share."""
+    bearing = scenario.bearings[pos.bearing_id]
+    derived = pos.derived
+    assert derived is not None
+    for entry in _candidates(catalogue, bearing, _bore_of(bearing, bore)):
+        life = _life_with(entry, bearing, derived)
+        if life is None:
+            continue
+        r_new = _reliability(life, pos.field_factor, t_op)
+        if r_new >= share:
+            need = _needed_rating(entry.dynamic_rating_N, life, pos.field_factor, t_op, share,
+                                  bearing.bearing_type.life_exponent)
+            return PositionChoice(m.id, base, bearing.id, share, need, entry.designation,
+                                  entry.dynamic_rating_N, "", r_now, r_new), entry
+    limit = _bore_of(bearing, bore)
+    where = "" if limit is None else f" of bore {limit:g} mm"
+    note = (f"kept: no {bearing.bearing_type.value} bearing{where} in the catalogue meets its "
+            "share")
+    return _kept_choice(scenario, m, pos, base, share, t_op, r_now, note), None
 
 
 def _add_bearing(bearings_doc: list[dict[str, Any]], stores_doc: dict[str, Any], old_id: str,
@@ -203,6 +368,13 @@ def _add_bearing(bearings_doc: list[dict[str, Any]], stores_doc: dict[str, Any],
         entry["fatigue_limit"] = old["fatigue_limit"]
     if pick.factors is not None:
         entry.update(e=pick.factors.e, X=pick.factors.X, Y=pick.factors.Y)
+    elif all(k in old for k in ("e", "X", "Y")):
+        entry.update({k: old[k] for k in ("e", "X", "Y", "X1", "Y1", "X0", "Y0",
+                                          "induced_thrust_factor") if k in old})
+    if pick.bore_mm is not None:
+        entry["bore_mm"] = pick.bore_mm
+    elif "bore_mm" in old:
+        entry["bore_mm"] = old["bore_mm"]
     if pick.price is not None:
         entry["price"] = pick.price
     elif "price" in old:
