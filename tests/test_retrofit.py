@@ -164,8 +164,51 @@ def test_size_scenario_json(capsys, tmp_path) -> None:
     (["--catalog", CATALOGUE, "--load", "4 kN"], "--load"),
     (["--catalog", CATALOGUE, "--machine", "nope"], "--machine"),
     (["--catalog", CATALOGUE, "--bore", "wide"], "--bore"),
+    (["--catalog", CATALOGUE, "--allocation", "random"], "--allocation"),
 ])
 def test_size_scenario_bad_input(extra, option, capsys) -> None:
     code = main(["size", "--scenario", PUMPS, "--reliability", "0.9", "--life", "5 years", *extra])
     err = capsys.readouterr().err
     assert code == 2 and option in err and err.count("\n") == 1
+
+
+def _price(plan, scenario) -> float:
+    catalogue = {c.designation: c for c in read_catalogue(CATALOGUE)}
+    total = 0.0
+    for c in plan.choices:
+        if c.selected is not None:
+            m = scenario.machine(c.machine)
+            copies = sum(p.id.split("#")[0] == c.position for p in m.positions)
+            total += catalogue[c.selected].price * copies
+    return total
+
+
+@pytest.mark.parametrize("machine, target, bore", [
+    ("north-pump-1", 0.9, "keep"), ("river-pump-1", 0.95, "any")])
+def test_cost_allocation_meets_the_target_for_no_more_than_equal_shares(machine, target,
+                                                                         bore) -> None:
+    # The cheapest feasible combination costs no more than any other feasible one, in
+    # particular the equal-share plan, and it still meets the target.
+    document, _ = read_document(PUMPS)
+    scenario, equal = _plan(document, target=target, machines=[machine], bore=bore)
+    _, cheap = _plan(document, target=target, machines=[machine], allocation="cost", bore=bore)
+    assert machine_reliability(_build(equal.document), YEARS_5)[machine] >= target
+    assert machine_reliability(_build(cheap.document), YEARS_5)[machine] >= target
+    assert _price(cheap, scenario) <= _price(equal, scenario)
+    catalogue = {c.designation: c for c in read_catalogue(CATALOGUE)}
+    for c in cheap.choices:
+        if c.selected is not None:
+            today = scenario.bearings[c.current_bearing]
+            assert catalogue[c.selected].dynamic_rating_N >= today.dynamic_rating_N
+            if bore == "keep":
+                assert catalogue[c.selected].bore_mm == today.bore_mm
+
+
+def test_cost_allocation_finds_a_plan_where_equal_shares_cannot() -> None:
+    # At 0.92 with today's bores a motor bearing cannot reach an equal share, so the
+    # equal plan misses; the cheapest combination lets the others carry more.
+    document, _ = read_document(PUMPS)
+    _, equal = _plan(document, target=0.92, machines=["north-pump-1"])
+    _, cheap = _plan(document, target=0.92, machines=["north-pump-1"], allocation="cost")
+    assert machine_reliability(_build(equal.document), YEARS_5)["north-pump-1"] < 0.92
+    assert machine_reliability(_build(cheap.document), YEARS_5)["north-pump-1"] >= 0.92

@@ -307,6 +307,10 @@ def _catalogue_factors(
               help="Size every position of this scenario for a machine-level target, then "
                    "simulate today's bearings and the new selection side by side.")
 @click.option("--machine", "machines", multiple=True, help="With --scenario: only these machines.")
+@click.option("--allocation", type=click.Choice(["equal", "cost"]), default="equal",
+              show_default=True,
+              help="With --scenario: share the target equally among the positions that can "
+                   "change, or take the cheapest combination of bearings that meets it.")
 @click.option("--replications", "-n", type=int, default=None,
               help="With --scenario: replications (default: the scenario's).")
 @click.option("--out", type=click.Path(file_okay=False), default=None,
@@ -325,6 +329,7 @@ def size(
     bore: str | None,
     scenario: str | None,
     machines: tuple[str, ...],
+    allocation: str,
     replications: int | None,
     out: str | None,
     quiet: bool,
@@ -335,6 +340,8 @@ def size(
     With --scenario, size every position of a fleet for a machine-level
     target and simulate today's bearings against the new selection.
     """
+    if scenario is None and allocation != "equal":
+        raise InputError("--allocation", "used only with --scenario")
     if scenario is not None:
         from fleetsim.cli.retrofit import size_scenario
 
@@ -346,7 +353,7 @@ def size(
         bore_choice = _bore_choice(bore, scenario=True)
         assert bore_choice is not None
         size_scenario(scenario, catalog, life_, reliability, machines, replications, out, quiet,
-                      as_json, bore_choice)
+                      as_json, bore_choice, allocation)
         return
     for opt, value in (("--type", bearing_type), ("--load", load), ("--speed", speed)):
         if value is None:

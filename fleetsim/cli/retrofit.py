@@ -15,7 +15,8 @@ from fleetsim.errors import InputError
 
 def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
                   machines: tuple[str, ...], replications: int | None, out: str | None,
-                  quiet: bool, as_json: bool, bore: str | float = "keep") -> None:
+                  quiet: bool, as_json: bool, bore: str | float = "keep",
+                  allocation: str = "equal") -> None:
     """Plan the retrofit, simulate both selections, print and write the report."""
     from fleetsim.life import read_catalogue
     from fleetsim.report import summary_table, write_report
@@ -37,7 +38,7 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
     today = build_scenario({k: v for k, v in document.items() if k != "variant"},
                            source=scenario_path, digest=digest)
     plan = plan_retrofit(today, document, entries, target, period_h, list(machines) or None,
-                         bore=bore)
+                         bore=bore, allocation=allocation)
     doc = {k: v for k, v in plan.document.items() if k != "variant"}
     new = build_scenario(doc, source=f"{scenario_path} [new selection]", digest=digest)
     rel_now = machine_reliability(today, period_h)
@@ -79,9 +80,10 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
         }
         echo_json(obj)
         return
+    how = ("the target shared equally by the positions that can change"
+           if allocation == "equal" else "the cheapest combination of bearings that meets it")
     click.echo(f"Target: each machine {target:.4g} reliable over {years:.3g} years "
-               f"(positions in series; the target shared equally by the positions that can "
-               f"change)\n")
+               f"(positions in series; {how})\n")
     w = max(len(f"{r['machine']}/{r['position']}") for r in rows)
     click.echo(f"{'position':<{w}}  {'today':<10} {'needs C':>9}  {'selected':<10} note")
     for c in plan.choices:

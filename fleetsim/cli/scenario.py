@@ -109,6 +109,8 @@ def position_row(
         "a_iso": None if d is None else d.a_iso,
         "modified_life_h": None if d is None else d.modified_life_h,
         "static_safety": None if d is None else d.static_safety,
+        "static_equivalent_load_N": None if d is None else d.static_equivalent_load_N,
+        "arrangement": None if d is None else d.arrangement.value,
         "field_factor": pos.field_factor,
         "life": pos.life.as_dict(),
         "life_mean_h": pos.life.mean_h,

@@ -21,11 +21,16 @@ the scenario document as new ``[[bearing]]`` entries (prices and bores from
 the catalogue, lead times and stock policy copied from the bearing they
 replace), so the current and the new selection can be simulated side by side
 on common random numbers.
+
+Instead of equal shares, ``allocation="cost"`` looks at every combination of
+today's bearing and the candidates at the positions that can change and takes
+the one with the lowest purchase price that meets the target.
 """
 
 from __future__ import annotations
 
 import copy
+import itertools
 import math
 import warnings
 from collections.abc import Mapping, Sequence
@@ -45,6 +50,12 @@ from fleetsim.scenario.model import Bearing, Machine, Position, Scenario
 #: Bore choices: keep today's bore, allow any bore, or a bore in mm.
 BoreChoice = str | float
 
+#: How the target is shared among the positions that can change.
+ALLOCATIONS = ("equal", "cost")
+
+#: Most combinations the cost allocation enumerates for one machine.
+MAX_COMBINATIONS = 200_000
+
 
 @dataclass(frozen=True)
 class PositionChoice:
@@ -58,10 +69,12 @@ class PositionChoice:
         Bearing id today.
     required_reliability
         Its allocated share of the machine target over the period (None for a
-        position that cannot change).
+        position that cannot change); with the cost allocation, the
+        reliability its choice gives.
     required_rating_N
         Basic dynamic rating needed with the chosen (or today's) bearing's own
-        a_ISO and field factor, N (None when not derivable).
+        a_ISO and field factor, N (None when not derivable, and with the cost
+        allocation).
     selected
         Catalogue designation chosen, or None (today's bearing stays).
     selected_rating_N
@@ -193,6 +206,7 @@ def plan_retrofit(
     machines: Sequence[str] | None = None,
     *,
     bore: BoreChoice = "keep",
+    allocation: str = "equal",
 ) -> RetrofitPlan:
     """Choose bearings so that each machine meets ``target`` over ``period_h`` calendar hours.
 
@@ -213,6 +227,12 @@ def plan_retrofit(
     bore
         ``"keep"`` (today's bore where the scenario gives it), ``"any"``, or a
         bore in mm for every changed position.
+    allocation
+        ``"equal"`` (shares as in the module docstring) or ``"cost"``: of all
+        combinations of today's bearing and the candidates at the positions
+        that can change, the one with the lowest purchase price (catalogue
+        price × number of positions) that meets the target; candidates without
+        a price are left out.
     """
     if not 0.0 < target < 1.0:
         raise InputError("--reliability", f"expected a target strictly between 0 and 1, got {target}")
@@ -220,6 +240,10 @@ def plan_retrofit(
         raise InputError("--life", f"expected a period > 0, got {period_h} h")
     if not (bore in ("keep", "any") or (isinstance(bore, (int, float)) and bore > 0)):
         raise InputError("--bore", f"expected keep, any or a bore in mm > 0, got {bore!r}")
+    if allocation not in ALLOCATIONS:
+        raise InputError("--allocation", f"expected one of {', '.join(ALLOCATIONS)}, "
+                                         f"got {allocation!r}")
+    plan_machine = _plan_machine if allocation == "equal" else _plan_machine_by_cost
     doc = copy.deepcopy(dict(document))
     bearings_doc = doc.setdefault("bearing", [])
     stores_doc = doc.get("stores", {})
@@ -233,7 +257,7 @@ def plan_retrofit(
     for mi, m in enumerate(scenario.machines):
         if wanted is not None and m.id not in wanted:
             continue
-        for choice, new_bearing in _plan_machine(scenario, m, catalogue, target, period_h, bore):
+        for choice, new_bearing in plan_machine(scenario, m, catalogue, target, period_h, bore):
             choices.append(choice)
             if new_bearing is None:
                 continue
@@ -310,6 +334,80 @@ def _plan_machine(
         decided[base] = choice
         if entry is not None:
             picks[base] = entry
+    return [(decided[b], picks.get(b)) for b in groups]
+
+
+def _plan_machine_by_cost(
+    scenario: Scenario,
+    m: Machine,
+    catalogue: Sequence[CatalogueEntry],
+    target: float,
+    period_h: float,
+    bore: BoreChoice,
+) -> list[tuple[PositionChoice, CatalogueEntry | None]]:
+    """The cheapest combination of bearings that meets the target (see :func:`plan_retrofit`)."""
+    t_op = period_h * m.operating_share
+    groups: dict[str, list[Position]] = {}
+    for pos in m.positions:
+        groups.setdefault(_base_id(pos.id), []).append(pos)
+    r_now = {b: float(ps[0].life.reliability(t_op)) for b, ps in groups.items()}
+    decided: dict[str, PositionChoice] = {}
+    held = 1.0
+    # options per position: (entry or None for today's, reliability, price of all copies)
+    options: dict[str, list[tuple[CatalogueEntry | None, float, float]]] = {}
+    for base, ps in groups.items():
+        pos = ps[0]
+        bearing = scenario.bearings[pos.bearing_id]
+        kept = PositionChoice(m.id, base, bearing.id, None, None, None, None, "",
+                              r_now[base], r_now[base])
+        if pos.derived is None or pos.derived.inputs is None:
+            decided[base] = replace(kept, note="kept: life given explicitly")
+            held *= r_now[base] ** len(ps)
+            continue
+        opts: list[tuple[CatalogueEntry | None, float, float]] = [(None, r_now[base], 0.0)]
+        for entry in _candidates(catalogue, bearing, _bore_of(bearing, bore)):
+            life = _life_with(entry, bearing, pos.derived)
+            if life is None or entry.price is None:
+                continue
+            opts.append((entry, _reliability(life, pos.field_factor, t_op),
+                         entry.price * len(ps)))
+        if len(opts) == 1:
+            decided[base] = replace(kept, note="kept: no priced candidate in the catalogue")
+            held *= r_now[base] ** len(ps)
+        else:
+            options[base] = opts
+    bases = list(options)
+    count = math.prod(len(options[b]) for b in bases)
+    if count > MAX_COMBINATIONS:
+        raise InputError("--allocation", f"machine {m.id!r} has {count} combinations of "
+                                         f"candidates (at most {MAX_COMBINATIONS}); use equal")
+    best: tuple[float, float, tuple[int, ...]] | None = None
+    for combo in itertools.product(*(range(len(options[b])) for b in bases)):
+        r = held * math.prod(options[b][i][1] ** len(groups[b]) for b, i in zip(bases, combo,
+                                                                                 strict=True))
+        if r < target:
+            continue
+        cost = sum(options[b][i][2] for b, i in zip(bases, combo, strict=True))
+        if best is None or (cost, -r) < (best[0], -best[1]):
+            best = (cost, r, combo)
+    picks: dict[str, CatalogueEntry] = {}
+    for k, base in enumerate(bases):
+        bearing = scenario.bearings[groups[base][0].bearing_id]
+        if best is None:
+            note = "kept: no combination of catalogue bearings meets the target"
+            decided[base] = PositionChoice(m.id, base, bearing.id, None, None, None, None, note,
+                                           r_now[base], r_now[base])
+            continue
+        pick, r_opt, _ = options[base][best[2][k]]
+        if pick is None:
+            decided[base] = PositionChoice(m.id, base, bearing.id, r_opt, None, None, None,
+                                           "kept: the cheapest combination keeps it",
+                                           r_now[base], r_now[base])
+        else:
+            decided[base] = PositionChoice(m.id, base, bearing.id, r_opt, None,
+                                           pick.designation, pick.dynamic_rating_N, "",
+                                           r_now[base], r_opt)
+            picks[base] = pick
     return [(decided[b], picks.get(b)) for b in groups]
 
 
