@@ -40,9 +40,14 @@ def test_fit_json_grouped_with_catalogue(capsys: pytest.CaptureFixture[str]) -> 
             assert b["lower"] < b["estimate"] < b["upper"]
         assert set(best["parameters"]) >= {"shape", "scale_h"}
         assert set(g["life_distribution"]) == {"shape", "scale_h", "location_h"}
+        rec = next(c for c in g["candidates"] if c["model"] == g["recommended"])
+        assert sum(c["recommended"] for c in g["candidates"]) == 1 and rec["recommended"]
+        weights = g["akaike_weights"]
+        assert set(weights) == {c["model"] for c in g["candidates"]}
+        assert math.isclose(sum(weights.values()), 1.0, rel_tol=1e-12)
         cat = g["catalogue"]
         assert cat["catalog_l10_h"] == 34650.0
-        assert math.isclose(cat["field_factor"], best["B10_h"]["estimate"] / 34650.0, rel_tol=1e-12)
+        assert math.isclose(cat["field_factor"], rec["B10_h"]["estimate"] / 34650.0, rel_tol=1e-12)
         assert "catalogue life" in cat["verdict"]
     de = groups["motor-de"]
     assert de["records"]["found_at_inspection"] > 0
@@ -52,7 +57,7 @@ def test_fit_json_grouped_with_catalogue(capsys: pytest.CaptureFixture[str]) -> 
 def test_fit_default_table(capsys: pytest.CaptureFixture[str]) -> None:
     code, out, _ = run(["fit", DEMO, "--catalog-l10", "34650 h"], capsys)
     assert code == 0
-    for words in ("rank", "AICc", "(best)", "Weibull 2P", "Weibull 3P", "lognormal 2P",
+    for words in ("rank", "AICc", "(recommended)", "weight", "Rule:", "Weibull 2P", "Weibull 3P", "lognormal 2P",
                   "shape β", "scale η", "B1", "B10", "Field factor", "catalogue life",
                   "qualified, licensed engineer"):  # fmt: skip
         assert words in out, words

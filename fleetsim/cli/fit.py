@@ -48,7 +48,7 @@ def _bounds(lo: float, hi: float, hours: bool) -> str:
     return f"[{fmt(lo)} – {fmt(hi)}]"
 
 
-def _candidate_block(c: CandidateFit, best: bool) -> str:
+def _candidate_block(c: CandidateFit, recommended: bool) -> str:
     labels = _PARAM_LABELS[c.distribution.family]
     rows = []
     for p in c.parameters:
@@ -60,7 +60,7 @@ def _candidate_block(c: CandidateFit, best: bool) -> str:
         rows.append((b.name, f"{_hours(b.estimate):>12}  {_bounds(b.lower, b.upper, True)}"))
     for note in c.notes:
         rows.append(("note", note))
-    title = f"{c.label}{' (best)' if best else ''} — {c.method}"
+    title = f"{c.label}{' (recommended)' if recommended else ''} — {c.method}"
     return table([(f"  {k}", v) for k, v in rows], title=title)
 
 
@@ -90,29 +90,49 @@ def _text(name: str | None, result: FitResult, comparison: Any) -> str:
             (
                 "Life model",
                 f"{bw.label}: shape {fmt(d.shape)}, scale {_hours(d.scale_h)}, "
-                f"location {_hours(d.location_h)} (best Weibull candidate)",
+                f"location {_hours(d.location_h)} (recommended Weibull)",
+            )
+        )
+    choice = result.choice
+    assert choice is not None
+    rows.append(("Recommended", result.recommended.label))
+    if choice.location is not None:
+        t = choice.location
+        rows.append(
+            (
+                "Location test",
+                f"D = {fmt(t.statistic, '.2f')}, p = {fmt(t.p_value, '.2g')} "
+                f"(½χ²₀ + ½χ²₁, level {fmt(t.level, '.3g')}): "
+                + ("rejects location 0" if t.rejects else "location 0 not rejected"),
             )
         )
     head = table(rows)
     deltas = [float(d) for d in result.summary[f"delta_{crit}"]]
-    lines = [f"{'rank':<6}{'model':<14}{'AICc':>11}{'BIC':>11}{'Δ' + crit:>10}  ln L"]
+    lines = [
+        f"{'rank':<6}{'model':<14}{'AICc':>11}{'BIC':>11}{'Δ' + crit:>10}{'weight':>8}  "
+        "ln L      why"
+    ]
     for i, (c, delta) in enumerate(zip(result.candidates, deltas, strict=True), start=1):
-        mark = "*" if i == 1 else (" " if c.identifiable else "!")
+        mark = "*" if c.model == choice.recommended else (" " if c.identifiable else "!")
         lines.append(
             f"{str(i) + ' ' + mark:<6}{c.label:<14}{fmt(c.aicc, '.1f'):>11}{fmt(c.bic, '.1f'):>11}"
-            f"{fmt(delta, '.2f'):>10}  {fmt(c.log_likelihood, '.2f')}"
+            f"{fmt(delta, '.2f'):>10}{fmt(choice.akaike_weights[c.model], '.2f'):>8}  "
+            f"{fmt(c.log_likelihood, '.2f'):<9} {choice.reasons.get(c.model, '')}"
         )
     for model, reason in result.not_fitted:
         lines.append(f"{'-':<6}{model:<14}  not fitted: {reason}")
-    lines.append("(* best; ! not identifiable, never chosen)")
+    lines.append("(* recommended; ! not identifiable; weight = Akaike weight from AICc)")
+    lines.append(f"Rule: {choice.rule}.")
     blocks = [head, "\n".join(lines)]
-    blocks += [_candidate_block(c, i == 0) for i, c in enumerate(result.candidates)]
+    blocks += [
+        _candidate_block(c, c.model == choice.recommended) for c in result.candidates
+    ]
     if comparison is not None:
         blocks.append(
             table(
                 [
                     ("Catalogue L10", _hours(comparison.catalog_l10_h)),
-                    ("Field B10", f"{_hours(comparison.field_b10.estimate)} ({result.best.label})"),
+                    ("Field B10", f"{_hours(comparison.field_b10.estimate)} ({result.recommended.label})"),
                     (
                         "Field factor",
                         f"{fmt(comparison.factor, '.3g')} "
@@ -136,6 +156,8 @@ def _json(name: str | None, result: FitResult, comparison: Any) -> dict[str, Any
     s = result.sample
     crit = result.rank_by
     deltas = [float(d) for d in result.summary[f"delta_{crit}"]]
+    choice = result.choice
+    assert choice is not None
     cands = []
     for i, (c, delta) in enumerate(zip(result.candidates, deltas, strict=True), start=1):
         cands.append(
@@ -144,6 +166,9 @@ def _json(name: str | None, result: FitResult, comparison: Any) -> dict[str, Any
                 "model": c.model,
                 "label": c.label,
                 "best": i == 1,
+                "recommended": c.model == choice.recommended,
+                "akaike_weight": choice.akaike_weights[c.model],
+                "why": choice.reasons.get(c.model, ""),
                 "identifiable": c.identifiable,
                 "log_likelihood": c.log_likelihood,
                 "AICc": c.aicc,
@@ -167,6 +192,11 @@ def _json(name: str | None, result: FitResult, comparison: Any) -> dict[str, Any
             "suspensions": s.n_suspensions,
         },
         "best": result.best.model,
+        "recommended": choice.recommended,
+        "recommended_weibull": choice.recommended_weibull,
+        "akaike_weights": dict(choice.akaike_weights),
+        "choice_rule": choice.rule,
+        "location_test": choice.location.as_dict() if choice.location is not None else None,
         "best_weibull": bw.model if bw else None,
         "life_distribution": bw.distribution.to_life_distribution().as_dict() if bw else None,
         "candidates": cands,
@@ -246,7 +276,10 @@ def fit(
     RECORDS.csv has one row per bearing life with columns hours, outcome
     (failed, removed-while-good, still-running), optional position, bearing,
     machine, note, and hours_from/hours_to for failures found at an
-    inspection. Candidates are ranked by AICc; bounds are two-sided.
+    inspection. Candidates are ranked by AICc; the recommended model is the
+    simplest the records support (a richer one needs ΔAICc > 2; a Weibull
+    location needs a boundary-corrected likelihood-ratio test). Bounds are
+    two-sided.
     """
     l10_h = positive(quantity(catalog_l10, "time", "--catalog-l10"), "--catalog-l10", "life")
     if plot_path:

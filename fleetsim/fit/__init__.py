@@ -2,7 +2,8 @@
 
 Read a plant's bearing records (:func:`read_records`), fit two- and
 three-parameter Weibull and lognormal lives with right and interval
-censoring (:func:`fit_records`), rank them by AICc or BIC, and compare the
+censoring (:func:`fit_records`), rank them by AICc or BIC, recommend the simplest model the records
+support (:mod:`fleetsim.fit.choice`), and compare the
 field B10 with the catalogue L10 (:func:`compare_with_catalogue`). The
 ``reliability`` package is used only through :mod:`fleetsim.fit.adapter`.
 Knows nothing of simulation; never prints or plots as a side effect
@@ -11,6 +12,7 @@ Knows nothing of simulation; never prints or plots as a side effect
 
 from fleetsim.fit.candidates import B_LIVES, MODELS, CandidateFit, Estimate, FittedDistribution
 from fleetsim.fit.catalogue import CatalogueComparison, compare_with_catalogue
+from fleetsim.fit.choice import LocationTest, ModelChoice, choose_model
 from fleetsim.fit.errors import FitError, FitWarning
 from fleetsim.fit.fitting import FitResult, fit_records
 from fleetsim.fit.location import LocationProfile, profile_location
@@ -31,6 +33,9 @@ __all__ = [
     "FitResult",
     "FitWarning",
     "FittedDistribution",
+    "LocationTest",
+    "ModelChoice",
+    "choose_model",
     "LocationProfile",
     "compare_with_catalogue",
     "fit_records",

@@ -105,7 +105,7 @@ def compare_with_catalogue(
     fit: FitResult | CandidateFit, catalog_l10_h: float,
     catalog_model: str | WeibullShape = "iso281",
 ) -> CatalogueComparison:
-    """Field factor of a fit (its best candidate) against the catalogue L10 in hours.
+    """Field factor of a fit (its recommended candidate) against the catalogue L10 in hours.
 
     ``catalog_model`` (a life-model preset) gives the catalogue characteristic life.
 
@@ -120,7 +120,7 @@ def compare_with_catalogue(
         and math.isfinite(catalog_l10_h)
     ):
         raise InputError("catalogue L10", f"expected hours > 0, got {catalog_l10_h!r}")
-    cand = fit.best if isinstance(fit, FitResult) else fit
+    cand = fit.recommended if isinstance(fit, FitResult) else fit
     b10 = cand.b_life(10.0)
     k = b10.estimate / catalog_l10_h
     lo, hi = b10.lower / catalog_l10_h, b10.upper / catalog_l10_h

@@ -10,8 +10,10 @@ does not support) fleetsim maximises the full likelihood itself
 
 Candidates are ranked by AICc (or BIC): smaller is better (Burnham &
 Anderson, *Model Selection and Multimodel Inference*). A candidate whose
-location is not identifiable is ranked after the others and is never the
-best.
+location is not identifiable is ranked after the others. The *recommended*
+model is not simply the lowest: :mod:`fleetsim.fit.choice` prefers the
+simplest model the records support (ΔAICc > 2 needed for a richer one, and a
+boundary-corrected likelihood-ratio test for a Weibull location).
 """
 
 from __future__ import annotations
@@ -25,6 +27,7 @@ import pandas as pd
 from fleetsim.errors import InputError
 from fleetsim.fit import adapter
 from fleetsim.fit.candidates import B_LIVES, MODELS, CandidateFit, candidate_from_mle
+from fleetsim.fit.choice import ModelChoice, choose_model
 from fleetsim.fit.errors import FitError, FitWarning
 from fleetsim.fit.likelihood import MLEFit, fit_lognormal, fit_weibull, require_failures
 from fleetsim.fit.location import LocationProfile, fit_weibull_3p
@@ -51,12 +54,16 @@ class FitResult:
         ``(model, reason)`` for each candidate that could not be fitted.
     summary
         One row per candidate, best first: rank, model, best, identifiable,
-        log_likelihood, AICc, BIC, delta (to the best), shape, scale_h,
+        log_likelihood, AICc, BIC, delta (to the best), akaike_weight,
+        recommended, shape, scale_h,
         location_h, B1_h, B10_h, each estimate with ``_lower``/``_upper``
         bounds, method and notes. For the lognormal, shape is σ (of ln
         hours) and scale_h the median e^μ.
     location_profile
         The Weibull location profile, when the 3P model was fitted.
+    choice
+        The recommended model, the Akaike weights and the location test
+        (:mod:`fleetsim.fit.choice`).
     """
 
     sample: CensoredSample
@@ -66,19 +73,28 @@ class FitResult:
     not_fitted: tuple[tuple[str, str], ...]
     summary: pd.DataFrame
     location_profile: LocationProfile | None = None
+    choice: ModelChoice | None = None
 
     @property
     def best(self) -> CandidateFit:
-        """The best-ranked candidate (identifiable candidates rank before the others)."""
+        """The lowest-ranked candidate (identifiable candidates rank before the others).
+
+        This is the ranking, not the advice: use :attr:`recommended`.
+        """
         return self.candidates[0]
 
     @property
+    def recommended(self) -> CandidateFit:
+        """The recommended candidate: the simplest the records support."""
+        assert self.choice is not None
+        return self.candidate(self.choice.recommended)
+
+    @property
     def best_weibull(self) -> CandidateFit | None:
-        """The best-ranked identifiable Weibull candidate (for fleetsim's life model)."""
-        for c in self.candidates:
-            if c.distribution.family == "weibull" and c.identifiable:
-                return c
-        return None
+        """The recommended Weibull candidate (for fleetsim's life model), or None."""
+        assert self.choice is not None
+        model = self.choice.recommended_weibull
+        return self.candidate(model) if model is not None else None
 
     def candidate(self, model: str) -> CandidateFit:
         """The fitted candidate ``model`` (``weibull_2p``, ``weibull_3p``, ``lognormal_2p``)."""
@@ -198,18 +214,20 @@ def fit_records(
         reasons = "; ".join(f"{MODELS[m]}: {r}" for m, r in failed)
         raise FitError(f"{sample.label}", f"no model could be fitted ({reasons})")
     fitted.sort(key=lambda c: (not c.identifiable, _criterion(c, rank_by), c.n_params))
+    choice = choose_model(fitted, rank_by, confidence)
     return FitResult(
         sample=sample,
         confidence=confidence,
         rank_by=rank_by,
         candidates=tuple(fitted),
         not_fitted=tuple(failed),
-        summary=_summary(fitted, rank_by),
+        summary=_summary(fitted, rank_by, choice),
         location_profile=profile,
+        choice=choice,
     )
 
 
-def _summary(ranked: list[CandidateFit], rank_by: str) -> pd.DataFrame:
+def _summary(ranked: list[CandidateFit], rank_by: str, choice: ModelChoice) -> pd.DataFrame:
     best = _criterion(ranked[0], rank_by)
     rows = []
     for i, c in enumerate(ranked, start=1):
@@ -222,6 +240,8 @@ def _summary(ranked: list[CandidateFit], rank_by: str) -> pd.DataFrame:
             "AICc": c.aicc,
             "BIC": c.bic,
             f"delta_{rank_by}": _criterion(c, rank_by) - best,
+            "akaike_weight": choice.akaike_weights[c.model],
+            "recommended": c.model == choice.recommended,
         }
         for name in ("shape", "scale_h", "location_h"):
             try:
