@@ -18,15 +18,25 @@ from fleetsim.errors import InputError
 from fleetsim.fit import (
     B_LIVES,
     CandidateFit,
+    CatalogueComparison,
     CensoredSample,
+    FieldFactorFit,
     FitError,
     FitResult,
     FitWarning,
+    GroupCalibration,
+    calibrate,
     compare_with_catalogue,
+    field_factor_snippet,
+    fit_field_factor,
     fit_records,
     probability_plot,
     read_records,
+    scaled_sample,
 )
+from fleetsim.fit.catalogue import verdict
+from fleetsim.life import life_shape
+from fleetsim.scenario import load_scenario
 
 _PARAM_LABELS = {
     "weibull": {"shape": "shape β", "scale_h": "scale η", "location_h": "location γ"},
@@ -72,7 +82,61 @@ def _records_line(s: CensoredSample) -> str:
     )
 
 
-def _text(name: str | None, result: FitResult, comparison: Any) -> str:
+def _factor_block(
+    result: FitResult,
+    comparison: CatalogueComparison,
+    factor: FieldFactorFit | None,
+    calibration: GroupCalibration | None,
+) -> str:
+    if calibration is not None:
+        cat = calibration.catalogue
+        kind = "basic rating life" if cat.a_iso is None else f"a_ISO·L10, a_ISO {fmt(cat.a_iso, '.3g')}"
+        n = len(cat.positions)
+        where = ", ".join(cat.positions[:2]) + (f", … ({n} positions)" if n > 2 else "")
+        l10 = f"{_hours(comparison.catalog_l10_h)} ({kind}; from the scenario: {where})"
+    else:
+        l10 = f"{_hours(comparison.catalog_l10_h)} (given)"
+    rows = [("Catalogue L10", l10)]
+    if factor is not None:
+        rows.append(
+            (
+                "Field factor",
+                f"{fmt(factor.estimate, '.3g')} {_bounds(factor.lower, factor.upper, False)}  "
+                f"(shape {fmt(factor.model.shape, '.4g')} of the {factor.model.name} model held; "
+                "use as field_factor)",
+            )
+        )
+        rows += [("note", n) for n in factor.notes]
+    rows += [
+        (
+            "Free fit B10 / L10",
+            f"{fmt(comparison.factor, '.3g')} "
+            f"{_bounds(comparison.factor_lower, comparison.factor_upper, False)}  "
+            f"(B10 {_hours(comparison.field_b10.estimate)} of the {result.recommended.label})",
+        ),
+        (
+            "Characteristic life",
+            f"{fmt(comparison.characteristic_factor, '.3g')} "
+            f"{_bounds(comparison.characteristic_factor_lower, comparison.characteristic_factor_upper, False)}"
+            f"  (field B63.2 / catalogue {_hours(comparison.catalog_characteristic_h)})",
+        ),
+    ]
+    if factor is not None:
+        rows.append(
+            ("Verdict", verdict(factor.estimate, factor.lower, factor.upper, factor.confidence))
+        )
+    else:
+        rows.append(("Verdict", comparison.verdict))
+    return table(rows)
+
+
+def _text(
+    name: str | None,
+    result: FitResult,
+    comparison: Any,
+    factor: FieldFactorFit | None = None,
+    calibration: GroupCalibration | None = None,
+) -> str:
     s = result.sample
     crit = result.rank_by
     rows = [
@@ -128,31 +192,17 @@ def _text(name: str | None, result: FitResult, comparison: Any) -> str:
         _candidate_block(c, c.model == choice.recommended) for c in result.candidates
     ]
     if comparison is not None:
-        blocks.append(
-            table(
-                [
-                    ("Catalogue L10", _hours(comparison.catalog_l10_h)),
-                    ("Field B10", f"{_hours(comparison.field_b10.estimate)} ({result.recommended.label})"),
-                    (
-                        "Field factor",
-                        f"{fmt(comparison.factor, '.3g')} "
-                        f"{_bounds(comparison.factor_lower, comparison.factor_upper, False)}"
-                        "  (B10 / L10; use as field_factor in a scenario)",
-                    ),
-                    (
-                        "Characteristic life",
-                        f"{fmt(comparison.characteristic_factor, '.3g')} "
-                        f"{_bounds(comparison.characteristic_factor_lower, comparison.characteristic_factor_upper, False)}"
-                        f"  (field B63.2 / catalogue {_hours(comparison.catalog_characteristic_h)})",
-                    ),
-                    ("Verdict", comparison.verdict),
-                ]
-            )
-        )
+        blocks.append(_factor_block(result, comparison, factor, calibration))
     return "\n\n".join(blocks)
 
 
-def _json(name: str | None, result: FitResult, comparison: Any) -> dict[str, Any]:
+def _json(
+    name: str | None,
+    result: FitResult,
+    comparison: Any,
+    factor: FieldFactorFit | None = None,
+    calibration: GroupCalibration | None = None,
+) -> dict[str, Any]:
     s = result.sample
     crit = result.rank_by
     deltas = [float(d) for d in result.summary[f"delta_{crit}"]]
@@ -212,15 +262,44 @@ def _json(name: str | None, result: FitResult, comparison: Any) -> dict[str, Any
             "reason": prof.reason,
         },
         "catalogue": comparison.as_dict() if comparison is not None else None,
+        "field_factor": factor.as_dict() if factor is not None else None,
+        "scenario_positions": list(calibration.catalogue.positions) if calibration else None,
+        "a_iso": calibration.catalogue.a_iso if calibration else None,
     }
 
 
-def _plot_folder(path: str) -> Path:
-    """The folder the plot goes to; InputError when it does not exist."""
+def _plot_folder(path: str, option: str = "--plot") -> Path:
+    """The folder an output file goes to; InputError when it does not exist."""
     parent = Path(path).parent
     if not parent.is_dir():
-        raise InputError("--plot", f"the folder {str(parent)!r} does not exist")
+        raise InputError(option, f"the folder {str(parent)!r} does not exist")
     return parent
+
+
+def _write_text(text: str, path: str) -> None:
+    """Write a text file atomically (a temporary file beside it, then os.replace)."""
+    target = Path(path)
+    parent = _plot_folder(path, "--factors-out")
+    fd, tmp = tempfile.mkstemp(dir=parent, prefix=f".{target.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            fh.write(text)
+        os.replace(tmp, target)
+    except OSError as exc:
+        raise InputError("--factors-out", f"cannot write {path!r} ({exc.strerror})") from None
+    finally:
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(tmp)
+
+
+def _free_summary(result: FitResult, comparison: CatalogueComparison | None) -> str:
+    """One line on the free fit, for the snippet's comments."""
+    c = result.recommended
+    d = c.distribution
+    line = f"{c.label}, shape {d.shape:.3g}, scale {d.scale_h:,.0f} h"
+    if comparison is not None:
+        line += f"; B10 / L10 = {comparison.factor:.3g}"
+    return line
 
 
 def _write_png(fig: Any, path: str) -> None:
@@ -253,6 +332,18 @@ def _write_png(fig: Any, path: str) -> None:
     help="Catalogue rating life L10 with a unit, e.g. '40000 h': gives the field factor B10/L10.",
 )
 @click.option(
+    "--scenario",
+    "scenario_path",
+    metavar="SCEN.toml",
+    help="Take each group's catalogue life (with its a_ISO) and life model from this scenario.",
+)
+@click.option(
+    "--factors-out",
+    "factors_out",
+    metavar="FILE.toml",
+    help="With --scenario: write the field factors as [[field_factor]] entries to include.",
+)
+@click.option(
     "--confidence",
     type=click.FloatRange(0.5, 0.999),
     default=0.90,
@@ -266,6 +357,8 @@ def fit(
     records: str,
     group_by: str | None,
     catalog_l10: str | None,
+    scenario_path: str | None,
+    factors_out: str | None,
     confidence: float,
     rank_by: str,
     plot_path: str | None,
@@ -279,12 +372,26 @@ def fit(
     inspection. Candidates are ranked by AICc; the recommended model is the
     simplest the records support (a richer one needs ΔAICc > 2; a Weibull
     location needs a boundary-corrected likelihood-ratio test). Bounds are
-    two-sided.
+    two-sided. With --scenario each group's catalogue life (with a_ISO) and
+    life model come from the scenario, and the field factor is fitted with
+    the model's shape held; --factors-out writes them for `include`.
     """
     l10_h = positive(quantity(catalog_l10, "time", "--catalog-l10"), "--catalog-l10", "life")
+    if scenario_path and l10_h is not None:
+        raise InputError(
+            "--catalog-l10",
+            "give either --catalog-l10 or --scenario (which gives each group its own catalogue life)",
+        )
+    if factors_out and not scenario_path:
+        raise InputError("--factors-out", "needs --scenario (the factors are for its positions)")
+    if factors_out:
+        _plot_folder(factors_out, "--factors-out")
     if plot_path:
         _plot_folder(plot_path)
+    scen = load_scenario(scenario_path) if scenario_path else None
     recs = read_records(records)
+    if scen is not None and group_by is None:
+        group_by = "position" if "position" in recs.columns else "bearing"
     samples: dict[str | None, CensoredSample]
     if group_by:
         samples = {name: s for name, s in recs.groups(group_by).items()}
@@ -302,10 +409,39 @@ def fit(
             warnings.warn(f"not fitted: {exc}", FitWarning, stacklevel=1)
     if not results:
         raise InputError(records, "no group could be fitted: " + "; ".join(errors.values()))
-    comparisons = {
-        name: compare_with_catalogue(r, l10_h) if l10_h is not None else None
-        for name, r in results.items()
-    }
+    calibrations: dict[str | None, GroupCalibration] = {}
+    factors: dict[str | None, FieldFactorFit | None] = {}
+    comparisons: dict[str | None, CatalogueComparison | None] = {}
+    if scen is not None:
+        assert group_by is not None
+        parts_by = recs.group_records(group_by)
+        for name, r in results.items():
+            assert name is not None
+            try:
+                cal = calibrate(parts_by[name], group_by, name, scen, confidence)
+            except FitError as exc:
+                warnings.warn(f"no field factor: {exc}", FitWarning, stacklevel=1)
+                factors[name], comparisons[name] = None, None
+                continue
+            calibrations[name], factors[name] = cal, cal.factor
+            comparisons[name] = compare_with_catalogue(
+                r, cal.catalogue.typical_l10_h, cal.catalogue.model
+            )
+    for name, r in results.items():
+        if l10_h is not None:
+            model = life_shape("iso281")
+            factors[name] = fit_field_factor(
+                scaled_sample(r.sample, l10_h), model, confidence, l10_h
+            )
+            comparisons[name] = compare_with_catalogue(r, l10_h, model)
+        comparisons.setdefault(name, None)
+        factors.setdefault(name, None)
+    if factors_out and scen is not None:
+        free = {
+            str(n): _free_summary(results[n], comparisons[n]) for n in calibrations
+        }
+        snippet = field_factor_snippet(list(calibrations.values()), scen, records, free)
+        _write_text(snippet, factors_out)
     if plot_path:
         from matplotlib.figure import Figure
 
@@ -321,16 +457,28 @@ def fit(
                 "group_by": group_by,
                 "confidence": confidence,
                 "rank_by": rank_by,
-                "groups": [_json(n, r, comparisons[n]) for n, r in results.items()]
+                "scenario": scenario_path,
+                "factors_out": factors_out,
+                "groups": [
+                    _json(n, r, comparisons[n], factors[n], calibrations.get(n))
+                    for n, r in results.items()
+                ]
                 + [{"group": n, "error": e} for n, e in errors.items()],
                 "plot": plot_path,
                 "caution": SAFETY_CAUTION,
             }
         )
         return
-    parts = [_text(n, r, comparisons[n]) for n, r in results.items()]
+    parts = [
+        _text(n, r, comparisons[n], factors[n], calibrations.get(n)) for n, r in results.items()
+    ]
     parts += [f"{group_by} {n}: not fitted: {e}" for n, e in errors.items()]
     if plot_path:
         parts.append(f"Probability plot written to {plot_path}")
+    if factors_out:
+        parts.append(
+            f"Field factors written to {factors_out}; take them into the scenario with "
+            f'include = ["{factors_out}"] (a name relative to the scenario\'s folder)'
+        )
     click.echo(("\n\n" + "=" * 72 + "\n\n").join(parts))
     click.echo(f"\n{SAFETY_CAUTION}")

@@ -10,21 +10,32 @@ Knows nothing of simulation; never prints or plots as a side effect
 (:func:`probability_plot` draws only on the axes it is given or creates).
 """
 
+from fleetsim.fit.calibration import GroupCalibration, calibrate, field_factor_snippet
 from fleetsim.fit.candidates import B_LIVES, MODELS, CandidateFit, Estimate, FittedDistribution
 from fleetsim.fit.catalogue import CatalogueComparison, compare_with_catalogue
 from fleetsim.fit.choice import LocationTest, ModelChoice, choose_model
 from fleetsim.fit.errors import FitError, FitWarning
+from fleetsim.fit.field_factor import FieldFactorFit, fit_field_factor, scaled_sample
 from fleetsim.fit.fitting import FitResult, fit_records
 from fleetsim.fit.location import LocationProfile, profile_location
 from fleetsim.fit.plot import plotting_positions, probability_plot
 from fleetsim.fit.records import OUTCOMES, FieldRecords, read_records
 from fleetsim.fit.sample import CensoredSample
+from fleetsim.fit.scenario_lives import CatalogueLife, catalogue_lives
 
 __all__ = [
     "B_LIVES",
     "MODELS",
     "OUTCOMES",
     "CandidateFit",
+    "CatalogueLife",
+    "FieldFactorFit",
+    "GroupCalibration",
+    "calibrate",
+    "catalogue_lives",
+    "field_factor_snippet",
+    "fit_field_factor",
+    "scaled_sample",
     "CatalogueComparison",
     "CensoredSample",
     "Estimate",

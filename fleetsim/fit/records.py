@@ -33,6 +33,7 @@ import math
 from dataclasses import dataclass
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
 from fleetsim.csvtable import read_rows
@@ -65,16 +66,25 @@ class FieldRecords:
     table: pd.DataFrame
     columns: tuple[str, ...]
 
-    def sample(self, label: str | None = None) -> CensoredSample:
-        """All records as one censored sample."""
+    def sample(
+        self, label: str | None = None, per_l10_h: np.ndarray | None = None
+    ) -> CensoredSample:
+        """All records as one censored sample.
+
+        With ``per_l10_h`` (one catalogue L10 in hours per row of
+        :attr:`table`) every age is divided by its own row's L10, giving a
+        sample in units of L10 for :func:`fleetsim.fit.field_factor.fit_field_factor`.
+        """
         t = self.table
         interval = t["hours_from"].notna().to_numpy()
         failed = (t["outcome"] == "failed").to_numpy()
+        scale = np.ones(len(t)) if per_l10_h is None else np.asarray(per_l10_h, dtype=float)
+        hours, h_from, h_to = (t[c].to_numpy(float) / scale for c in ("hours", "hours_from", "hours_to"))
         return CensoredSample(
-            failures_h=t.loc[failed & ~interval, "hours"].to_numpy(float),
-            suspensions_h=t.loc[~failed, "hours"].to_numpy(float),
-            interval_lower_h=t.loc[interval, "hours_from"].to_numpy(float),
-            interval_upper_h=t.loc[interval, "hours_to"].to_numpy(float),
+            failures_h=hours[failed & ~interval],
+            suspensions_h=hours[~failed],
+            interval_lower_h=h_from[interval],
+            interval_upper_h=h_to[interval],
             label=label or self.source,
         )
 
@@ -86,6 +96,13 @@ class FieldRecords:
         InputError
             When the file has no such column or a row leaves it empty.
         """
+        return {
+            value: sub.sample(label=f"{self.source} [{by} {value}]")
+            for value, sub in self.group_records(by).items()
+        }
+
+    def group_records(self, by: str) -> dict[str, FieldRecords]:
+        """The records of each value of column ``by``, in file order (see :meth:`groups`)."""
         if by not in GROUP_COLUMNS:
             raise InputError("group by", f"expected one of {', '.join(GROUP_COLUMNS)}, got {by!r}")
         if by not in self.columns:
@@ -96,11 +113,10 @@ class FieldRecords:
             raise InputError(
                 f"{self.source}: row {row}, column {by}", "expected a value to group by"
             )
-        out = {}
-        for value in dict.fromkeys(self.table[by]):
-            sub = FieldRecords(self.source, self.table[self.table[by] == value], self.columns)
-            out[value] = sub.sample(label=f"{self.source} [{by} {value}]")
-        return out
+        return {
+            value: FieldRecords(self.source, self.table[self.table[by] == value], self.columns)
+            for value in dict.fromkeys(self.table[by])
+        }
 
 
 def _outcome(raw: str) -> str | None:

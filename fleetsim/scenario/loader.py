@@ -24,6 +24,9 @@ Decisions fixed here:
   holds those machine ids.
 * ``field_factor`` multiplies every life of the position (scale and location),
   whether derived from ratings or given explicitly.
+* ``[[field_factor]]`` entries (in the file or in the files of a top-level
+  ``include = [...]``) set ``field_factor`` on the positions they name
+  (:mod:`fleetsim.scenario.field_factors`), before the machines are read.
 * A machine's ``ages = "file.csv"`` names a CSV of current position ages
   (:mod:`fleetsim.scenario.ages`), relative to the scenario file. Files are
   read after the whole document has been validated.
@@ -42,6 +45,7 @@ from typing import Any
 from fleetsim.errors import InputError, LifeModelWarning
 from fleetsim.life import BearingType, LoadFactors, WeibullShape, life_shape
 from fleetsim.scenario.ages import apply_ages, scenario_folder
+from fleetsim.scenario.field_factors import apply_field_factors, resolve_includes
 from fleetsim.scenario.machines import (
     FIELD_LIFE_KEYS,
     MACHINE_KEYS,
@@ -181,6 +185,11 @@ def build_scenario(
     ``base_dir``, by default the folder of ``source`` when it names a file
     (see :func:`fleetsim.scenario.ages.scenario_folder`).
     """
+    folder = scenario_folder(source, base_dir)
+    document, included = resolve_includes(document, source, folder)
+    document = apply_field_factors(document, source)
+    if included and digest:
+        digest = hashlib.sha256((digest + included).encode()).hexdigest()
     root = Table(document, "", source, SECTIONS)
     study = _study(root.table("study", STUDY_KEYS, required=True), source)
     costs = _costs(root.table("costs", COSTS_KEYS))
@@ -201,7 +210,7 @@ def build_scenario(
     groups = _groups(root.tables("group", GROUP_KEYS), machines)
     stores = _stores(root, bearings, bearing_lead)
     crews = _crews(root.table("crews", CREW_KEYS))
-    machines = apply_ages(machine_tables, machines, scenario_folder(source, base_dir))
+    machines = apply_ages(machine_tables, machines, folder)
     aged = [(m.id, m.position_ages_h) for m in machines if m.position_ages_h is not None]
     if aged and digest:
         # the ages files change results: make them part of the scenario's fingerprint
