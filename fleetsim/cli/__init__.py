@@ -33,6 +33,7 @@ def cli() -> None:
 def _register() -> None:
     # One module per command family; each exposes click commands.
     from fleetsim.cli import fit as fit_cmds
+    from fleetsim.cli import importer as import_cmds
     from fleetsim.cli import life as life_cmds
     from fleetsim.cli import scenario as scenario_cmds
     from fleetsim.cli import study as study_cmds
@@ -41,6 +42,7 @@ def _register() -> None:
     cli.add_command(life_cmds.size)
     cli.add_command(scenario_cmds.check)
     cli.add_command(fit_cmds.fit)
+    cli.add_command(import_cmds.import_)
     cli.add_command(study_cmds.run)
     cli.add_command(study_cmds.sweep)
 

@@ -7,6 +7,7 @@ import math
 import os
 import tempfile
 import warnings
+from datetime import date
 from pathlib import Path
 from typing import Any
 
@@ -35,6 +36,7 @@ from fleetsim.fit import (
     scaled_sample,
 )
 from fleetsim.fit.catalogue import verdict
+from fleetsim.fit.records import DateRule
 from fleetsim.life import life_shape
 from fleetsim.scenario import load_scenario
 
@@ -318,8 +320,19 @@ def _write_png(fig: Any, path: str) -> None:
             os.unlink(tmp)
 
 
+def _pairs(values: tuple[str, ...], option: str) -> dict[str, str]:
+    """``("A=b", ...)`` → ``{"A": "b"}``; InputError naming the option otherwise."""
+    out = {}
+    for v in values:
+        key, sep, val = v.partition("=")
+        if not sep or not key.strip() or not val.strip():
+            raise InputError(option, f"expected NAME=VALUE, got {v!r}")
+        out[key.strip()] = val.strip()
+    return out
+
+
 @click.command("fit")
-@click.argument("records", metavar="RECORDS.csv")
+@click.argument("records", metavar="RECORDS.(csv|xlsx)")
 @click.option(
     "--group-by",
     type=click.Choice(["position", "bearing"]),
@@ -343,6 +356,29 @@ def _write_png(fig: Any, path: str) -> None:
     metavar="FILE.toml",
     help="With --scenario: write the field factors as [[field_factor]] entries to include.",
 )
+@click.option("--sheet", metavar="NAME", help="Sheet of an .xlsx records file (default: the first).")
+@click.option(
+    "--column",
+    "column_map",
+    multiple=True,
+    metavar="THEIRS=OURS",
+    help="A column of a work-order export and the records column it holds, e.g. "
+    "'Equipment=machine' (repeatable).",
+)
+@click.option(
+    "--outcome-word",
+    "outcome_map",
+    multiple=True,
+    metavar="THEIRS=OURS",
+    help="An outcome word of the export and ours, e.g. 'Breakdown=failed' (repeatable).",
+)
+@click.option(
+    "--running-share",
+    type=click.FloatRange(0.0, 1.0, min_open=True),
+    help="Share of calendar time the machines run, for records given by dates "
+    "(default: each machine's share in --scenario).",
+)
+@click.option("--as-of", "as_of", metavar="DATE", help="Date still-running bearings count to.")
 @click.option(
     "--confidence",
     type=click.FloatRange(0.5, 0.999),
@@ -359,6 +395,11 @@ def fit(
     catalog_l10: str | None,
     scenario_path: str | None,
     factors_out: str | None,
+    sheet: str | None,
+    column_map: tuple[str, ...],
+    outcome_map: tuple[str, ...],
+    running_share: float | None,
+    as_of: str | None,
     confidence: float,
     rank_by: str,
     plot_path: str | None,
@@ -389,7 +430,18 @@ def fit(
     if plot_path:
         _plot_folder(plot_path)
     scen = load_scenario(scenario_path) if scenario_path else None
-    recs = read_records(records)
+    try:
+        as_of_date = date.fromisoformat(as_of) if as_of else None
+    except ValueError:
+        raise InputError("--as-of", f"expected a date like 2024-03-01, got {as_of!r}") from None
+    shares = {m.id: m.operating_share for m in scen.machines} if scen is not None else {}
+    recs = read_records(
+        records,
+        sheet=sheet,
+        columns={k: v for k, v in _pairs(column_map, "--column").items()},
+        outcome_words=_pairs(outcome_map, "--outcome-word"),
+        dates=DateRule(shares, running_share, as_of_date),
+    )
     if scen is not None and group_by is None:
         group_by = "position" if "position" in recs.columns else "bearing"
     samples: dict[str | None, CensoredSample]
