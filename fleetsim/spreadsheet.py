@@ -97,8 +97,8 @@ def read_table(
     if suffix in (".csv", ".txt"):
         if sheet is not None:
             raise InputError(src, "a CSV file has no sheets; leave out the sheet option")
-        header, header_row, rows = read_rows(path, req, opt, what=what, header_hint=header_hint)
-        return _renamed(header, header_row, rows, None, theirs)
+        head, head_row, csv_rows = read_rows(path, req, opt, what=what, header_hint=header_hint)
+        return _renamed(head, head_row, csv_rows, None, theirs)
     if suffix not in (".xlsx", ".xlsm"):
         raise InputError(src, f"expected a .csv or .xlsx {what} file, got {suffix or 'no suffix'!r}")
     import pandas as pd

@@ -141,7 +141,7 @@ def apply_field_factors(document: Mapping[str, Any], source: str) -> dict[str, A
             if not isinstance(m, Mapping) or (only is not None and m.get("id") not in only):
                 continue
             for j, p in enumerate(m.get("position", []) or []):
-                if not (isinstance(p, Mapping) and _names(p, entry)):
+                if not (isinstance(p, dict) and _names(p, entry)):
                     continue
                 where = f"machine[{i}].position[{j}]"
                 if "field_factor" in p:

@@ -132,7 +132,7 @@ def _policy(src: str, sheet: str | None, row: int, raw: str) -> str:
 
 def _catalogue(path: str | PathLike[str]) -> tuple[dict[str, CatalogueEntry], dict[str, str]]:
     """The catalogue by designation, and lead times in days where the file gives them."""
-    entries = {e.designation: e for e in read_catalogue(path)}
+    entries = {e.designation: e for e in read_catalogue(Path(path))}
     leads: dict[str, str] = {}
     text = Path(path).read_text(encoding="utf-8")
     for i, row in enumerate(csv.DictReader(io.StringIO(text)), start=2):
