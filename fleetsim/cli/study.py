@@ -169,8 +169,12 @@ def _finish(results: list[StudyResult], out_dir: Path, ck_dir: Path, title: str,
 @click.command()
 @click.argument("scenario", type=click.Path(dir_okay=False))
 @_common
+@click.option("--parameter-uncertainty", "param_draws", type=int, default=None, metavar="DRAWS",
+              help="Draw the fitted field factors (with bounds) DRAWS times and run the "
+                   "replications under each, on common random numbers.")  # fmt: skip
 def run(scenario: str, replications: int | None, seed: int | None, out: str | None, engine: str,
-        workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool) -> None:
+        workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool,
+        param_draws: int | None = None) -> None:
     """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
     _check_options(replications, seed, workers)
     from fleetsim.study import choose_engine
@@ -184,6 +188,13 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
     base = variants[0].scenario
     chosen, why = choose_engine(base, engine)
     _note(quiet, f"{base.study.name}: {len(variants)} variant(s), engine {chosen} ({why})")
+    if param_draws is not None:
+        from fleetsim.cli.uncertainty import run_uncertain
+
+        run_uncertain(document, scenario, digest, param_draws, variants[1:], as_json,
+                      replications=replications, seed=seed, engine=engine,
+                      workers=_workers(workers), cluster=cluster)  # fmt: skip
+        return
     out_dir = Path(out) if out else Path("reports") / slug(base.study.name)
     results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
                                 workers=_workers(workers), cluster=cluster, quiet=quiet,
