@@ -178,3 +178,21 @@ def test_run_with_parameter_uncertainty_cli(tmp_path: Path, capsys: pytest.Captu
     code = main(["run", str(path), "--parameter-uncertainty", "1", "-q"])
     err = capsys.readouterr().err
     assert code == 2 and "--parameter-uncertainty" in err and err.count("\n") == 1
+
+
+def test_sweep_with_parameter_uncertainty(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    from fleetsim.cli import main
+
+    path = _scenario(tmp_path)
+    code = main(["sweep", str(path), "--vary", "policy.kind=age", "--vary",
+                 "policy.interval=6000,12000 h", "--parameter-uncertainty", "3", "-n", "4", "-q"])  # fmt: skip
+    out = capsys.readouterr().out
+    assert code == 0
+    assert "policy.interval=6000 h" in out and "Today's practice" not in out
+    assert "of plausible parameter sets" in out
+
+
+def test_nested_interval_is_cut_to_the_figure_range() -> None:
+    y = np.array([[0.0, 0.0, 1.0, 0.0], [0.0, 2.0, 0.0, 0.0]])
+    ci = nested_interval(y, 0.95, (0.0, math.inf))
+    assert ci.low == 0.0 and ci.high > ci.mean > 0

@@ -227,9 +227,12 @@ SWEEP_AXES = {"policy.interval": "Replacement interval",
 @click.option("--objective", type=click.Choice(list(OBJECTIVES)), default="cost", show_default=True,
               help="What the best variant optimises: cost per year, availability or reliability.")
 @_common
+@click.option("--parameter-uncertainty", "param_draws", type=int, default=None, metavar="DRAWS",
+              help="Draw the fitted field factors (with bounds) DRAWS times and run the grid "
+                   "under each, on common random numbers.")  # fmt: skip
 def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: int | None,
           seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
-          resume: bool, quiet: bool, as_json: bool) -> None:
+          resume: bool, quiet: bool, as_json: bool, param_draws: int | None = None) -> None:
     """Run every combination of --vary values on common random numbers and mark the best."""
     _check_options(replications, seed, workers)
     import hashlib
@@ -254,6 +257,15 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     if fixed:
         _note(quiet, "  set for every variant: "
               + "; ".join(f"{k}={value_label(v)}" for k, v in fixed))
+    if param_draws is not None:
+        from fleetsim.cli.uncertainty import run_uncertain
+
+        figure, pick = OBJECTIVES[objective]
+        run_uncertain(document, scenario, digest, param_draws, list(variants), as_json,
+                      include_base=False, objective=figure, highest=pick is max,
+                      replications=replications, seed=seed, engine=engine,
+                      workers=_workers(workers), cluster=cluster)  # fmt: skip
+        return
     out_dir = Path(out) if out else Path("reports") / (slug(base.study.name) + "-sweep")
     results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
                                 workers=_workers(workers), cluster=cluster, quiet=quiet,

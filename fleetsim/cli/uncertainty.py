@@ -22,13 +22,22 @@ def run_uncertain(
     draws: int,
     variants: list[Variant],
     as_json: bool,
+    *,
+    include_base: bool = True,
+    objective: str = "cost_per_year",
+    highest: bool = False,
     **study_kwargs: Any,
 ) -> None:
-    """Run the base case and ``variants`` under ``draws`` parameter draws and print the figures."""
-    res = run_parameter_uncertainty(document, source, digest, draws, variants, **study_kwargs)
-    known = [f for f in FIGURES if f in res.results[0][0].replications.columns]
+    """Run the base case and ``variants`` under ``draws`` parameter draws and print the figures.
+
+    ``objective`` (highest best when ``highest``) picks the recommended variant.
+    """
+    res = run_parameter_uncertainty(
+        document, source, digest, draws, variants, include_base=include_base, **study_kwargs
+    )
+    known = [f for f in dict.fromkeys((objective, *FIGURES)) if f in res.results[0][0].replications]
     table = res.summary(known)
-    best, share = res.recommendation("cost_per_year")
+    best, share = res.recommendation(objective, highest)
     if as_json:
         echo_json(
             {
@@ -40,7 +49,7 @@ def run_uncertain(
                 ],
                 "figures": table.to_dict(orient="records"),
                 "recommended": {"variant": best, "share_of_draws": share,
-                                "objective": "cost_per_year"},  # fmt: skip
+                                "objective": objective},  # fmt: skip
                 "caution": SAFETY_CAUTION,
             }
         )
@@ -61,7 +70,7 @@ def run_uncertain(
         )
     lines.append("")
     lines.append(
-        f"Lowest cost per year: {best} — the same in {100 * share:.0f} % of plausible parameter sets."
+        f"Best on {objective}: {best} — the same in {100 * share:.0f} % of plausible parameter sets."
     )
     lines.append("(No HTML report for a parameter-uncertainty run yet.)")
     click.echo("\n".join(lines))

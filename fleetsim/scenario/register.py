@@ -21,6 +21,9 @@ unit is in the name):
 ``radial_load_kn``, ``axial_load_kn``, ``speed_rpm``, ``application_factor``
     Loads and speed; several rows of one machine and position with a
     ``duty_share`` each are the steps of a duty cycle.
+``arrangement``, ``radial_load_b_kn``
+    A bearing arrangement (``face-to-face``, ...) and the radial load of its
+    bearing B, as in the scenario.
 ``life_shape``, ``life_scale_h``, ``life_location_h``
     An explicit life (a field fit) instead of loads and speed.
 ``policy``
@@ -60,10 +63,12 @@ OPTIONAL = (
     "bearing",
     "count",
     "radial_load_kn",
+    "radial_load_b_kn",
     "axial_load_kn",
     "speed_rpm",
     "duty_share",
     "application_factor",
+    "arrangement",
     "life_shape",
     "life_scale_h",
     "life_location_h",
@@ -256,7 +261,11 @@ def import_register(
                 where(src, row, "bearing", sheet_name),
                 f"no bearing {bid!r} in the catalogue {catalogue}",
             )
-        step = {c: rec[c] for c in ("radial_load_kn", "axial_load_kn", "speed_rpm") if rec.get(c)}
+        step = {
+            c: rec[c]
+            for c in ("radial_load_kn", "radial_load_b_kn", "axial_load_kn", "speed_rpm")
+            if rec.get(c)
+        }
         for c, v in step.items():
             _number(src, sheet_name, row, c, v, positive=c == "speed_rpm")
         pos: _Position | None = m["positions"].get(pid)
@@ -290,6 +299,8 @@ def import_register(
                 pos.fields[c] = _number(src, sheet_name, row, c, rec[c], positive=c != "life_location_h")
         if rec.get("policy"):
             pos.fields["policy"] = _policy(src, sheet_name, row, rec["policy"])
+        if rec.get("arrangement"):
+            pos.fields["arrangement"] = rec["arrangement"].strip()
     for mid, m in machines.items():
         if not m["positions"]:
             raise InputError(where(src, m["row"], "machine", sheet_name),
@@ -312,8 +323,10 @@ def _position_lines(p: _Position) -> list[str]:
         if "life_location_h" in p.fields:
             life += f', location = "{p.fields["life_location_h"]} h"'
         out.append(f"  life = {{ {life} }}")
-    names = {"radial_load_kn": ("radial_load", "kN"), "axial_load_kn": ("axial_load", "kN"),
-             "speed_rpm": ("speed", "rpm")}  # fmt: skip
+    if "arrangement" in p.fields:
+        out.append(f'  arrangement = "{p.fields["arrangement"]}"')
+    names = {"radial_load_kn": ("radial_load", "kN"), "radial_load_b_kn": ("radial_load_b", "kN"),
+             "axial_load_kn": ("axial_load", "kN"), "speed_rpm": ("speed", "rpm")}  # fmt: skip
     if p.duty:
         out.append("  duty = [")
         for st in p.duty:

@@ -26,7 +26,9 @@ engines:
    figure; s²_within / R is the Monte Carlo variance of a draw's mean, which
    common random numbers leave common to all draws (so it is not divided by
    the number of draws). With a single exact parameter set the interval falls
-   back to the Monte Carlo interval.
+   back to the Monte Carlo interval. As everywhere in fleetsim, an interval
+   is cut to the values its figure can take (no negative count, no share
+   above 1).
 
 The share of draws whose best variant (lowest mean of the objective) is the
 overall best says how robust a recommendation is to the parameters: "the
@@ -48,6 +50,7 @@ from scipy import stats
 from fleetsim.errors import InputError
 from fleetsim.scenario.ages import scenario_folder
 from fleetsim.scenario.field_factors import resolve_includes
+from fleetsim.study.figures import range_of
 from fleetsim.study.result import StudyResult
 from fleetsim.study.variants import Variant, build_variant
 
@@ -160,19 +163,28 @@ class NestedInterval:
         return dict(self.__dict__)
 
 
-def nested_interval(values: np.ndarray, confidence: float = 0.95) -> NestedInterval:
-    """The interval of this module's step 4 from a draws × replications array of a figure."""
+def nested_interval(
+    values: np.ndarray, confidence: float = 0.95, within: tuple[float, float] | None = None
+) -> NestedInterval:
+    """The interval of this module's step 4 from a draws × replications array of a figure.
+
+    ``within = (low, high)``: the values the figure can take; the interval is cut to them.
+    """
     y = np.asarray(values, dtype=float)
     if y.ndim != 2 or y.shape[1] < 2:
         raise InputError("parameter uncertainty", "expected at least 2 replications per draw")
     j, r = y.shape
     means = y.mean(axis=1)
-    within = float(y.var(axis=1, ddof=1).mean())
+    bounds = within
+    within_var = float(y.var(axis=1, ddof=1).mean())
     between = float(means.var(ddof=1)) if j > 1 else 0.0
     z = float(stats.norm.ppf(0.5 + confidence / 2.0))
-    half = z * math.sqrt(between + within / r)
+    half = z * math.sqrt(between + within_var / r)
     m = float(means.mean())
-    return NestedInterval(m, m - half, m + half, math.sqrt(between), math.sqrt(within / r), j, r)
+    lo, hi = m - half, m + half
+    if bounds is not None:
+        lo, hi = max(lo, bounds[0]), min(hi, bounds[1])
+    return NestedInterval(m, lo, hi, math.sqrt(between), math.sqrt(within_var / r), j, r)
 
 
 @dataclass(frozen=True)
@@ -201,14 +213,19 @@ class UncertainStudy:
         return np.array([r[variant].figure(figure).to_numpy(float) for r in self.results])
 
     def interval(self, figure: str, variant: int = 0, confidence: float = 0.95) -> NestedInterval:
-        """The nested interval of ``figure`` for one variant."""
-        return nested_interval(self.values(figure, variant), confidence)
+        """The nested interval of ``figure`` for one variant, cut to the figure's range."""
+        return nested_interval(self.values(figure, variant), confidence, range_of(figure))
 
-    def recommendation(self, figure: str = "cost_per_year") -> tuple[str, float]:
-        """The variant with the lowest grand mean, and the share of draws where it is the best."""
+    def recommendation(
+        self, figure: str = "cost_per_year", highest: bool = False
+    ) -> tuple[str, float]:
+        """The best variant by grand mean (lowest, or ``highest``), and the share of draws
+        where it is also the best."""
         means = np.array(
             [[r[v].figure(figure).mean() for v in range(len(self.variant_names))] for r in self.results]
         )
+        if highest:
+            means = -means
         best = int(np.argmin(means.mean(axis=0)))
         share = float(np.mean(np.argmin(means, axis=1) == best))
         return self.variant_names[best], share
@@ -228,6 +245,7 @@ def run_parameter_uncertainty(
     digest: str,
     draws: int,
     variants: Sequence[Variant] = (),
+    include_base: bool = True,
     **study_kwargs: Any,
 ) -> UncertainStudy:
     """Run the base case (and ``variants``) under ``draws`` parameter draws (module docstring).
@@ -244,6 +262,8 @@ def run_parameter_uncertainty(
         Variants whose overrides are applied on every draw (the base case is
         always run first; pass :func:`fleetsim.study.variants.file_variants`
         without its first entry to compare the file's variants).
+    include_base
+        Run the base case first (False for a sweep, whose grid is the variants).
     study_kwargs
         Passed to :func:`fleetsim.study.run_study` (replications, seed, engine, workers, ...).
 
@@ -267,12 +287,17 @@ def run_parameter_uncertainty(
     seed = study_kwargs.pop("seed", None)
     seed = base.study.seed if seed is None else seed
     factors = draw_factors(uncertain, draws, seed)
-    names = ("Today's practice", *[v.name for v in variants])
+    cases = [(v.name, v.overrides) for v in variants]
+    if include_base:
+        cases.insert(0, ("Today's practice", ()))
+    if not cases:
+        raise InputError("parameter uncertainty", "expected at least one variant to run")
+    names = tuple(name for name, _ in cases)
     results = []
     for d in range(draws):
         doc_d = draw_document(doc, uncertain, factors[d])
         row = []
-        for name, overrides in [("Today's practice", ()), *[(v.name, v.overrides) for v in variants]]:
+        for name, overrides in cases:
             sc = build_variant(doc_d, list(overrides), f"{name}, draw {d + 1}", source, digest).scenario
             row.append(run_study(sc, seed=seed, keep_events=False, label=name, **study_kwargs))
         results.append(tuple(row))
