@@ -78,12 +78,17 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
     return fn
 
 
-def _check_options(replications: int | None, seed: int | None, workers: int) -> None:
+def _check_options(replications: int | None, seed: int | None, workers: int,
+                   cluster: str | None) -> None:
     if replications is not None and replications < 1:
         raise InputError("--replications", f"expected at least 1, got {replications}")
     if seed is not None:
         check_seed(seed, "--seed")
     _workers(workers)
+    if cluster is not None:
+        from fleetsim.study.cluster import check_cluster
+
+        check_cluster(cluster, "--cluster")
 
 
 def _workers(n: int) -> int:
@@ -96,23 +101,25 @@ def _run_variants(variants: Sequence[Variant], *, replications: int | None, seed
                   engine: str | None, workers: int, cluster: str | None, quiet: bool, resume: bool,
                   out_dir: Path) -> tuple[list[StudyResult], Path]:
     from fleetsim.study import run_study
+    from fleetsim.study.cluster import study_cluster
 
     ck_dir = out_dir.parent / f".{out_dir.name}.checkpoints"
-    if not resume and ck_dir.exists():
-        for f in ck_dir.glob("*.jsonl"):
-            f.unlink()
-    ck_dir.mkdir(parents=True, exist_ok=True)
     results: list[StudyResult] = []
-    for k, v in enumerate(variants):
-        bar = _Progress(quiet, v.name[:30])
-        try:
-            results.append(run_study(
-                v.scenario, replications=replications, seed=seed, engine=engine,
-                workers=workers, cluster=cluster, progress=bar, label=v.name,
-                checkpoint=ck_dir / f"variant-{k}.jsonl", keep_events=(k == 0),
-            ))
-        finally:
-            bar.close()
+    with study_cluster(cluster, workers, "--cluster") as dask:  # one cluster for all variants
+        if not resume and ck_dir.exists():
+            for f in ck_dir.glob("*.jsonl"):
+                f.unlink()
+        ck_dir.mkdir(parents=True, exist_ok=True)
+        for k, v in enumerate(variants):
+            bar = _Progress(quiet, v.name[:30])
+            try:
+                results.append(run_study(
+                    v.scenario, replications=replications, seed=seed, engine=engine,
+                    workers=workers, cluster=dask, progress=bar, label=v.name,
+                    checkpoint=ck_dir / f"variant-{k}.jsonl", keep_events=(k == 0),
+                ))
+            finally:
+                bar.close()
     return results, ck_dir
 
 
@@ -176,7 +183,7 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
         workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool,
         param_draws: int | None = None) -> None:
     """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
-    _check_options(replications, seed, workers)
+    _check_options(replications, seed, workers, cluster)
     from fleetsim.study import choose_engine
     from fleetsim.study.variants import file_variants, read_document
 
@@ -234,7 +241,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
           seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
           resume: bool, quiet: bool, as_json: bool, param_draws: int | None = None) -> None:
     """Run every combination of --vary values on common random numbers and mark the best."""
-    _check_options(replications, seed, workers)
+    _check_options(replications, seed, workers, cluster)
     import hashlib
 
     import pandas as pd

@@ -51,6 +51,7 @@ from fleetsim.errors import InputError
 from fleetsim.life import LifeDistribution
 from fleetsim.plan.lifelike import integrated_reliability
 from fleetsim.scenario.model import HOURS_PER_YEAR, Machine, Policy, Scenario
+from fleetsim.study.cluster import DaskCluster
 from fleetsim.study.engines import choose_engine, replicate
 from fleetsim.study.figures import split, unit_of
 from fleetsim.study.result import StudyResult
@@ -248,7 +249,7 @@ def run_policy_view(
     seed: int | None = None,
     engine: str | None = None,
     workers: int = 1,
-    cluster: str | None = None,
+    cluster: str | DaskCluster | None = None,
     progress: Progress | None = None,
     horizon_h: float | None = None,
     label: str = "",

@@ -25,6 +25,7 @@ from typing import Any
 import pandas as pd
 
 from fleetsim.errors import InputError
+from fleetsim.study.cluster import DaskCluster, check_cluster, study_cluster
 from fleetsim.study.seeds import check_seed, replication_seed
 
 #: ``task(payload, seed_sequence) -> {figure: value}``; must be a module-level function.
@@ -101,7 +102,7 @@ def run_replications(
     checkpoint: str | Path | None = None,
     study_key: str = "",
     chunk_size: int | None = None,
-    cluster: str | None = None,
+    cluster: str | DaskCluster | None = None,
 ) -> pd.DataFrame:
     """Run ``replications`` independent replications of ``task``.
 
@@ -130,8 +131,10 @@ def run_replications(
         quarter of each worker's share down to one replication).
     cluster
         Run on Dask instead of a local process pool: a scheduler address
-        (``"tcp://host:8786"``) or ``"local"`` for a ``LocalCluster`` of
-        ``workers`` processes. Needs the ``cluster`` extra (dask.distributed).
+        (``"tcp://host:8786"``), ``"local"`` for a ``LocalCluster`` of
+        ``workers`` processes started for this call, or a
+        :class:`~fleetsim.study.cluster.DaskCluster` already open (several
+        studies on one cluster). Needs the ``cluster`` extra (dask.distributed).
 
     Returns
     -------
@@ -141,6 +144,8 @@ def run_replications(
     if replications < 1:
         raise InputError("replications", f"expected at least 1, got {replications}")
     seed = check_seed(seed)
+    if isinstance(cluster, str):
+        check_cluster(cluster)
     if workers < 1:
         raise InputError("workers", f"expected at least 1, got {workers}")
     done: dict[int, dict] = {}
@@ -172,7 +177,9 @@ def run_replications(
     chunks = list(_chunks(todo, chunk_size) if chunk_size else _guided_chunks(todo, workers))
     try:
         if cluster is not None:
-            _run_on_dask(task, payload, seed, chunks, cluster, workers, record)
+            with study_cluster(cluster, workers) as dask:
+                assert dask is not None
+                _run_on_dask(task, payload, seed, chunks, dask, record)
         elif workers == 1 or len(todo) <= 1:
             size = chunk_size or max(1, min(25, math.ceil(len(todo) / 20) if todo else 1))
             for chunk in _chunks(todo, size):
@@ -216,34 +223,20 @@ def _run_on_dask(
     payload: Any,
     seed: int,
     chunks: list[list[int]],
-    cluster: str,
-    workers: int,
+    cluster: DaskCluster,
     record: Callable[[list[dict]], None],
 ) -> None:
-    """Run chunks on a Dask distributed cluster (imported lazily)."""
+    """Run chunks on an open Dask cluster, recording them in the order they finish."""
+    from distributed import as_completed
+
+    client = cluster.client
+    # A key of its own (hash=False): studies sharing a cluster may send the same
+    # payload, and one study's release of it must not take it from the next.
+    data = client.scatter(payload, broadcast=True, hash=False)
+    futures = [client.submit(_run_chunk, task, data, seed, ch, pure=False) for ch in chunks]
     try:
-        from distributed import Client, LocalCluster, as_completed
-    except ImportError:
-        raise InputError(
-            "--cluster", "Dask is not installed; install fleetsim with the 'cluster' extra"
-        ) from None
-    local = None
-    try:
-        if cluster == "local":
-            local = LocalCluster(
-                n_workers=workers, threads_per_worker=1, processes=True, dashboard_address=None
-            )
-            client = Client(local)
-        else:
-            client = Client(cluster, timeout="10s")
-    except OSError as exc:
-        raise InputError("--cluster", f"cannot reach the Dask scheduler at {cluster!r} ({exc})") from None
-    try:
-        data = client.scatter(payload, broadcast=True)
-        futures = [client.submit(_run_chunk, task, data, seed, ch, pure=False) for ch in chunks]
         for fut in as_completed(futures):
             record(fut.result())
-    finally:
-        client.close()
-        if local is not None:
-            local.close()
+    except BaseException:
+        client.cancel(futures)  # leave a shared cluster idle for the next study
+        raise

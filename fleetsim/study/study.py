@@ -22,6 +22,7 @@ import pandas as pd
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Policy, Scenario
+from fleetsim.study.cluster import DaskCluster, check_cluster, study_cluster
 from fleetsim.study.engines import choose_engine, replicate
 from fleetsim.study.result import StudyResult
 from fleetsim.study.runner import Progress, run_replications
@@ -41,7 +42,7 @@ def run_study(
     seed: int | None = None,
     engine: str | None = None,
     workers: int = 1,
-    cluster: str | None = None,
+    cluster: str | DaskCluster | None = None,
     progress: Progress | None = None,
     checkpoint: str | Path | None = None,
     horizon_h: float | None = None,
@@ -61,7 +62,8 @@ def run_study(
     workers
         Processes (1 = this process).
     cluster
-        Dask scheduler address or ``"local"`` (see :func:`run_replications`).
+        Dask scheduler address, ``"local"``, or an open
+        :class:`~fleetsim.study.cluster.DaskCluster` (see :func:`run_replications`).
     progress
         ``progress(done, total)`` callback.
     checkpoint
@@ -129,11 +131,19 @@ def compare(
 
     Every variant gets the same replication seeds, so each replication's
     positions see the same lives in every variant and the paired differences
-    have small variance. Keyword arguments go to :func:`run_study`.
+    have small variance. Keyword arguments go to :func:`run_study`; a
+    ``cluster`` is opened once for all the variants
+    (:func:`~fleetsim.study.cluster.study_cluster`).
     """
     results: list[StudyResult] = []
-    for name, sc in variants.items():
-        results.append(run_study(sc, label=name, **kwargs))
+    cluster = kwargs.pop("cluster", None)
+    if isinstance(cluster, str):  # settings checked before a cluster is started
+        check_cluster(cluster)
+        if kwargs.get("seed") is not None:
+            check_seed(kwargs["seed"])
+    with study_cluster(cluster, kwargs.get("workers", 1)) as dask:
+        for name, sc in variants.items():
+            results.append(run_study(sc, label=name, cluster=dask, **kwargs))
     return results
 
 
