@@ -196,3 +196,29 @@ def test_nested_interval_is_cut_to_the_figure_range() -> None:
     y = np.array([[0.0, 0.0, 1.0, 0.0], [0.0, 2.0, 0.0, 0.0]])
     ci = nested_interval(y, 0.95, (0.0, math.inf))
     assert ci.low == 0.0 and ci.high > ci.mean > 0
+
+
+def test_parameter_uncertainty_on_one_local_cluster(tmp_path: Path, capsys, monkeypatch) -> None:
+    # every draw and variant runs on one --cluster local (in-process here, to stay short)
+    import json
+
+    import distributed
+
+    from fleetsim.cli import main
+
+    started: list[dict] = []
+    real = distributed.LocalCluster
+
+    def counting(*args, **kwargs):
+        started.append(kwargs)
+        return real(n_workers=kwargs["n_workers"], threads_per_worker=1, processes=False,
+                    dashboard_address=None)
+
+    monkeypatch.setattr(distributed, "LocalCluster", counting)
+    path = _scenario(tmp_path)
+    args = ["run", str(path), "--parameter-uncertainty", "3", "-n", "4", "-q", "--json"]
+    assert main(args) == 0
+    plain = json.loads(capsys.readouterr().out)["figures"]
+    assert main([*args, "--cluster", "local", "--workers", "2"]) == 0
+    on_dask = json.loads(capsys.readouterr().out)["figures"]
+    assert len(started) == 1 and on_dask == plain

@@ -50,6 +50,7 @@ from scipy import stats
 from fleetsim.errors import InputError
 from fleetsim.scenario.ages import scenario_folder
 from fleetsim.scenario.field_factors import resolve_includes
+from fleetsim.seed import check_seed
 from fleetsim.study.figures import range_of
 from fleetsim.study.result import StudyResult
 from fleetsim.study.variants import Variant, build_variant
@@ -272,6 +273,7 @@ def run_parameter_uncertainty(
     InputError
         With fewer than 2 draws or no field factor with bounds.
     """
+    from fleetsim.study.cluster import study_cluster
     from fleetsim.study.study import run_study
 
     if draws < 2:
@@ -285,7 +287,7 @@ def run_parameter_uncertainty(
         )
     base = build_variant(doc, [], "base", source, digest).scenario
     seed = study_kwargs.pop("seed", None)
-    seed = base.study.seed if seed is None else seed
+    seed = check_seed(base.study.seed if seed is None else seed)
     factors = draw_factors(uncertain, draws, seed)
     cases = [(v.name, v.overrides) for v in variants]
     if include_base:
@@ -294,11 +296,15 @@ def run_parameter_uncertainty(
         raise InputError("parameter uncertainty", "expected at least one variant to run")
     names = tuple(name for name, _ in cases)
     results = []
-    for d in range(draws):
-        doc_d = draw_document(doc, uncertain, factors[d])
-        row = []
-        for name, overrides in cases:
-            sc = build_variant(doc_d, list(overrides), f"{name}, draw {d + 1}", source, digest).scenario
-            row.append(run_study(sc, seed=seed, keep_events=False, label=name, **study_kwargs))
-        results.append(tuple(row))
+    cluster = study_kwargs.pop("cluster", None)
+    with study_cluster(cluster, study_kwargs.get("workers", 1)) as dask:  # one for every draw
+        for d in range(draws):
+            doc_d = draw_document(doc, uncertain, factors[d])
+            row = []
+            for name, overrides in cases:
+                sc = build_variant(doc_d, list(overrides), f"{name}, draw {d + 1}", source,
+                                   digest).scenario
+                row.append(run_study(sc, seed=seed, keep_events=False, label=name, cluster=dask,
+                                     **study_kwargs))
+            results.append(tuple(row))
     return UncertainStudy(tuple(uncertain), factors, tuple(results), names)
