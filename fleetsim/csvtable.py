@@ -63,7 +63,13 @@ def read_rows(
     lines = [(i, ln) for i, ln in lines if ln.strip() and not ln.lstrip().startswith("#")]
     if not lines:
         raise InputError(src, f"expected a header line ({header_hint}) and {what}")
-    cells_by_line = list(csv.reader(io.StringIO("\n".join(ln for _, ln in lines))))
+    cells_by_line: list[list[str]] = []
+    try:
+        for cells in csv.reader(io.StringIO("\n".join(ln for _, ln in lines))):
+            cells_by_line.append(cells)
+    except csv.Error as exc:  # e.g. a value over csv.field_size_limit() characters
+        row = lines[min(len(cells_by_line), len(lines) - 1)][0]
+        raise InputError(f"{src}: row {row}", f"cannot read the values of this row ({exc})") from None
     if len(cells_by_line) != len(lines):
         raise InputError(src, "a quoted value spans several lines; keep every row on one line")
     header = [h.strip().lower() for h in cells_by_line[0]]

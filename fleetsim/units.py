@@ -25,6 +25,7 @@ import math
 import re
 from typing import Literal
 
+from fleetsim.bounds import HOURS_PER_YEAR, check_quantity
 from fleetsim.errors import InputError
 
 Kind = Literal["force", "speed", "time"]
@@ -37,7 +38,7 @@ _HOUR_S = 3600.0
 #: (standard gravity), both exact by definition (NIST SP 811, appendix B).
 _LBF_N = 0.45359237 * 9.80665
 #: Hours per year: the Julian year of 365.25 days (IAU).
-_YEAR_H = 365.25 * 24.0
+_YEAR_H = HOURS_PER_YEAR
 
 #: Unit name → (kind, factor to the library's unit: N, rev/min, h).
 UNITS: dict[str, tuple[Kind, float]] = {
@@ -125,13 +126,14 @@ def parse_quantity(text: str | float | int, kind: Kind, where: str) -> float:
     Returns
     -------
     float
-        The magnitude in newtons, rev/min or hours (may be infinite when the
-        number overflows; callers check the range).
+        The magnitude in newtons, rev/min or hours, finite and within the
+        bounds of its kind (:func:`fleetsim.bounds.check_quantity`).
 
     Raises
     ------
     InputError
-        When the text is not one number and one known unit of this kind.
+        When the text is not one number and one known unit of this kind, or
+        the value lies outside the bounds of its kind.
     """
     _, example = CANONICAL[kind]
     if isinstance(text, bool) or not isinstance(text, (str, int, float)):
@@ -170,7 +172,7 @@ def parse_quantity(text: str | float | int, kind: Kind, where: str) -> float:
             f"expected a {kind} such as {example}, got {text!r} "
             f"(a {unit_kind}, a different kind of unit)",
         )
-    return float(m["number"]) * factor
+    return check_quantity(float(m["number"]) * factor, kind, where, text)
 
 
 def _show(value: object) -> str:

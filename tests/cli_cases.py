@@ -78,3 +78,53 @@ def edited(tmp: Path, source: Path, edits: Sequence[tuple[str, str]], name: str 
     path = tmp / (name or source.name)
     path.write_text(text, encoding="utf-8")
     return path
+
+
+#: A small scenario that runs in well under a second (two replications).
+TINY = """\
+[study]
+name = "tiny"
+horizon = "2 years"
+replications = 2
+seed = 1
+
+[costs]
+planned_replacement = 100
+failure = 1000
+downtime_per_hour = 10
+
+[[bearing]]
+id = "B1"
+type = "ball"
+dynamic_rating = "30 kN"
+static_rating = "20 kN"
+price = 50
+lead_time = "5 d"
+
+[policy]
+kind = "age"
+interval = "20000 h"
+
+[[machine]]
+id = "pump"
+count = 2
+operating_hours_per_year = "6000 h"
+
+  [[machine.position]]
+  id = "de"
+  bearing = "B1"
+  radial_load = "3 kN"
+  speed = "1480 rpm"
+"""
+
+
+def tiny(tmp: Path, edits: Sequence[tuple[str, str]] = (), extra: str = "",
+         name: str = "tiny.toml") -> Path:
+    """The small scenario in ``tmp`` with text replacements and extra text appended."""
+    text = TINY
+    for old, new in edits:
+        assert old in text, f"{old!r} not in the tiny scenario"
+        text = text.replace(old, new, 1)
+    path = tmp / name
+    path.write_text(text + extra, encoding="utf-8")
+    return path

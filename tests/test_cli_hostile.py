@@ -13,7 +13,7 @@ import re
 from pathlib import Path
 
 import pytest
-from cli_cases import PUMPS, ROOT, edited, expect_one_line_error
+from cli_cases import PUMPS, ROOT, edited, expect_one_line_error, run_cli, tiny
 
 # --- unit strings -------------------------------------------------------------------
 LIFE = ["life", "--type", "ball", "--dynamic-rating", "30.7 kN", "--radial-load", "3.2 kN",
@@ -66,3 +66,132 @@ def test_sweep_vary_is_not_evaluated(tmp_path: Path) -> None:
         cwd=tmp_path,
     )
     assert "policy.interval" in message and "unknown time unit" in message
+
+
+# --- the cases of issue 17 ------------------------------------------------------------
+def _deep_toml(tmp: Path) -> list[str]:
+    path = tmp / "deep.toml"
+    path.write_text("x = " + "[" * 500 + "]" * 500 + "\n", encoding="utf-8")
+    return ["check", str(path)]
+
+
+def _long_records_cell(tmp: Path) -> list[str]:
+    path = tmp / "records.csv"
+    path.write_text("hours,outcome,note\n1000,failed," + "x" * 140_000 + "\n", encoding="utf-8")
+    return ["fit", str(path)]
+
+
+def _long_ages_cell(tmp: Path) -> list[str]:
+    (tmp / "ages.csv").write_text("unit,position,hours,note\npump#1,de,100," + "x" * 140_000
+                                  + "\n", encoding="utf-8")
+    return ["check", str(tiny(tmp, [('count = 2', 'count = 2\nages = "ages.csv"')]))]
+
+
+def _out_below_a_file(tmp: Path) -> list[str]:
+    (tmp / "afile").write_text("x")
+    return ["run", str(tiny(tmp)), "--quiet", "--out", str(tmp / "afile" / "report")]
+
+
+def _out_is_a_file(tmp: Path) -> list[str]:
+    (tmp / "afile").write_text("x")
+    return ["run", str(tiny(tmp)), "--quiet", "--out", str(tmp / "afile")]
+
+
+def _run(*edits: tuple[str, str], extra: str = "", args: tuple[str, ...] = ()):  # type: ignore[no-untyped-def]
+    def build(tmp: Path) -> list[str]:
+        return ["run", str(tiny(tmp, edits, extra)), "--quiet", "--out", str(tmp / "r"), *args]
+    return build
+
+
+def _sweep(vary: str):  # type: ignore[no-untyped-def]
+    def build(tmp: Path) -> list[str]:
+        return ["sweep", str(tiny(tmp)), "--quiet", "--out", str(tmp / "r"), "--vary", vary]
+    return build
+
+
+def _check(*edits: tuple[str, str], extra: str = ""):  # type: ignore[no-untyped-def]
+    def build(tmp: Path) -> list[str]:
+        return ["check", str(tiny(tmp, edits, extra))]
+    return build
+
+
+def _life(*more: str):  # type: ignore[no-untyped-def]
+    def build(tmp: Path) -> list[str]:
+        return [*LIFE, *more]
+    return build
+
+
+def _bom(tmp: Path) -> list[str]:
+    path = tiny(tmp, [('seed = 1', 'seed = -1')])
+    path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    return ["check", str(path)]
+
+
+VARIANT = '\n[[variant]]\nname = "{name}"\nset = {set}\n'
+
+ISSUE_17 = {
+    # (case, build(tmp) -> argv, words the error must contain)
+    "deep-toml": (_deep_toml, "deep.toml"),
+    "long-records-cell": (_long_records_cell, "records.csv"),
+    "long-ages-cell": (_long_ages_cell, "ages.csv"),
+    "seed-negative": (_run(args=("--seed", "-1")), "--seed"),
+    "out-below-a-file": (_out_below_a_file, "--out"),
+    "out-is-a-file": (_out_is_a_file, "--out"),
+    "sweep-range-overflow": (_sweep("policy.interval=0:1e308:1e-308 h"), "--vary"),
+    "sweep-range-infinite": (_sweep("policy.interval=1e999:1e999:1 h"), "--vary"),
+    "application-factor-huge": (_life("--application-factor", "1e300"), "--application-factor"),
+    "application-factor-inf": (_life("--application-factor", "inf"), "--application-factor"),
+    "viscosity-ratio-inf": (_life("--viscosity-ratio", "inf"), "--viscosity-ratio"),
+    "cluster-bogus": (_run(args=("--cluster", "bogus")), "--cluster"),
+    "cluster-empty": (_run(args=("--cluster", "")), "--cluster"),
+    "failure-cost-huge": (_run(("failure = 1000", "failure = 1e308")), "costs.failure"),
+    "lognormal-lead-time-huge": (
+        _run(('lead_time = "5 d"',
+              'lead_time = { kind = "lognormal", median = "5 d", p90 = "1e30 h" }'),
+             extra='\n[stores.B1]\nreorder_point = 0\norder_up_to = 1\n'),
+        "lead_time.p90"),
+    "weibull-lead-time-tiny-shape": (
+        _run(('lead_time = "5 d"', 'lead_time = { kind = "weibull", shape = 1e-6, scale = "5 d" }'),
+             extra='\n[stores.B1]\nreorder_point = 0\norder_up_to = 1\n'),
+        "lead_time.shape"),
+    "life-shape-tiny": (
+        _run(('  radial_load = "3 kN"\n  speed = "1480 rpm"\n',
+              '  life = { shape = 0.001, scale = "20000 h" }\n')),
+        "life.shape"),
+    "horizon-tiny": (_check(('horizon = "2 years"', 'horizon = "1e-300 h"')), "study.horizon"),
+    "speed-tiny": (_check(('speed = "1480 rpm"', 'speed = "1e-300 rpm"')), "position[0].speed"),
+    "catalogue-l10-tiny": (
+        lambda tmp: ["fit", str(ROOT / "scenarios" / "records" / "pump_bearings.csv"),
+                     "--group-by", "position", "--catalog-l10", "1e-300 h"],
+        "--catalog-l10"),
+    "bom-toml": (_bom, "seed"),
+    "key-path-negative-index": (
+        _run(extra=VARIANT.format(name="v", set='{ "machine[-1].count" = 3 }')), "machine[-1]"),
+    "variant-duplicate-name": (
+        _check(extra=VARIANT.format(name="v", set='{ "policy.interval" = "1000 h" }') * 2),
+        "variant[1].name"),
+    "variant-negative-interval": (
+        _check(extra=VARIANT.format(name="v", set='{ "policy.interval" = "-1000 h" }')),
+        "policy.interval"),
+    "variant-unknown-key": (
+        _check(extra=VARIANT.format(name="v", set='{ "policy.intervall" = "1000 h" }')),
+        "intervall"),
+    "variant-description-not-text": (
+        _check(extra=VARIANT.format(name="v", set='{ "policy.interval" = "1000 h" }')
+               + "description = 3\n"),
+        "variant[0].description"),
+}
+
+
+@pytest.mark.parametrize("case", sorted(ISSUE_17))
+def test_issue_17_cases(tmp_path: Path, case: str) -> None:
+    build, words = ISSUE_17[case]
+    message = expect_one_line_error(build(tmp_path), cwd=tmp_path)
+    assert words in message, message
+
+
+def test_a_long_study_name_gives_a_short_report_folder(tmp_path: Path) -> None:
+    path = tiny(tmp_path, [('name = "tiny"', f'name = "{"n" * 245}"')])
+    code, _, err = run_cli(["run", str(path), "--quiet"], cwd=tmp_path)
+    assert code == 0, err
+    assert [p.name for p in (tmp_path / "reports").iterdir()] == ["n" * 64]

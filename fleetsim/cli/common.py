@@ -16,10 +16,15 @@ from fleetsim.units import Kind, parse_quantity
 EXIT_INPUT = 2
 
 
+#: Longest slug (file-system names are limited to 255 bytes; the checkpoint
+#: folder adds a prefix and a suffix).
+MAX_SLUG = 64
+
+
 def slug(name: str) -> str:
-    """A file-system-friendly name: letters, digits, dots, dashes."""
+    """A file-system-friendly name: letters, digits, dots, dashes; at most 64 characters."""
     s = re.sub(r"[^A-Za-z0-9._-]+", "-", name).strip("-._").lower()
-    return s or "study"
+    return s[:MAX_SLUG].rstrip("-._") or "study"
 
 
 def fail(message: str, code: int = EXIT_INPUT) -> int:

@@ -8,6 +8,7 @@ from typing import Any
 import click
 
 from fleetsim import SAFETY_CAUTION
+from fleetsim.bounds import APPLICATION_FACTOR, ROTATION_FACTOR, VISCOSITY_RATIO
 from fleetsim.cli.common import echo_json, fmt, positive, quantity, table
 from fleetsim.errors import InputError
 from fleetsim.life import (
@@ -32,12 +33,6 @@ MODEL_CHOICE = click.Choice(["iso281", "textbook"])
 def _reliability(value: float, option: str = "--reliability") -> float:
     if not (0.0 < value < 1.0):
         raise InputError(option, f"expected a reliability strictly between 0 and 1, got {value:g}")
-    return value
-
-
-def _factor(value: float, option: str) -> float:
-    if not value > 0:
-        raise InputError(option, f"expected a factor > 0, got {value:g}")
     return value
 
 
@@ -138,8 +133,10 @@ def life(
         raise InputError("--radial-load-b", f"expected a load >= 0, got {fr_b:g} N")
     factors = _catalogue_factors(bearing_type, factor_e, factor_x, factor_y, factor_y1, factor_y0)
     _reliability(reliability)
-    _factor(application_factor, "--application-factor")
-    _factor(rotation_factor, "--rotation-factor")
+    APPLICATION_FACTOR.check(application_factor, "--application-factor")
+    ROTATION_FACTOR.check(rotation_factor, "--rotation-factor")
+    if viscosity_ratio is not None:
+        VISCOSITY_RATIO.check(viscosity_ratio, "--viscosity-ratio")
     assert c is not None and fr is not None and fa is not None and n is not None
     if fr < 0:
         raise InputError("--radial-load", f"expected a load >= 0, got {fr:g} N")
@@ -363,7 +360,7 @@ def size(
     n = positive(quantity(speed, "speed", "--speed"), "--speed", "speed")
     life_h = positive(quantity(life_, "time", "--life"), "--life", "life")
     _reliability(reliability)
-    _factor(application_factor, "--application-factor")
+    APPLICATION_FACTOR.check(application_factor, "--application-factor")
     assert p is not None and n is not None and life_h is not None
     warn_reliability_range(reliability, model)
     required = required_dynamic_rating(

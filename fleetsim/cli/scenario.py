@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import json
 import re
+from collections.abc import Sequence
 from typing import Any
 
 import click
@@ -18,8 +20,8 @@ from fleetsim.scenario import (
     Policy,
     Position,
     Scenario,
-    load_scenario,
 )
+from fleetsim.study.variants import Variant
 
 _COPY = re.compile(r"^(?P<base>.+)#(?P<k>\d+)$")
 
@@ -163,8 +165,8 @@ def _columns(rows: list[list[str]], right: set[int]) -> str:
     return "\n".join(lines)
 
 
-def check_report(scenario: Scenario) -> str:
-    """The readable ``check`` output: a summary and one row per position kind."""
+def check_report(scenario: Scenario, variants: Sequence[Variant] = ()) -> str:
+    """The readable ``check`` output: a summary, one row per position kind, the variants."""
     s = scenario
     units = sum(m.count for m in s.machines)
     summary = [
@@ -263,6 +265,9 @@ def check_report(scenario: Scenario) -> str:
             _columns(rows, right={1, 4, 5, 6, 7, 8, 9, 10, 11, 12}),
             "",
             notes,
+            "",
+            describe_variants(variants),
+            "",
             SAFETY_CAUTION,
         ]
     )
@@ -313,9 +318,59 @@ def check_json(scenario: Scenario) -> dict[str, Any]:
 @click.argument("scenario_file", metavar="SCENARIO", type=click.Path(dir_okay=False))
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
 def check(scenario_file: str, as_json: bool) -> None:
-    """Validate a scenario file and show the derived life model of every position."""
-    scenario = load_scenario(scenario_file)
+    """Validate a scenario file and its [[variant]]s; show every position's life model."""
+    from fleetsim.scenario.loader import text_digest
+    from fleetsim.study.variants import file_variants, read_document
+
+    document, text = read_document(scenario_file)
+    variants = file_variants(document, scenario_file, text_digest(text))
+    scenario = variants[0].scenario
     if as_json:
-        echo_json(check_json(scenario))
+        echo_json({**check_json(scenario), "variants": variants_json(variants[1:])})
     else:
-        click.echo(check_report(scenario))
+        click.echo(check_report(scenario, variants[1:]))
+
+
+def variants_json(variants: Sequence[Variant]) -> list[dict[str, Any]]:
+    """The ``variants`` list of ``check --json``: name, description and the values set."""
+    return [
+        {"name": v.name, "description": v.description,
+         "set": {path: _plain(value) for path, value in v.overrides}}
+        for v in variants
+    ]
+
+
+def _plain(value: Any) -> Any:
+    """A TOML value as JSON (dates and times as text)."""
+    if isinstance(value, dict):
+        return {k: _plain(v) for k, v in value.items()}
+    if isinstance(value, list):
+        return [_plain(v) for v in value]
+    if isinstance(value, (str, int, float, bool)):
+        return value
+    return str(value)
+
+
+def _inline(value: Any) -> str:
+    """A value as TOML would write it inline: ``{ kind = "age", interval = "20000 h" }``."""
+    if isinstance(value, dict):
+        return "{ " + ", ".join(f"{k} = {_inline(v)}" for k, v in value.items()) + " }"
+    if isinstance(value, list):
+        return "[" + ", ".join(_inline(v) for v in value) + "]"
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, str):
+        return json.dumps(value, ensure_ascii=False)
+    return str(value)
+
+
+def describe_variants(variants: Sequence[Variant]) -> str:
+    """The readable list of variants for ``check``: name, description, what it sets."""
+    if not variants:
+        return "Variants: none (the file as written is the only case)"
+    lines = [f"Variants (each compared with the file as written, on the same seed): {len(variants)}"]
+    for v in variants:
+        lines.append(f"  {v.name}" + (f" — {v.description}" if v.description else ""))
+        sets = "; ".join(f"{path} = {_inline(value)}" for path, value in v.overrides)
+        lines.append(f"    sets {sets}")
+    return "\n".join(lines)

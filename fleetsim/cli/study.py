@@ -11,6 +11,7 @@ from typing import TYPE_CHECKING, Any
 import click
 
 from fleetsim import SAFETY_CAUTION
+from fleetsim.bounds import MAX_REPLICATIONS
 from fleetsim.cli.common import echo_json, slug
 from fleetsim.errors import InputError
 from fleetsim.seed import check_seed
@@ -79,11 +80,17 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
 
 
 def _check_options(replications: int | None, seed: int | None, workers: int,
-                   cluster: str | None) -> None:
-    if replications is not None and replications < 1:
-        raise InputError("--replications", f"expected at least 1, got {replications}")
+                   cluster: str | None, out: str | None = None) -> None:
+    """Refuse bad options before any work starts."""
+    from fleetsim.report.writer import check_report_folder
+
+    if replications is not None and not 1 <= replications <= MAX_REPLICATIONS:
+        raise InputError("--replications",
+                         f"expected 1 to {MAX_REPLICATIONS:,}, got {replications}")
     if seed is not None:
         check_seed(seed, "--seed")
+    if out is not None:
+        check_report_folder(out, "--out")
     _workers(workers)
     if cluster is not None:
         from fleetsim.study.cluster import check_cluster
@@ -91,9 +98,13 @@ def _check_options(replications: int | None, seed: int | None, workers: int,
         check_cluster(cluster, "--cluster")
 
 
+def _max_workers() -> int:
+    return max(64, 4 * (os.cpu_count() or 1))
+
+
 def _workers(n: int) -> int:
-    if n < 0:
-        raise InputError("--workers", f"expected 0 (all cores) or more, got {n}")
+    if not 0 <= n <= _max_workers():
+        raise InputError("--workers", f"expected 0 (all cores) to {_max_workers()}, got {n}")
     return n or (os.cpu_count() or 1)
 
 
@@ -183,14 +194,13 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
         workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool,
         param_draws: int | None = None) -> None:
     """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
-    _check_options(replications, seed, workers, cluster)
+    _check_options(replications, seed, workers, cluster, out)
+    from fleetsim.scenario.loader import text_digest
     from fleetsim.study import choose_engine
     from fleetsim.study.variants import file_variants, read_document
 
     document, text = read_document(scenario)
-    import hashlib
-
-    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+    digest = text_digest(text)
     variants = file_variants(document, scenario, digest)
     base = variants[0].scenario
     chosen, why = choose_engine(base, engine)
@@ -206,8 +216,11 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
     results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
                                 workers=_workers(workers), cluster=cluster, quiet=quiet,
                                 resume=resume, out_dir=out_dir)
-    _finish(results, out_dir, ck, base.study.name, as_json, quiet,
-            {"scenario_file": Path(scenario).name, "engine_choice": why})
+    extra: dict[str, Any] = {"scenario_file": Path(scenario).name, "engine_choice": why}
+    described = {v.name: v.description for v in variants if v.description}
+    if described:
+        extra["variant_descriptions"] = described
+    _finish(results, out_dir, ck, base.study.name, as_json, quiet, extra)
 
 
 def _parse_vary(items: tuple[str, ...]) -> list[tuple[str, list[Any]]]:
@@ -241,18 +254,17 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
           seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
           resume: bool, quiet: bool, as_json: bool, param_draws: int | None = None) -> None:
     """Run every combination of --vary values on common random numbers and mark the best."""
-    _check_options(replications, seed, workers, cluster)
-    import hashlib
-
+    _check_options(replications, seed, workers, cluster, out)
     import pandas as pd
 
+    from fleetsim.scenario.loader import text_digest
     from fleetsim.study.advice import analytic_cost_curve
     from fleetsim.study.summary import figure_estimate
     from fleetsim.study.variants import grid_variants, read_document, value_label
     from fleetsim.units import parse_quantity
 
     document, text = read_document(scenario)
-    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
+    digest = text_digest(text)
     varies = _parse_vary(vary)
     variants = grid_variants(document, varies, scenario, digest)
     if len(variants) > 200:

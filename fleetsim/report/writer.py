@@ -249,9 +249,27 @@ def _is_report_dir(path: Path) -> bool:
     return isinstance(doc, dict) and doc.get("report_format") == summary_json.REPORT_FORMAT
 
 
-def _check_target(out_dir: Path) -> None:
+def check_report_folder(out_dir: str | Path, where: str | None = None) -> None:
+    """Refuse a report folder that cannot be one: a file, or a path below a file.
+
+    Checked by the command line before any work starts; ``where`` names the
+    option in the message (default: the path).
+    """
+    out_dir = Path(out_dir)
+    where = where or str(out_dir)
     if out_dir.exists() and not out_dir.is_dir():
-        raise InputError(str(out_dir), "expected a directory for the report, found a file")
+        raise InputError(where, f"expected a folder for the report, {str(out_dir)!r} is a file")
+    for parent in out_dir.parents:
+        if parent.exists():
+            if not parent.is_dir():
+                raise InputError(
+                    where, f"expected a folder for the report, {str(parent)!r} is a file"
+                )
+            break
+
+
+def _check_target(out_dir: Path) -> None:
+    check_report_folder(out_dir)
     if out_dir.is_dir() and any(out_dir.iterdir()) and not _is_report_dir(out_dir):
         raise InputError(
             str(out_dir),

@@ -42,6 +42,13 @@ from os import PathLike
 from pathlib import Path
 from typing import Any
 
+from fleetsim.bounds import (
+    MAX_REPLICATIONS,
+    MIN_HORIZON_H,
+    MONEY,
+    VISCOSITY_RATIO,
+    WEIBULL_SHAPE,
+)
 from fleetsim.errors import InputError, LifeModelWarning
 from fleetsim.life import BearingType, LoadFactors, WeibullShape, life_shape
 from fleetsim.scenario.ages import apply_ages, scenario_folder
@@ -138,15 +145,52 @@ def load_scenario(path: str | PathLike[str]) -> Scenario:
         When the file cannot be read, is not TOML, or fails validation.
     """
     name = str(path)
+    return parse_scenario(read_text(path), source=name)
+
+
+def read_text(path: str | PathLike[str]) -> str:
+    """The text of a scenario file (UTF-8; a leading byte-order mark is dropped).
+
+    A BOM is accepted as in the CSV files (:mod:`fleetsim.csvtable`).
+    """
+    name = str(path)
     try:
         text = Path(path).read_text(encoding="utf-8")
     except FileNotFoundError:
         raise InputError(name, "scenario file not found") from None
+    except IsADirectoryError:
+        raise InputError(name, "expected a scenario file, found a directory") from None
     except UnicodeDecodeError:
         raise InputError(name, "expected a UTF-8 text file (TOML)") from None
     except OSError as exc:
         raise InputError(name, f"cannot read the scenario file ({exc.strerror or exc})") from None
-    return parse_scenario(text, source=name)
+    return text
+
+
+#: Deepest nesting of arrays and tables accepted in a scenario document.
+MAX_DEPTH = 32
+
+
+def parse_toml(text: str, source: str) -> dict[str, Any]:
+    """Parse TOML text (a leading byte-order mark ignored), at most :data:`MAX_DEPTH` deep."""
+    try:
+        document = tomllib.loads(text.removeprefix("\ufeff"))
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(source, f"TOML syntax error: {exc}") from None
+    except RecursionError:
+        raise InputError(
+            source, f"arrays or tables nested too deeply (expected at most {MAX_DEPTH} levels)"
+        ) from None
+    stack: list[tuple[Any, int]] = [(document, 1)]
+    while stack:
+        node, depth = stack.pop()
+        if depth > MAX_DEPTH:
+            raise InputError(
+                source, f"arrays or tables nested too deeply (expected at most {MAX_DEPTH} levels)"
+            )
+        children = node.values() if isinstance(node, dict) else node
+        stack.extend((c, depth + 1) for c in children if isinstance(c, (dict, list)))
+    return document
 
 
 def parse_scenario(text: str, source: str = "<memory>") -> Scenario:
@@ -164,12 +208,13 @@ def parse_scenario(text: str, source: str = "<memory>") -> Scenario:
     Scenario
         With :attr:`Scenario.digest` the SHA-256 of ``text`` (UTF-8).
     """
-    try:
-        document = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(source, f"TOML syntax error: {exc}") from None
-    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
-    return build_scenario(document, source=source, digest=digest)
+    document = parse_toml(text, source)
+    return build_scenario(document, source=source, digest=text_digest(text))
+
+
+def text_digest(text: str) -> str:
+    """SHA-256 of a scenario's text (UTF-8), its fingerprint in reports and checkpoints."""
+    return hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
 
 
 def build_scenario(
@@ -237,7 +282,12 @@ def _study(t: Table | None, source: str) -> Study:
     stem = Path(source).stem if not source.startswith("<") else "scenario"
     name = t.text("name", stem or "scenario")
     horizon = t.quantity("horizon", "time", positive=True)
-    reps = t.integer("replications", 100, minimum=1, what="a number of replications")
+    if horizon < MIN_HORIZON_H:
+        raise t.error("horizon", f"expected a horizon of at least {MIN_HORIZON_H:g} h, "
+                                 f"got {show(t.raw('horizon'))}")
+    reps = t.integer(
+        "replications", 100, minimum=1, maximum=MAX_REPLICATIONS, what="a number of replications"
+    )
     seed = check_seed(t.raw("seed", 0, SEED_EXPECTED), where=t.where("seed"))
     return Study(name=name, horizon_h=horizon, replications=reps, seed=seed)
 
@@ -245,7 +295,7 @@ def _study(t: Table | None, source: str) -> Study:
 def _costs(t: Table | None) -> Costs:
     if t is None:
         return Costs()
-    money: NumberOptions = {"minimum": 0.0, "what": "an amount of money"}
+    money: NumberOptions = {"within": MONEY}
     return Costs(
         currency=t.text("currency", "EUR"),
         planned_replacement=t.number("planned_replacement", 0.0, **money),
@@ -275,7 +325,7 @@ def _life_defaults(t: Table | None) -> LifeDefaults:
         m = Table(raw, join(t.path, "model"), t.source, FIELD_LIFE_KEYS)
         l10 = "(in units of L10, a bare number)"
         model = WeibullShape(
-            shape=m.number("shape", minimum=0.0, exclusive_minimum=True, what="a Weibull shape"),
+            shape=m.number("shape", within=WEIBULL_SHAPE),
             location=m.number("location", minimum=0.0, what=f"a location {l10}"),
             scale=m.number("scale", minimum=0.0, exclusive_minimum=True, what=f"a scale {l10}"),
         )
@@ -292,9 +342,7 @@ def _life_defaults(t: Table | None) -> LifeDefaults:
         model = life_shape(name)
     return LifeDefaults(
         model=model,
-        viscosity_ratio=t.number(
-            "viscosity_ratio", None, minimum=0.0, exclusive_minimum=True, what="a viscosity ratio κ"
-        ),
+        viscosity_ratio=t.number("viscosity_ratio", None, within=VISCOSITY_RATIO),
         contamination=t.probability("contamination", None, what="a contamination factor e_C"),
         pf_interval=t.duration("pf_interval", None, positive=True),
     )
@@ -341,7 +389,7 @@ def _bearings(
             dynamic_rating_N=t.quantity("dynamic_rating", "force", positive=True),
             static_rating_N=t.quantity("static_rating", "force", None, positive=True),
             fatigue_limit_N=t.quantity("fatigue_limit", "force", None, positive=True),
-            price=t.number("price", 0.0, minimum=0.0, what="a price"),
+            price=t.number("price", 0.0, within=MONEY),
             factors=factors,
             bore_mm=t.number("bore_mm", None, minimum=0.0, exclusive_minimum=True,
                              what="a bore diameter in mm"),
@@ -435,7 +483,7 @@ def _stores(root: Table, bearings: dict[str, Bearing], lead: dict[str, Any]) -> 
                 f"missing required key 'lead_time': give it here or on the bearing {bid!r}",
             )
         emergency = t.duration("emergency_lead_time", None)
-        premium = t.number("emergency_premium", 0.0, minimum=0.0, what="an amount of money")
+        premium = t.number("emergency_premium", 0.0, within=MONEY)
         if emergency is None and t.has("emergency_premium"):
             raise t.error("emergency_premium", "an emergency premium needs emergency_lead_time")
         stores[bid] = Stock(

@@ -12,6 +12,13 @@ import math
 import warnings
 from dataclasses import dataclass, field
 
+from fleetsim.bounds import (
+    APPLICATION_FACTOR,
+    FIELD_FACTOR,
+    ROTATION_FACTOR,
+    VISCOSITY_RATIO,
+    WEIBULL_SHAPE,
+)
 from fleetsim.errors import InputError
 from fleetsim.life import (
     Arrangement,
@@ -25,7 +32,7 @@ from fleetsim.life import (
 )
 from fleetsim.scenario.model import HOURS_PER_YEAR, Bearing, Duration, Machine, Policy, Position
 from fleetsim.scenario.policies import read_policy
-from fleetsim.scenario.reader import NumberBounds, Table, join, show, suggest
+from fleetsim.scenario.reader import Table, join, show, suggest
 
 #: Upper limit on ``count`` of machines and positions (a guard against typos).
 MAX_COUNT = 100_000
@@ -144,9 +151,7 @@ def _positions(
     if bid not in index.bearings:
         raise t.error("bearing", f"no [[bearing]] with id {bid!r}{suggest(bid, index.bearings)}")
     bearing = index.bearings[bid]
-    field_factor = t.number(
-        "field_factor", 1.0, minimum=0.0, exclusive_minimum=True, what="a field factor"
-    )
+    field_factor = t.number("field_factor", 1.0, within=FIELD_FACTOR)
     policy = default_policy
     if t.has("policy"):
         policy = read_policy(t.raw("policy"), join(t.path, "policy"), t.source)
@@ -198,7 +203,7 @@ def _positions(
 
 def _field_life(t: Table) -> LifeDistribution:
     return LifeDistribution(
-        shape=t.number("shape", minimum=0.0, exclusive_minimum=True, what="a Weibull shape"),
+        shape=t.number("shape", within=WEIBULL_SHAPE),
         scale_h=t.quantity("scale", "time", positive=True),
         location_h=t.quantity("location", "time", 0.0),
     )
@@ -229,10 +234,7 @@ def _duty(t: Table) -> list[DutyStep]:
                 axial_load_N=s.quantity("axial_load", "force", 0.0),
                 speed_rpm=s.quantity("speed", "speed", positive=True),
                 radial_load_b_N=s.quantity("radial_load_b", "force", None),
-                viscosity_ratio=s.number(
-                    "viscosity_ratio", None, minimum=0.0, exclusive_minimum=True,
-                    what="a viscosity ratio κ",
-                ),
+                viscosity_ratio=s.number("viscosity_ratio", None, within=VISCOSITY_RATIO),
             )
         )
         if out[-1].radial_load_N == 0 and out[-1].axial_load_N == 0:
@@ -266,12 +268,9 @@ def _derive(t: Table, bearing: Bearing, bearing_path: str, defaults: LifeDefault
         ]
     arrangement = t.text("arrangement", Arrangement.SINGLE.value,
                          choices=[a.value for a in Arrangement])
-    factor: NumberBounds = {"minimum": 0.0, "exclusive_minimum": True}
-    application = t.number("application_factor", 1.0, what="an application factor a_f", **factor)
-    rotation = t.number("rotation_factor", 1.0, what="a rotation factor V", **factor)
-    kappa = t.number(
-        "viscosity_ratio", defaults.viscosity_ratio, what="a viscosity ratio κ", **factor
-    )
+    application = t.number("application_factor", 1.0, within=APPLICATION_FACTOR)
+    rotation = t.number("rotation_factor", 1.0, within=ROTATION_FACTOR)
+    kappa = t.number("viscosity_ratio", defaults.viscosity_ratio, within=VISCOSITY_RATIO)
     e_c = t.probability("contamination", defaults.contamination, what="a contamination factor e_C")
     lubrication = None
     if kappa is None and e_c is not None and steps and all(

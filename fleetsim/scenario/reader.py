@@ -18,6 +18,7 @@ import re
 from collections.abc import Iterable, Mapping
 from typing import Any, TypedDict
 
+from fleetsim.bounds import MAX_LOGNORMAL_SPREAD, WEIBULL_SHAPE, Range
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Duration
 from fleetsim.units import Kind, parse_quantity
@@ -84,6 +85,7 @@ class NumberOptions(NumberBounds, total=False):
     """Bounds and description of :meth:`Table.number` that several keys share."""
 
     what: str
+    within: Range | None
 
 
 class Table:
@@ -176,8 +178,15 @@ class Table:
         exclusive_minimum: bool = False,
         exclusive_maximum: bool = False,
         what: str = "a number",
+        within: Range | None = None,
     ) -> Any:
-        """A finite bare number (int or float, not a boolean) within bounds."""
+        """A finite bare number (int or float, not a boolean) within bounds.
+
+        ``within`` gives the bounds and the name of a value listed in
+        :mod:`fleetsim.bounds` (instead of ``minimum``, ``maximum`` and ``what``).
+        """
+        if within is not None:
+            minimum, maximum, what = within.low, within.high, within.what
         value = self.raw(key, default, what)
         if key not in self.data:
             return value
@@ -292,8 +301,14 @@ class Table:
             p90 = t.quantity("p90", "time", positive=True)
             if not p90 > median:
                 raise t.error("p90", f"expected p90 > median ({median:g} h), got {p90:g} h")
+            if p90 > MAX_LOGNORMAL_SPREAD * median:
+                raise t.error(
+                    "p90",
+                    f"expected p90 at most {MAX_LOGNORMAL_SPREAD:g} × the median "
+                    f"({median:g} h), got {p90:g} h",
+                )
             return Duration("lognormal", median, p90_h=p90)
-        shape = t.number("shape", minimum=0.0, exclusive_minimum=True, what="a Weibull shape")
+        shape = t.number("shape", within=WEIBULL_SHAPE)
         return Duration("weibull", t.quantity("scale", "time", positive=True), shape=shape)
 
     # --- nested tables --------------------------------------------------------------

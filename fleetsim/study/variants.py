@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import copy
 import itertools
+import math
 import re
 import tomllib
 from collections.abc import Mapping, Sequence
@@ -32,7 +33,9 @@ from typing import Any
 
 from fleetsim.errors import InputError
 from fleetsim.scenario import build_scenario
+from fleetsim.scenario.loader import parse_toml, read_text
 from fleetsim.scenario.model import Scenario
+from fleetsim.scenario.reader import show
 
 _STEP = re.compile(r"^([^\[\]]+)((?:\[[^\]]+\])*)$")
 
@@ -44,21 +47,13 @@ class Variant:
     name: str
     overrides: tuple[tuple[str, Any], ...]
     scenario: Scenario
+    description: str = ""
 
 
 def read_document(path: str | Path) -> tuple[dict[str, Any], str]:
     """The parsed TOML document of a scenario file and its text."""
-    name = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError(name, "scenario file not found") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(name, f"cannot read the scenario file ({exc})") from None
-    try:
-        return tomllib.loads(text), text
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(name, f"TOML syntax error: {exc}") from None
+    text = read_text(path)
+    return parse_toml(text, str(path)), text
 
 
 def _steps(path: str, where: str) -> list[str | int]:
@@ -70,7 +65,11 @@ def _steps(path: str, where: str) -> list[str | int]:
                                     f"machine[0].position[drive-end].policy, got {path!r}")
         out.append(m.group(1))
         for idx in re.findall(r"\[([^\]]+)\]", m.group(2)):
-            out.append(int(idx) if idx.strip().lstrip("-").isdigit() else idx.strip())
+            idx = idx.strip()
+            if re.fullmatch(r"[-+]\d+", idx):
+                raise InputError(where, f"expected an index >= 0 (arrays count from 0) or an id, "
+                                        f"got [{idx}] in {path!r}")
+            out.append(int(idx) if idx.isdigit() else idx)
     return out
 
 
@@ -90,7 +89,7 @@ def set_path(document: Mapping[str, Any], path: str, value: Any, where: str = ""
     for i, step in enumerate(steps):
         last = i == len(steps) - 1
         if isinstance(step, int):
-            if not isinstance(node, list) or not -len(node) <= step < len(node):
+            if not isinstance(node, list) or not 0 <= step < len(node):
                 raise InputError(where, f"no entry [{step}] at {path!r}")
             if last:
                 node[step] = value
@@ -123,7 +122,7 @@ def parse_value(text: str) -> Any:
     """A command-line value: a TOML value when it parses as one, else the string itself."""
     try:
         return tomllib.loads(f"v = {text}")["v"]
-    except tomllib.TOMLDecodeError:
+    except (tomllib.TOMLDecodeError, RecursionError):
         return text.strip()
 
 
@@ -143,11 +142,14 @@ def parse_values(text: str, where: str) -> list[Any]:
             start, stop, step = (float(rng.group(k)) for k in (1, 2, 3))
         except ValueError:
             raise InputError(where, f"expected START:STOP:STEP [unit], got {text!r}") from None
+        if not all(math.isfinite(x) for x in (start, stop, step)):
+            raise InputError(where, f"expected finite START, STOP and STEP, got {text!r}")
         if step <= 0 or stop < start:
             raise InputError(where, f"expected STOP >= START and STEP > 0, got {text!r}")
-        n = int((stop - start) / step + 1e-9) + 1
-        if n > 1000:
-            raise InputError(where, f"the range gives {n} values; expected at most 1000")
+        count = (stop - start) / step + 1e-9 + 1
+        if not count <= 1000:
+            raise InputError(where, f"the range gives {count:.4g} values; expected at most 1000")
+        n = int(count)
         unit = rng.group(4).strip()
         values = [start + k * step for k in range(n)]
         return [f"{v:g} {unit}" if unit else (int(v) if float(v).is_integer() else v) for v in values]
@@ -191,16 +193,21 @@ def value_label(value: Any) -> str:
 
 
 def build_variant(document: Mapping[str, Any], overrides: Sequence[tuple[str, Any]], name: str,
-                  source: str, digest: str) -> Variant:
+                  source: str, digest: str, description: str = "") -> Variant:
     """Apply overrides to a document and validate the result."""
     doc = {k: v for k, v in document.items() if k != "variant"}
     for path, value in overrides:
         doc = set_path(doc, path, value, where=f"{source}: variant {name!r}: {path}")
-    try:
-        sc = build_scenario(doc, source=f"{source} [{name}]", digest=digest)
+    try:  # the base case (no overrides) is named as the file is
+        label = f"{source} [{name}]" if overrides else source
+        sc = build_scenario(doc, source=label, digest=digest)
     except InputError as exc:
         raise InputError(exc.where, exc.expected) from None
-    return Variant(name=name, overrides=tuple(overrides), scenario=sc)
+    return Variant(name=name, overrides=tuple(overrides), scenario=sc, description=description)
+
+
+#: Longest variant description, characters.
+MAX_DESCRIPTION = 2000
 
 
 def file_variants(document: Mapping[str, Any], source: str, digest: str) -> list[Variant]:
@@ -219,15 +226,23 @@ def file_variants(document: Mapping[str, Any], source: str, digest: str) -> list
         if extra:
             raise InputError(f"{where}.{sorted(extra)[0]}", "expected only name, set and description")
         name = entry.get("name")
-        if not isinstance(name, str) or not name.strip():
-            raise InputError(f"{where}.name", "expected a non-empty name")
+        if not isinstance(name, str) or not name.strip() or not name.isprintable():
+            raise InputError(f"{where}.name", f"expected a non-empty printable name, "
+                                              f"got {show(name)}")
         if name in seen:
             raise InputError(f"{where}.name", f"expected a unique name, {name!r} is used twice")
         seen.add(name)
+        description = entry.get("description", "")
+        if not isinstance(description, str):
+            raise InputError(f"{where}.description", f"expected text, got {show(description)}")
+        if len(description) > MAX_DESCRIPTION:
+            raise InputError(f"{where}.description", f"expected at most {MAX_DESCRIPTION} "
+                                                     f"characters, got {len(description)}")
         sets = entry.get("set", {})
         if not isinstance(sets, dict) or not sets:
             raise InputError(f"{where}.set", "expected a table of key paths and values")
-        out.append(build_variant(document, list(sets.items()), name, source, digest))
+        out.append(build_variant(document, list(sets.items()), name, source, digest,
+                                 " ".join(description.split())))
     return out
 
 
