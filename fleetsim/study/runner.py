@@ -17,6 +17,10 @@ from __future__ import annotations
 import json
 import math
 import os
+import signal
+import sys
+import threading
+import time
 from collections.abc import Callable, Iterable, Mapping
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from pathlib import Path
@@ -44,9 +48,56 @@ def _run_chunk(task: ReplicationTask, payload: Any, seed: int, indexes: list[int
 
 _WORKER: dict[str, Any] = {}
 
+#: How often a pool worker checks that the process that started it still runs, seconds.
+PARENT_POLL_S = 0.5
 
-def _init_worker(task: ReplicationTask, payload: Any, seed: int) -> None:
-    """Process-pool initializer: receive the task and its payload once per worker."""
+
+def watch_parent(parent_pid: int, poll_s: float = PARENT_POLL_S) -> None:
+    """Make this process exit as soon as ``parent_pid`` is gone, whatever killed it.
+
+    On Linux the kernel sends SIGKILL when the parent dies (``PR_SET_PDEATHSIG``);
+    everywhere, a daemon thread checks every ``poll_s`` seconds that the parent
+    is still this process's parent (a worker whose parent died is re-parented)
+    and ends the process with ``os._exit`` otherwise. So a pool worker never
+    outlives a study killed with SIGKILL, and never holds the caller's standard
+    output and error open.
+    """
+    if sys.platform.startswith("linux"):
+        try:
+            import ctypes
+
+            libc = ctypes.CDLL(None, use_errno=True)
+            libc.prctl(1, signal.SIGKILL, 0, 0, 0)  # PR_SET_PDEATHSIG = 1
+        except (OSError, AttributeError):
+            pass
+    # With the fork and spawn start methods the parent is the study's process;
+    # with forkserver it is the fork server, which exits when the study's does.
+    watched = os.getppid()
+    if watched == 1 or not _alive(parent_pid):  # the study died before the watch started
+        os._exit(1)
+
+    def poll() -> None:
+        while True:
+            time.sleep(poll_s)
+            if os.getppid() != watched:
+                os._exit(1)
+
+    threading.Thread(target=poll, name="fleetsim-parent-watch", daemon=True).start()
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True
+    return True
+
+
+def _init_worker(task: ReplicationTask, payload: Any, seed: int, parent_pid: int) -> None:
+    """Process-pool initializer: watch the parent; receive the task and its payload once."""
+    watch_parent(parent_pid)
     _WORKER.update(task=task, payload=payload, seed=seed)
 
 
@@ -204,7 +255,8 @@ def _run_in_pool(
 ) -> None:
     """Run chunks in a local process pool, recording them in the order they finish."""
     pool = ProcessPoolExecutor(
-        max_workers=workers, initializer=_init_worker, initargs=(task, payload, seed)
+        max_workers=workers, initializer=_init_worker,
+        initargs=(task, payload, seed, os.getpid()),
     )
     try:
         pending: set[Future] = {pool.submit(_run_chunk_in_worker, chunk) for chunk in chunks}
