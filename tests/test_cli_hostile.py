@@ -195,3 +195,45 @@ def test_a_long_study_name_gives_a_short_report_folder(tmp_path: Path) -> None:
     code, _, err = run_cli(["run", str(path), "--quiet"], cwd=tmp_path)
     assert code == 0, err
     assert [p.name for p in (tmp_path / "reports").iterdir()] == ["n" * 64]
+
+
+# --- event storms ---------------------------------------------------------------------
+STORMS = {
+    "1 h lives, no repair time": [
+        ('  radial_load = "3 kN"\n  speed = "1480 rpm"\n', '  life = { shape = 1.5, scale = "1 h" }\n'),
+        ('kind = "age"\ninterval = "20000 h"', 'kind = "run-to-failure"'),
+    ],
+    "an inspection every minute": [
+        ('kind = "age"\ninterval = "20000 h"',
+         'kind = "condition"\ninspection_every = "1 min"\ndetection = 0.5'),
+        ("[[bearing]]", '[life]\npf_interval = "30 d"\n\n[[bearing]]'),
+    ],
+}
+
+
+@pytest.mark.parametrize("engine", ["des", "vector"])
+@pytest.mark.parametrize("storm", sorted(STORMS))
+def test_event_storms_stop_at_the_budget(tmp_path: Path, monkeypatch: pytest.MonkeyPatch,
+                                         storm: str, engine: str) -> None:
+    from fleetsim.sim import budget
+
+    monkeypatch.setattr(budget, "MIN_EVENTS", 20_000)  # the storms exceed it in 2 years
+    path = tiny(tmp_path, STORMS[storm])
+    message = expect_one_line_error(
+        ["run", str(path), "--quiet", "--engine", engine, "--out", str(tmp_path / "r")],
+        cwd=tmp_path,
+    )
+    assert message.startswith(f"{path}: more than 20,000 events in one replication: "
+                              "a life or inspection interval is far shorter than the horizon")
+    assert not (tmp_path / "r").exists()
+
+
+def test_the_budget_leaves_ordinary_studies_alone() -> None:
+    from fleetsim.scenario import load_scenario
+    from fleetsim.sim.budget import event_budget
+
+    pumps = load_scenario(PUMPS)
+    positions = sum(m.count * len(m.positions) for m in pumps.machines)
+    # 1,000 events per position-year, at least a million
+    assert event_budget(pumps, pumps.study.horizon_h) == max(
+        1_000_000, int(1000 * positions * pumps.study.horizon_h / 8766))

@@ -16,10 +16,10 @@ import math
 from typing import Any
 
 import numpy as np
-import simpy
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
+from fleetsim.sim.budget import BudgetedEnvironment, event_budget
 from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import discount_for
 from fleetsim.sim.gcpause import gc_paused
@@ -111,7 +111,7 @@ def _run(
     life_sampler: LifeSampler | None,
 ) -> ReplicationResult:
     streams = Streams(root)
-    env = simpy.Environment()
+    env = BudgetedEnvironment(event_budget(scenario, horizon), scenario.source)
     recorder = Recorder(keep_events)
     log = recorder.log if keep_events else None
     discount = discount_for(scenario.costs.discount_rate_per_year)

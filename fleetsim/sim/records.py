@@ -34,6 +34,7 @@ fills too; see :mod:`fleetsim.sim.tally` for the conventions.
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -75,13 +76,18 @@ COUNT_NAMES = (
 )
 
 
+#: Most events kept in a replication's event log (the counts include every event).
+MAX_EVENTS_KEPT = 200_000
+
+
 class Recorder:
     """Mutable counters and the event log of a running replication."""
 
-    __slots__ = ("keep_events", "events", "counts", "pv")
+    __slots__ = ("keep_events", "events", "counts", "pv", "truncated")
 
     def __init__(self, keep_events: bool) -> None:
         self.keep_events = keep_events
+        self.truncated = False
         self.events: list[tuple[float, str, str, str]] = []
         self.counts: dict[str, int] = dict.fromkeys(COUNT_NAMES, 0)
         #: with discounting (:mod:`fleetsim.sim.discount`): the sum of discount factors of
@@ -91,8 +97,13 @@ class Recorder:
             ("failures", "changes", "inspections", "down_h", "lost_operating_h"), 0.0)
 
     def log(self, time_h: float, unit: str, position: str, kind: str) -> None:
-        """Append one event to the log."""
-        self.events.append((time_h, unit, position, kind))
+        """Append one event to the log (the first :data:`MAX_EVENTS_KEPT`; a warning after)."""
+        if len(self.events) < MAX_EVENTS_KEPT:
+            self.events.append((time_h, unit, position, kind))
+        elif not self.truncated:
+            self.truncated = True
+            warnings.warn(f"the event log keeps only the first {MAX_EVENTS_KEPT:,} events of "
+                          "the replication", stacklevel=2)
 
 
 #: A table as columns: ``{column: [values...]}`` (the first column is the index).

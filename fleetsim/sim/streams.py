@@ -55,10 +55,15 @@ class UniformTable:
         self._rows = BLOCK_ROWS
 
     def _grow(self, rows: int) -> None:
-        while rows > self._rows:
-            more = self.rng.random((BLOCK_ROWS, *self.shape))
-            self.data = np.concatenate([self.data, more])
-            self._rows += BLOCK_ROWS
+        if rows <= self._rows:
+            return
+        # At least double (amortised linear time in the rows used); whole blocks, so the
+        # values are those of drawing BLOCK_ROWS rows at a time.
+        target = max(rows, 2 * self._rows)
+        target = -(-target // BLOCK_ROWS) * BLOCK_ROWS
+        more = self.rng.random((target - self._rows, *self.shape))
+        self.data = np.concatenate([self.data, more])
+        self._rows = target
 
     def get(self, k: int, unit: int, position: int) -> float:
         """U[k, unit, position] as a float."""

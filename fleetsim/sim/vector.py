@@ -34,6 +34,7 @@ import math
 import numpy as np
 
 from fleetsim.scenario.model import Duration, Machine, Scenario
+from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
 from fleetsim.sim.discount import Discount, discount_for
 from fleetsim.sim.schedule import compile_plan, inspections_to_detect
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
@@ -358,7 +359,8 @@ class _Lanes:
 
 
 def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: Streams,
-                   horizon_h: float, disc: Discount, keep_intervals: bool) -> _Sums:
+                   horizon_h: float, disc: Discount, keep_intervals: bool,
+                   budget: EventBudget | None = None) -> _Sums:
     """Fast path: each position an independent renewal process (run-to-failure/age).
 
     Every position still inside the horizon advances by exactly one renewal per
@@ -384,6 +386,8 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
     H = horizon_h
     k = 0
     while idx.size:
+        if budget is not None:
+            budget.spend(max(idx.size, ROUND_EVENTS))
         u_life = T_life.row(k).reshape(-1)[idx]
         p = pos[idx]
         age = a0[idx] if k == 0 else 0.0
@@ -438,18 +442,22 @@ def _renewal_exact(machine: Machine, scenario: Scenario) -> bool:
 
 
 def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: Streams,
-                     horizon_h: float, disc: Discount, keep_intervals: bool | None = None) -> _Sums:
+                     horizon_h: float, disc: Discount, keep_intervals: bool | None = None,
+                     budget: EventBudget | None = None) -> _Sums:
     """Simulate all units of one machine type for one replication.
 
     ``keep_intervals``: keep every unit's stops (unit, start, end), by default when
     the scenario has groups (they are replayed through the group tracker).
+    ``budget``: counts the events (one per unit and step, one per position and
+    renewal round, at least ``ROUND_EVENTS`` a step); see :mod:`fleetsim.sim.budget`.
     """
     keep = bool(scenario.groups) if keep_intervals is None else keep_intervals
     if _renewal_exact(machine, scenario):
-        return _renewal_lanes(machine, index, scenario, streams, horizon_h, disc, keep)
+        return _renewal_lanes(machine, index, scenario, streams, horizon_h, disc, keep, budget)
     lanes = _Lanes(machine, index, scenario, streams, horizon_h, disc, keep)
     while lanes.step():
-        pass
+        if budget is not None:
+            budget.spend(max(machine.count, ROUND_EVENTS))
     return lanes.sums
 
 
@@ -517,7 +525,8 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     H = float(scenario.study.horizon_h if horizon_h is None else horizon_h)
     disc = discount_for(scenario.costs.discount_rate_per_year)
     streams = Streams(seed)
-    sums = [simulate_machine(m, i, scenario, streams, H, disc)
+    budget = EventBudget(event_budget(scenario, H), scenario.source)
+    sums = [simulate_machine(m, i, scenario, streams, H, disc, budget=budget)
             for i, m in enumerate(scenario.machines)]
     machines: dict[str, MachineTally] = {}
     issued: dict[str, float] = {b: 0.0 for b in scenario.bearings}

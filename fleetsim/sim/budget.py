@@ -1,0 +1,86 @@
+"""The event budget of one replication: event storms stop with one line, not a full memory.
+
+A scenario whose lives or inspection intervals are far shorter than its
+horizon (1 h lives with 0 h repairs; an inspection every minute for ten
+years) would make an engine process millions of events per position, holding
+them in memory. Each replication may therefore process at most
+
+    max(MIN_EVENTS, EVENTS_PER_POSITION_YEAR × positions × horizon in years)
+
+events (1,000 events per bearing position and simulated year, and at least
+1,000,000), far above any real plant (a weekly inspection is 52 a year); past
+it the replication stops with an :class:`EventBudgetExceeded`, an
+:class:`~fleetsim.errors.InputError` naming the scenario and the likely cause.
+The discrete-event engine counts SimPy events (:class:`BudgetedEnvironment`),
+the vectorised engine the position-events of its rounds, each round at least
+:data:`ROUND_EVENTS` (its fixed cost, whatever the number of lanes).
+"""
+
+from __future__ import annotations
+
+import simpy
+
+from fleetsim.errors import InputError
+from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
+
+#: Events allowed per bearing position and simulated year.
+EVENTS_PER_POSITION_YEAR = 1000
+#: Events always allowed per replication.
+MIN_EVENTS = 1_000_000
+#: What one round (step) of the vectorised engine counts at least.
+ROUND_EVENTS = 64
+
+
+class EventBudgetExceeded(InputError):
+    """A replication needed more events than its budget."""
+
+
+def event_budget(scenario: Scenario, horizon_h: float) -> int:
+    """The number of events one replication of ``scenario`` may process."""
+    positions = sum(m.count * len(m.positions) for m in scenario.machines)
+    years = horizon_h / HOURS_PER_YEAR
+    return max(MIN_EVENTS, int(EVENTS_PER_POSITION_YEAR * positions * years))
+
+
+class EventBudget:
+    """Counts events against a budget; :meth:`spend` raises when it is used up."""
+
+    __slots__ = ("limit", "left", "source")
+
+    def __init__(self, limit: int, source: str = "scenario") -> None:
+        self.limit = limit
+        self.left = limit
+        self.source = source
+
+    def spend(self, events: int) -> None:
+        """Count ``events``; raise :class:`EventBudgetExceeded` past the budget."""
+        self.left -= events
+        if self.left < 0:
+            raise exceeded(self.limit, self.source)
+
+
+def exceeded(limit: int, source: str) -> EventBudgetExceeded:
+    """The one-line error of a replication past its budget."""
+    return EventBudgetExceeded(
+        source,
+        f"more than {limit:,} events in one replication: a life or inspection interval is "
+        "far shorter than the horizon (the budget is "
+        f"{EVENTS_PER_POSITION_YEAR:,} events per bearing position and simulated year)",
+    )
+
+
+class BudgetedEnvironment(simpy.Environment):
+    """A SimPy environment that stops after ``limit`` events with :class:`EventBudgetExceeded`."""
+
+    def __init__(self, limit: int, source: str = "scenario") -> None:
+        super().__init__()
+        self._events_left = limit
+        self._limit = limit
+        self._source = source
+
+    def step(self) -> None:
+        """Process the next event (counted against the budget)."""
+        self._events_left -= 1
+        if self._events_left < 0:
+            raise exceeded(self._limit, self._source)
+        simpy.Environment.step(self)
