@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import contextlib
+import faulthandler
 import io
 import signal
 import traceback
@@ -37,6 +38,9 @@ def run_cli(args: Sequence[str], cwd: Path, limit_s: float = TIME_LIMIT_S) -> tu
     out, err = io.StringIO(), io.StringIO()
     old = signal.signal(signal.SIGALRM, _alarm)
     signal.setitimer(signal.ITIMER_REAL, limit_s)
+    # A hang inside C code (no Python signal handler runs there) ends the test run
+    # with the tracebacks of every thread instead of hanging it.
+    faulthandler.dump_traceback_later(3 * limit_s + 30, exit=True)
     try:
         with (
             contextlib.chdir(cwd),
@@ -51,6 +55,7 @@ def run_cli(args: Sequence[str], cwd: Path, limit_s: float = TIME_LIMIT_S) -> tu
         tb = "".join(traceback.format_exception(exc)[-3:])
         raise AssertionError(f"fleetsim {' '.join(args)}: traceback\n{tb}") from None
     finally:
+        faulthandler.cancel_dump_traceback_later()
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, old)
     return code, out.getvalue(), err.getvalue()
