@@ -222,3 +222,46 @@ def test_parameter_uncertainty_on_one_local_cluster(tmp_path: Path, capsys, monk
     assert main([*args, "--cluster", "local", "--workers", "2"]) == 0
     on_dask = json.loads(capsys.readouterr().out)["figures"]
     assert len(started) == 1 and on_dask == plain
+
+
+def test_fitted_life_with_covariance_is_drawn(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    # fit --life-out: the recommended Weibull of about 10 failures with the covariance of
+    # (ln scale, ln shape); its variances are the reliability package's SE² / estimate²
+    # (Fit_Weibull_2P alpha_SE, beta_SE: the delta method for the logarithm)
+    from fleetsim.cli import main
+    from fleetsim.fit.adapter import _fitters
+
+    rng = np.random.default_rng(np.random.SeedSequence(21))
+    life = 40_000.0 * rng.weibull(1.6, 14)
+    cens = rng.uniform(0.0, 60_000.0, 14)
+    rec = tmp_path / "r.csv"
+    rows = [f"drive-end,DB-1,{min(t, c):.1f},{'failed' if t <= c else 'still-running'}"
+            for t, c in zip(life, cens, strict=True)]  # fmt: skip
+    rec.write_text("position,bearing,hours,outcome\n" + "\n".join(rows) + "\n", encoding="utf-8")
+    out = tmp_path / "lives.toml"
+    code = main(["fit", str(rec), "--group-by", "position", "--life-out", str(out), "--json"])
+    capsys.readouterr()
+    assert code == 0
+    import tomllib
+
+    entry = tomllib.loads(out.read_text())["fitted_life"][0]
+    f, s = life[life <= cens], cens[life > cens]
+    with np.errstate(all="ignore"):
+        ref = _fitters().Fit_Weibull_2P(failures=f, right_censored=s, show_probability_plot=False,
+                                        print_results=False)  # fmt: skip
+    assert entry["model"] == "weibull_2p"
+    np.testing.assert_allclose(entry["covariance"][0][0], (ref.alpha_SE / ref.alpha) ** 2, rtol=1e-4)
+    np.testing.assert_allclose(entry["covariance"][1][1], (ref.beta_SE / ref.beta) ** 2, rtol=1e-4)
+    # the fan scenario takes the fitted life instead of its derived one
+    path = _scenario(tmp_path)
+    (tmp_path / "factors.toml").write_text(out.read_text())
+    sc = load_scenario(path)
+    pos = sc.machines[0].positions[0]
+    assert pos.derived is None and pos.life.shape == pytest.approx(entry["shape"])
+    doc, _ = read_document(path)
+    res = run_parameter_uncertainty(doc, str(path), "", draws=6)
+    assert len(res.lives) == 1 and not res.uncertain
+    assert res.life_values is not None and np.ptp(res.life_values[:, 0, 1]) > 0
+    plain = estimate(run_study(sc, keep_events=False).figure("cost_per_year"))
+    ci = res.interval("cost_per_year")
+    assert ci.high - ci.low > 1.5 * (plain.high - plain.low), (ci, plain)

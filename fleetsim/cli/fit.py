@@ -31,6 +31,8 @@ from fleetsim.fit import (
     field_factor_snippet,
     fit_field_factor,
     fit_records,
+    fitted_life_entry,
+    fitted_life_snippet,
     probability_plot,
     read_records,
     scaled_sample,
@@ -278,17 +280,17 @@ def _plot_folder(path: str, option: str = "--plot") -> Path:
     return parent
 
 
-def _write_text(text: str, path: str) -> None:
+def _write_text(text: str, path: str, option: str) -> None:
     """Write a text file atomically (a temporary file beside it, then os.replace)."""
     target = Path(path)
-    parent = _plot_folder(path, "--factors-out")
+    parent = _plot_folder(path, option)
     fd, tmp = tempfile.mkstemp(dir=parent, prefix=f".{target.name}.", suffix=".tmp")
     try:
         with os.fdopen(fd, "w", encoding="utf-8") as fh:
             fh.write(text)
         os.replace(tmp, target)
     except OSError as exc:
-        raise InputError("--factors-out", f"cannot write {path!r} ({exc.strerror})") from None
+        raise InputError(option, f"cannot write {path!r} ({exc.strerror})") from None
     finally:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
@@ -356,6 +358,13 @@ def _pairs(values: tuple[str, ...], option: str) -> dict[str, str]:
     metavar="FILE.toml",
     help="With --scenario: write the field factors as [[field_factor]] entries to include.",
 )
+@click.option(
+    "--life-out",
+    "life_out",
+    metavar="FILE.toml",
+    help="With --group-by position: write each group's recommended Weibull with the covariance "
+    "of its log-parameters as [[fitted_life]] entries to include.",
+)
 @click.option("--sheet", metavar="NAME", help="Sheet of an .xlsx records file (default: the first).")
 @click.option(
     "--column",
@@ -395,6 +404,7 @@ def fit(
     catalog_l10: str | None,
     scenario_path: str | None,
     factors_out: str | None,
+    life_out: str | None,
     sheet: str | None,
     column_map: tuple[str, ...],
     outcome_map: tuple[str, ...],
@@ -427,6 +437,10 @@ def fit(
         raise InputError("--factors-out", "needs --scenario (the factors are for its positions)")
     if factors_out:
         _plot_folder(factors_out, "--factors-out")
+    if life_out:
+        _plot_folder(life_out, "--life-out")
+        if group_by not in (None, "position") or (group_by is None and scenario_path is None):
+            raise InputError("--life-out", "needs --group-by position (an entry names a position)")
     if plot_path:
         _plot_folder(plot_path)
     scen = load_scenario(scenario_path) if scenario_path else None
@@ -488,12 +502,24 @@ def fit(
             comparisons[name] = compare_with_catalogue(r, l10_h, model)
         comparisons.setdefault(name, None)
         factors.setdefault(name, None)
+    if life_out:
+        by_pos = recs.group_records("position")
+        entries = []
+        for name, r in results.items():
+            assert name is not None
+            bearings = sorted(set(by_pos[name].table["bearing"]) - {""})
+            entry = fitted_life_entry(r, name, bearings[0] if len(bearings) == 1 else None)
+            if entry is None:
+                warnings.warn(f"position {name}: no Weibull to write", FitWarning, stacklevel=1)
+            else:
+                entries.append(entry)
+        _write_text(fitted_life_snippet(entries, records), life_out, "--life-out")
     if factors_out and scen is not None:
         free = {
             str(n): _free_summary(results[n], comparisons[n]) for n in calibrations
         }
         snippet = field_factor_snippet(list(calibrations.values()), scen, records, free)
-        _write_text(snippet, factors_out)
+        _write_text(snippet, factors_out, "--factors-out")
     if plot_path:
         from matplotlib.figure import Figure
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
 import click
@@ -47,6 +48,11 @@ def run_uncertain(
                     {"entry": u.index, "label": u.label, "estimate": u.estimate, "log_se": u.log_se}
                     for u in res.uncertain
                 ],
+                "uncertain_lives": [
+                    {"entry": u.index, "label": u.label, "scale_h": u.scale_h, "shape": u.shape,
+                     "log_covariance": [list(r) for r in u.log_covariance]}
+                    for u in res.lives
+                ],
                 "figures": table.to_dict(orient="records"),
                 "recommended": {"variant": best, "share_of_draws": share,
                                 "objective": objective},  # fmt: skip
@@ -55,11 +61,17 @@ def run_uncertain(
         )
         return
     lines = [
-        f"Parameter uncertainty: {draws} draws of {len(res.uncertain)} fitted field factor(s), "
+        f"Parameter uncertainty: {draws} draws of {len(res.uncertain)} fitted field factor(s) "
+        f"and {len(res.lives)} fitted life(s), "
         f"{res.results[0][0].replications.shape[0]} replications each on common random numbers",
     ]
     for u in res.uncertain:
         lines.append(f"  {u.label}: factor {u.estimate:.3g}, SE of its log {u.log_se:.3g}")
+    for lu in res.lives:
+        lines.append(
+            f"  {lu.label}: shape {lu.shape:.3g}, scale {number(lu.scale_h)} h, SE of ln scale "
+            f"{math.sqrt(lu.log_covariance[0][0]):.3g}, of ln shape {math.sqrt(lu.log_covariance[1][1]):.3g}"
+        )
     lines.append("")
     lines.append(f"{'variant':<34}{'figure':<20}{'mean':>12}  95 % interval (parameters + Monte "
                  "Carlo)   parameter sd")  # fmt: skip

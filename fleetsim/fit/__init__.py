@@ -10,7 +10,13 @@ Knows nothing of simulation; never prints or plots as a side effect
 (:func:`probability_plot` draws only on the axes it is given or creates).
 """
 
-from fleetsim.fit.calibration import GroupCalibration, calibrate, field_factor_snippet
+from fleetsim.fit.calibration import (
+    GroupCalibration,
+    calibrate,
+    field_factor_snippet,
+    fitted_life_entry,
+    fitted_life_snippet,
+)
 from fleetsim.fit.candidates import B_LIVES, MODELS, CandidateFit, Estimate, FittedDistribution
 from fleetsim.fit.catalogue import CatalogueComparison, compare_with_catalogue
 from fleetsim.fit.choice import LocationTest, ModelChoice, choose_model
@@ -35,6 +41,8 @@ __all__ = [
     "catalogue_lives",
     "field_factor_snippet",
     "fit_field_factor",
+    "fitted_life_entry",
+    "fitted_life_snippet",
     "scaled_sample",
     "CatalogueComparison",
     "CensoredSample",

@@ -15,6 +15,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from fleetsim.fit.field_factor import FieldFactorFit, fit_field_factor
+from fleetsim.fit.fitting import FitResult
 from fleetsim.fit.records import FieldRecords
 from fleetsim.fit.scenario_lives import CatalogueLife, catalogue_lives
 from fleetsim.scenario.model import Scenario
@@ -131,3 +132,54 @@ def _entry(
     if free_fits and c.group in free_fits:
         lines.append(f"# free fit: {free_fits[c.group]}")
     return lines
+
+
+def fitted_life_entry(
+    fit: FitResult, position: str, bearing: str | None = None
+) -> list[str] | None:
+    """A ``[[fitted_life]]`` entry of the recommended Weibull of one group, or None.
+
+    The covariance is that of (ln scale, ln shape): the fit's covariance of
+    (scale, shape) divided by the product of the two estimates (the delta
+    method for the logarithm), so a draw ln θ ~ N(ln θ̂, Σ) keeps both positive.
+    A three-parameter fit keeps its location fixed at the estimate.
+    """
+    w = fit.best_weibull
+    if w is None or w.covariance is None:
+        return None
+    names = list(w.cov_names)
+    i, j = names.index("scale_h"), names.index("shape")
+    d = w.distribution
+    cov = w.covariance
+    p = (d.scale_h, d.shape)
+    log_cov = [
+        [float(cov[a, b]) / (p[x] * p[y]) for y, b in enumerate((i, j))] for x, a in enumerate((i, j))
+    ]
+    lines = ["[[fitted_life]]", f'position = "{position}"']
+    if bearing:
+        lines.append(f'bearing = "{bearing}"')
+    lines += [
+        f'model = "{w.model}"',
+        f"shape = {d.shape:.6g}",
+        f'scale = "{d.scale_h:.6g} h"',
+        f'location = "{d.location_h:.6g} h"',
+        f"covariance = [[{log_cov[0][0]:.6g}, {log_cov[0][1]:.6g}], [{log_cov[0][1]:.6g}, {log_cov[1][1]:.6g}]]",
+        f"failures = {fit.sample.n_failures}",
+        f"# the recommended Weibull ({w.label}) of {fit.sample.n_records} records; "
+        "covariance of (ln scale, ln shape)",
+    ]
+    return lines
+
+
+def fitted_life_snippet(entries: Sequence[list[str]], records_source: str) -> str:
+    """A TOML snippet of ``[[fitted_life]]`` entries, commented, for ``include = [...]``."""
+    head = [
+        f"# Life distributions fitted by fleetsim from {records_source} (the recommended Weibull",
+        "# of each group, with the covariance of its log-parameters). Take them into a scenario",
+        '# with a top-level line  include = ["<this file>"]. Each entry replaces the life of the',
+        "# positions it names (loads and speed no longer count). Planning estimates only.",
+    ]
+    body: list[str] = []
+    for e in entries:
+        body += ["", *e]
+    return "\n".join(head + body) + "\n"

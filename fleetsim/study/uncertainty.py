@@ -11,7 +11,10 @@ engines:
    se = (ln upper − ln lower) / (2 z), z the normal quantile of the bounds'
    level: the asymptotic normal of the log-parameter, whose likelihood-ratio
    interval the bounds are (Meeker & Escobar, *Statistical Methods for
-   Reliability Data*, sec. 8.3). Entries are drawn independently.
+   Reliability Data*, sec. 8.3). Each ``[[fitted_life]]`` entry with a
+   ``covariance`` (``fleetsim fit --life-out``) has (ln scale, ln shape)
+   ~ Normal((ln η̂, ln β̂), Σ), Σ the fit's inverse observed information on
+   the log scale (its location held). Entries are drawn independently.
 2. **Outer draws.** Draw ``d`` of ``draws`` sets every factor from its
    distribution (seeded by ``SeedSequence(seed, spawn_key=(PARAMETER_STREAM, d))``,
    apart from the replications' own streams) and builds that draw's scenario
@@ -81,6 +84,71 @@ class FactorUncertainty:
     log_se: float
 
 
+@dataclass(frozen=True)
+class LifeUncertainty:
+    """The sampling distribution of one fitted life: (ln scale, ln shape) ~ N(mean, covariance).
+
+    Attributes
+    ----------
+    index
+        Position of the entry in the document's ``[[fitted_life]]`` list.
+    label
+        ``"position motor-de, bearing WB-50"``.
+    scale_h, shape
+        The fitted scale (hours) and shape.
+    log_covariance
+        2 × 2 covariance of (ln scale, ln shape).
+    """
+
+    index: int
+    label: str
+    scale_h: float
+    shape: float
+    log_covariance: tuple[tuple[float, float], tuple[float, float]]
+
+
+def life_uncertainties(doc: Mapping[str, Any], source: str) -> list[LifeUncertainty]:
+    """The ``[[fitted_life]]`` entries of a resolved document that carry a covariance."""
+    from fleetsim.units import parse_quantity
+
+    out = []
+    for i, e in enumerate(doc.get("fitted_life", []) or []):
+        if not (isinstance(e, dict) and "covariance" in e):
+            continue
+        where = f"{source}: fitted_life[{i}]"
+        try:
+            cov = np.array(e["covariance"], dtype=float).reshape(2, 2)
+            scale = parse_quantity(str(e["scale"]), "time", f"{where}.scale")
+            shape = float(e["shape"])
+        except (KeyError, TypeError, ValueError):
+            raise InputError(where, "expected shape, scale and a 2 × 2 covariance") from None
+        try:
+            np.linalg.cholesky(cov)
+        except np.linalg.LinAlgError:
+            raise InputError(f"{where}.covariance", "expected a positive definite matrix") from None
+        label = ", ".join(f"{key} {e[key]}" for key in ("position", "bearing") if key in e)
+        out.append(
+            LifeUncertainty(
+                i, label, scale, shape, ((cov[0, 0], cov[0, 1]), (cov[1, 0], cov[1, 1]))
+            )
+        )
+    return out
+
+
+def draw_lives(uncertain: Sequence[LifeUncertainty], draws: int, seed: int) -> np.ndarray:
+    """``draws`` × ``len(uncertain)`` × 2 array of (scale_h, shape), one row per outer draw."""
+    out = np.empty((draws, len(uncertain), 2))
+    for d in range(draws):
+        key = (PARAMETER_STREAM, d, 1)
+        rng = np.random.default_rng(np.random.SeedSequence(seed, spawn_key=key))
+        for n, u in enumerate(uncertain):
+            z = rng.multivariate_normal(
+                [math.log(u.scale_h), math.log(u.shape)], np.array(u.log_covariance)
+            )
+            out[d, n] = np.exp(z)
+    return out
+
+
 def factor_uncertainties(
     document: Mapping[str, Any], source: str
 ) -> tuple[dict[str, Any], list[FactorUncertainty]]:
@@ -89,7 +157,7 @@ def factor_uncertainties(
     Raises
     ------
     InputError
-        For bounds that do not bracket the factor, or no entry with bounds.
+        For bounds that do not bracket the factor.
     """
     doc, _ = resolve_includes(document, source, scenario_folder(source))
     out = []
@@ -124,12 +192,21 @@ def draw_factors(uncertain: Sequence[FactorUncertainty], draws: int, seed: int) 
 
 
 def draw_document(
-    document: Mapping[str, Any], uncertain: Sequence[FactorUncertainty], factors: np.ndarray
+    document: Mapping[str, Any],
+    uncertain: Sequence[FactorUncertainty],
+    factors: np.ndarray,
+    lives: Sequence[LifeUncertainty] = (),
+    life_values: np.ndarray | None = None,
 ) -> dict[str, Any]:
-    """The document with the uncertain factors set to one draw's values."""
+    """The document with the uncertain factors (and fitted lives) set to one draw's values."""
     doc = copy.deepcopy(dict(document))
     for u, k in zip(uncertain, factors, strict=True):
         doc["field_factor"][u.index]["factor"] = float(k)
+    if life_values is not None:
+        for lu, (scale_h, shape) in zip(lives, life_values, strict=True):
+            entry = doc["fitted_life"][lu.index]
+            entry["scale"] = f"{float(scale_h)!r} h"
+            entry["shape"] = float(shape)
     return doc
 
 
@@ -208,6 +285,8 @@ class UncertainStudy:
     factors: np.ndarray
     results: tuple[tuple[StudyResult, ...], ...]
     variant_names: tuple[str, ...]
+    lives: tuple[LifeUncertainty, ...] = ()
+    life_values: np.ndarray | None = None
 
     def values(self, figure: str, variant: int = 0) -> np.ndarray:
         """draws × replications values of ``figure`` for one variant."""
@@ -279,16 +358,19 @@ def run_parameter_uncertainty(
     if draws < 2:
         raise InputError("--parameter-uncertainty", f"expected 2 or more draws, got {draws}")
     doc, uncertain = factor_uncertainties(document, source)
-    if not uncertain:
+    lives = life_uncertainties(doc, source)
+    if not uncertain and not lives:
         raise InputError(
             f"{source}",
-            "no [[field_factor]] entry with lower and upper bounds: nothing uncertain to draw "
-            "(write the factors with fleetsim fit --factors-out and include them)",
+            "no [[field_factor]] entry with lower and upper bounds and no [[fitted_life]] with a "
+            "covariance: nothing uncertain to draw (write them with fleetsim fit --factors-out "
+            "or --life-out and include them)",
         )
     base = build_variant(doc, [], "base", source, digest).scenario
     seed = study_kwargs.pop("seed", None)
     seed = check_seed(base.study.seed if seed is None else seed)
     factors = draw_factors(uncertain, draws, seed)
+    life_values = draw_lives(lives, draws, seed)
     cases = [(v.name, v.overrides) for v in variants]
     if include_base:
         cases.insert(0, ("Today's practice", ()))
@@ -299,7 +381,7 @@ def run_parameter_uncertainty(
     cluster = study_kwargs.pop("cluster", None)
     with study_cluster(cluster, study_kwargs.get("workers", 1)) as dask:  # one for every draw
         for d in range(draws):
-            doc_d = draw_document(doc, uncertain, factors[d])
+            doc_d = draw_document(doc, uncertain, factors[d], lives, life_values[d])
             row = []
             for name, overrides in cases:
                 sc = build_variant(doc_d, list(overrides), f"{name}, draw {d + 1}", source,
@@ -307,4 +389,6 @@ def run_parameter_uncertainty(
                 row.append(run_study(sc, seed=seed, keep_events=False, label=name, cluster=dask,
                                      **study_kwargs))
             results.append(tuple(row))
-    return UncertainStudy(tuple(uncertain), factors, tuple(results), names)
+    return UncertainStudy(
+        tuple(uncertain), factors, tuple(results), names, tuple(lives), life_values
+    )
