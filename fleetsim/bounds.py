@@ -72,6 +72,7 @@ class Range:
 
 
 WEIBULL_SHAPE = Range(0.1, 20.0, "a Weibull shape")
+LOGNORMAL_SIGMA = Range(0.01, 10.0, "a lognormal σ of ln(life − location)")
 APPLICATION_FACTOR = Range(1.0, 10.0, "an application factor a_f")
 ROTATION_FACTOR = Range(1.0, 10.0, "a rotation factor V")
 FIELD_FACTOR = Range(1e-3, 1e3, "a field factor")

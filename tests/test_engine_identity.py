@@ -93,6 +93,12 @@ AGED = Machine("aged", 5, 0.55, 0.0, (
 SIMPLE = Machine("simple", 9, 1.0, 4_000.0, (pos("de", AGE, pf=False), pos("nde", RTF, pf=False)))
 SINGLE = Machine("single", 12, 0.9, 1_000.0, (pos("only", AGE, pf=True, bearing="B2"),))
 
+LOGN = LifeDistribution(shape=0.7, scale_h=8_000.0, location_h=200.0, family="lognormal")
+LOGNORMAL = Machine("lognormal", 8, 0.9, 2_000.0, (
+    Position("rtf", "B1", LOGN, RTF, pf_interval=PF), Position("age", "B2", LOGN, AGE),
+    Position("cond", "B1", LOGN.scaled(1.2), COND_30, pf_interval=PF),
+))
+
 CASES = {
     "mixed policies, random stops": scenario((MIXED,)),
     "mixed policies, fixed stops": scenario((MIXED,), stops="fixed"),
@@ -103,6 +109,7 @@ CASES = {
                                                     downtime_per_hour=500.0),
                                               Group("pair", ("simple",), 8)), rate=0.06),
     "renewal fast path (age and run-to-failure)": scenario((SIMPLE, SINGLE)),
+    "lognormal lives (a family fit ranks)": scenario((LOGNORMAL,)),
     "renewal fast path, instant stops": scenario((SIMPLE,), stops="none"),
 }
 

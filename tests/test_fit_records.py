@@ -9,6 +9,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 import pytest
+from scipy import stats
 
 from fleetsim.errors import InputError
 from fleetsim.fit import (
@@ -215,13 +216,20 @@ def test_best_weibull_converts_to_life_distribution_and_field_factor() -> None:
         compare_with_catalogue(res, -1.0)
 
 
-def test_lognormal_refuses_conversion_to_weibull_life() -> None:
+def test_a_lognormal_fit_becomes_a_lognormal_life_model() -> None:
+    """Any family fit ranks can be a position's life: the converted lognormal is
+    scipy's lognorm with the fit's σ, median and location (reference: scipy.stats)."""
     rng = np.random.default_rng(np.random.SeedSequence(13))
     res = fit_records(CensoredSample.from_arrays(np.exp(9 + rng.standard_normal(30))),
                       models=("lognormal_2p",))  # fmt: skip
-    with pytest.raises(FitError, match="lognormal"):
-        res.best.distribution.to_life_distribution()
-    assert res.best_weibull is None
+    d = res.best.distribution
+    life = d.to_life_distribution()
+    assert life.family == "lognormal" and res.best_weibull is None
+    ref = stats.lognorm(s=d.shape, loc=d.location_h, scale=d.scale_h)
+    for q in (1e-13, 0.1, 0.5, 0.9):
+        assert math.isclose(float(life.ppf(q)), float(ref.ppf(q)), rel_tol=1e-10)
+    assert math.isclose(float(life.life_at_reliability(0.9)), res.best.b_life(10).estimate,
+                        rel_tol=1e-9)
 
 
 def test_probability_plot_has_no_pyplot_side_effect() -> None:

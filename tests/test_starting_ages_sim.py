@@ -40,6 +40,7 @@ from fleetsim.sim import simulate
 from fleetsim.sim.discount import Discount
 from fleetsim.sim.streams import Streams
 from fleetsim.sim.vector import simulate_machine
+from fleetsim.sim.years import YearBook
 from fleetsim.study import run_study
 
 SHARE = 0.5  # the machines run half the time: calendar hours = operating hours / 0.5
@@ -80,7 +81,7 @@ def vector_first_failures(sc: Scenario, seed: int) -> np.ndarray:
     """Operating hours to each unit's first stop, by the vectorised engine (stops are failures)."""
     m = sc.machines[0]
     sums = simulate_machine(m, 0, sc, Streams(np.random.SeedSequence(seed)), HORIZON_H,
-                            Discount(0.0), keep_intervals=True)
+                            YearBook(HORIZON_H, Discount(0.0)), keep_intervals=True)
     first = np.full(m.count, math.inf)
     for unit, start, _end in sums.intervals:
         np.minimum.at(first, unit, start)

@@ -83,21 +83,9 @@ class FittedDistribution:
         return float(self.ppf(percent / 100.0))
 
     def to_life_distribution(self) -> LifeDistribution:
-        """The fleetsim life model (Weibull only).
-
-        Raises
-        ------
-        FitError
-            For a lognormal fit: fleetsim's life model is a Weibull; use the
-            best Weibull candidate instead.
-        """
-        if self.family != "weibull":
-            raise FitError(
-                "life model",
-                "a lognormal fit cannot become fleetsim's Weibull life model; use the best "
-                "Weibull candidate (FitResult.best_weibull)",
-            )
-        return LifeDistribution(shape=self.shape, scale_h=self.scale_h, location_h=self.location_h)
+        """The fleetsim life model of this fit (Weibull or lognormal; both engines take either)."""
+        return LifeDistribution(shape=self.shape, scale_h=self.scale_h, location_h=self.location_h,
+                                family=self.family)
 
     def as_dict(self) -> dict[str, float | str]:
         """``{family, shape, scale_h, location_h}`` for JSON output."""

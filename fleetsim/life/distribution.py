@@ -1,7 +1,12 @@
-"""Three-parameter Weibull life distribution of a bearing position, in hours.
+"""Life distribution of a bearing position, in hours: three-parameter Weibull or lognormal.
 
-The distribution is ``scipy.stats.weibull_min(c=shape, loc=location_h,
-scale=scale_h)``; this module adds the bearing vocabulary (life at a
+A Weibull life is ``scipy.stats.weibull_min(c=shape, loc=location_h,
+scale=scale_h)``; a lognormal one (``family="lognormal"``, as ``fleetsim fit``
+ranks it) is ``scipy.stats.lognorm(s=shape, loc=location_h, scale=scale_h)``:
+σ of ln(life − location) and its median. Both engines draw lives through one
+inverse transform, :meth:`LifeDistribution.lives_from_uniform`, written with
+``log1p``/``expm1`` and the normal tails of ``scipy.special`` so it stays
+accurate for cumulative probabilities far below 1e-12. This module adds the bearing vocabulary (life at a
 reliability, reliability at a life, the reliability factor a1) and the two
 presets expressed in units of the rating life L10:
 
@@ -26,7 +31,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-from scipy import stats
+from scipy import special, stats
 
 from fleetsim.errors import InputError, LifeModelWarning
 
@@ -171,24 +176,43 @@ def _check_age(age_h: float | np.ndarray) -> np.ndarray:
 
 @dataclass(frozen=True)
 class LifeDistribution:
-    """Life of a bearing position in operating hours: a three-parameter Weibull.
+    """Life of a bearing position in operating hours: a three-parameter Weibull or lognormal.
 
     Attributes
     ----------
     shape
-        Weibull shape b.
+        Weibull shape b; for a lognormal, σ of ln(life − location).
     scale_h
-        Scale (θ − x0) in hours.
+        Weibull scale (θ − x0) in hours; for a lognormal, the median of
+        (life − location) in hours.
     location_h
         Location (failure-free life) x0 in hours.
+    family
+        ``"weibull"`` (default) or ``"lognormal"``.
     """
 
     shape: float
     scale_h: float
     location_h: float = 0.0
+    family: str = "weibull"
 
     def __post_init__(self) -> None:
-        WeibullShape(self.shape, self.location_h, self.scale_h)  # validates
+        if self.family == "weibull":
+            WeibullShape(self.shape, self.location_h, self.scale_h)  # validates
+            return
+        if self.family != "lognormal":
+            raise InputError("life.family", f"expected 'weibull' or 'lognormal', got {self.family!r}")
+        for name, value, low in (("shape", self.shape, "> 0"), ("scale", self.scale_h, "> 0 h"),
+                                 ("location", self.location_h, ">= 0 h")):
+            ok = math.isfinite(value) and (value >= 0 if name == "location" else value > 0)
+            if not ok:
+                raise InputError(f"life.{name}", f"expected a finite lognormal {name} {low}, "
+                                                 f"got {value}")
+
+    @property
+    def is_weibull(self) -> bool:
+        """True for the Weibull family."""
+        return self.family == "weibull"
 
     @classmethod
     def from_rating_life(
@@ -202,24 +226,34 @@ class LifeDistribution:
 
     @property
     def frozen(self) -> Any:
-        """The equivalent frozen ``scipy.stats.weibull_min``."""
-        return stats.weibull_min(c=self.shape, loc=self.location_h, scale=self.scale_h)
+        """The equivalent frozen ``scipy.stats`` distribution (weibull_min or lognorm)."""
+        if self.is_weibull:
+            return stats.weibull_min(c=self.shape, loc=self.location_h, scale=self.scale_h)
+        return stats.lognorm(s=self.shape, loc=self.location_h, scale=self.scale_h)
 
     def scaled(self, factor: float) -> LifeDistribution:
         """The same distribution with every life multiplied by ``factor``."""
-        return LifeDistribution(self.shape, self.scale_h * factor, self.location_h * factor)
+        return LifeDistribution(self.shape, self.scale_h * factor, self.location_h * factor,
+                                self.family)
 
     # --- distribution functions (hours) -------------------------------------------------
+    def _log_sf(self, hours: np.ndarray) -> np.ndarray:
+        """ln R(t), accurate where R is tiny (−cumulative hazard)."""
+        if self.is_weibull:
+            return -self._z(hours)
+        x = np.asarray(hours, dtype=float) - self.location_h
+        with np.errstate(divide="ignore"):
+            w = np.log(np.maximum(x, 0.0) / self.scale_h) / self.shape
+        return np.where(x > 0, special.log_ndtr(-w), 0.0)
+
     def reliability(self, hours: float | np.ndarray) -> float | np.ndarray:
         """R(t) = P(life > t) at operating hours t."""
-        z = np.maximum(np.asarray(hours, dtype=float) - self.location_h, 0.0) / self.scale_h
-        out = np.exp(-(z**self.shape))
+        out = np.exp(self._log_sf(np.asarray(hours, dtype=float)))
         return float(out) if out.ndim == 0 else out
 
     def cdf(self, hours: float | np.ndarray) -> float | np.ndarray:
-        """F(t) = P(life <= t), computed as −expm1(−z^b) for accuracy at small t."""
-        z = np.maximum(np.asarray(hours, dtype=float) - self.location_h, 0.0) / self.scale_h
-        out = -np.expm1(-(z**self.shape))
+        """F(t) = P(life <= t), computed as −expm1(ln R) for accuracy at small t."""
+        out = -np.expm1(self._log_sf(np.asarray(hours, dtype=float)))
         return float(out) if out.ndim == 0 else out
 
     def sf(self, hours: float | np.ndarray) -> float | np.ndarray:
@@ -232,35 +266,57 @@ class LifeDistribution:
         return float(out) if np.ndim(out) == 0 else out
 
     def hazard(self, hours: float | np.ndarray) -> float | np.ndarray:
-        """Hazard rate per hour, (b/η)·(z)^(b−1) beyond the location, 0 before it."""
+        """Hazard rate per hour: (b/η)·z^(b−1) beyond the location for a Weibull, f/R otherwise."""
         t = np.asarray(hours, dtype=float)
-        z = np.maximum(t - self.location_h, 0.0) / self.scale_h
-        with np.errstate(divide="ignore", invalid="ignore"):
-            out = np.where(
-                t > self.location_h, self.shape / self.scale_h * z ** (self.shape - 1.0), 0.0
-            )
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            if self.is_weibull:
+                z = np.maximum(t - self.location_h, 0.0) / self.scale_h
+                out = np.where(
+                    t > self.location_h, self.shape / self.scale_h * z ** (self.shape - 1.0), 0.0
+                )
+            else:
+                out = np.where(t > self.location_h,
+                               np.exp(self.frozen.logpdf(t) - self._log_sf(t)), 0.0)
         return float(out) if out.ndim == 0 else out
+
+    def _from_log_sf(self, log_sf: np.ndarray) -> np.ndarray:
+        """The life t with ln R(t) = ``log_sf`` (<= 0), in hours."""
+        if self.is_weibull:
+            return self.location_h + self.scale_h * (-log_sf) ** (1.0 / self.shape)
+        # R = Φ(−w) ⇒ w = −Φ⁻¹(R); Φ⁻¹ of exp(log R) through ndtri_exp stays accurate in
+        # both tails
+        w = -special.ndtri_exp(log_sf)
+        return self.location_h + self.scale_h * np.exp(self.shape * w)
 
     def life_at_reliability(self, reliability: float | np.ndarray) -> float | np.ndarray:
         """Life in hours that a fraction ``reliability`` of bearings exceeds (L_{100(1-R)})."""
         r = np.asarray(reliability, dtype=float)
         if np.any((r <= 0) | (r >= 1)):
             raise InputError("reliability", f"expected values strictly between 0 and 1, got {r}")
-        out = self.location_h + self.scale_h * (-np.log(r)) ** (1.0 / self.shape)
+        out = self._from_log_sf(np.log(r))
         return float(out) if out.ndim == 0 else out
 
     def ppf(self, q: float | np.ndarray) -> float | np.ndarray:
-        """Quantile function: life in hours with F(life) = q."""
-        return self.life_at_reliability(1.0 - np.asarray(q, dtype=float))
+        """Quantile function: life in hours with F(life) = q (accurate for q far below 1e-12)."""
+        q = np.asarray(q, dtype=float)
+        if np.any((q <= 0) | (q >= 1)) or np.any(np.isnan(q)):
+            raise InputError("probability", f"expected values strictly between 0 and 1, got {q}")
+        out = self._from_log_sf(np.log1p(-q))
+        return float(out) if out.ndim == 0 else out
 
     @property
     def mean_h(self) -> float:
-        """Mean life in hours, x0 + η·Γ(1 + 1/b)."""
+        """Mean life in hours: x0 + η·Γ(1 + 1/b), or x0 + m·exp(σ²/2) for a lognormal."""
+        if not self.is_weibull:
+            return self.location_h + self.scale_h * math.exp(0.5 * self.shape**2)
         return self.location_h + self.scale_h * math.gamma(1.0 + 1.0 / self.shape)
 
     @property
     def variance_h2(self) -> float:
-        """Variance of life in hours², η²·[Γ(1 + 2/b) − Γ(1 + 1/b)²]."""
+        """Variance of life in hours²: η²·[Γ(1 + 2/b) − Γ(1 + 1/b)²], or m²·e^σ²·(e^σ² − 1)."""
+        if not self.is_weibull:
+            s2 = self.shape**2
+            return self.scale_h**2 * math.exp(s2) * math.expm1(s2)
         g1 = math.gamma(1.0 + 1.0 / self.shape)
         g2 = math.gamma(1.0 + 2.0 / self.shape)
         return self.scale_h**2 * (g2 - g1 * g1)
@@ -268,14 +324,18 @@ class LifeDistribution:
     def sample(self, rng: np.random.Generator, size: int | tuple[int, ...] | None = None) -> Any:
         """Draw lives in hours with the given generator (inverse transform)."""
         u = rng.random(size)
-        return self.location_h + self.scale_h * (-np.log1p(-u)) ** (1.0 / self.shape)
+        out = self.lives_from_uniform(np.asarray(u))
+        return float(out) if np.ndim(out) == 0 else out
 
     def life_from_uniform(self, u: float, age_h: float = 0.0) -> float:
         """Life (remaining beyond ``age_h``) in hours for a uniform ``u`` in [0, 1).
 
         The inverse-transform draw of :meth:`sample` (``age_h = 0``) and
-        :meth:`residual_sample`, for one scalar, without numpy overhead.
+        :meth:`residual_sample`, for one scalar, without numpy overhead for a
+        Weibull.
         """
+        if not self.is_weibull:
+            return float(self.lives_from_uniform(np.array([u]), age_h)[0])
         e = -math.log1p(-u)
         if age_h > 0.0:
             z0 = (max(age_h - self.location_h, 0.0) / self.scale_h) ** self.shape
@@ -285,20 +345,32 @@ class LifeDistribution:
     def lives_from_uniform(self, u: np.ndarray, age_h: np.ndarray | float = 0.0) -> np.ndarray:
         """:meth:`life_from_uniform` for arrays: remaining lives in hours beyond ``age_h``.
 
-        ``u`` and ``age_h`` broadcast; a zero age gives the life of a new bearing.
+        The one inverse transform of both engines: the life t beyond the age a
+        with R(a + t) / R(a) = 1 − u, i.e. ln R(a + t) = ln R(a) + ln(1 − u)
+        (``log1p``), so neither tiny u nor a bearing aged far into its tail
+        loses precision. ``u`` and ``age_h`` broadcast; a zero age gives the
+        life of a new bearing.
         """
-        e = -np.log1p(-np.asarray(u, dtype=float))
-        new = self.location_h + self.scale_h * e ** (1.0 / self.shape)
+        uu = np.asarray(u, dtype=float)
+        log_keep = np.log1p(-uu)
+        if self.is_weibull:
+            e = -log_keep
+            new = self.location_h + self.scale_h * e ** (1.0 / self.shape)
+            a = np.asarray(age_h, dtype=float)
+            if not (a > 0.0).any():
+                return new
+            z0 = (np.maximum(a - self.location_h, 0.0) / self.scale_h) ** self.shape
+            aged = self.location_h + self.scale_h * (z0 + e) ** (1.0 / self.shape) - a
+            return np.where(a > 0.0, aged, new)
         a = np.asarray(age_h, dtype=float)
-        if not (a > 0.0).any():
-            return new
-        z0 = (np.maximum(a - self.location_h, 0.0) / self.scale_h) ** self.shape
-        aged = self.location_h + self.scale_h * (z0 + e) ** (1.0 / self.shape) - a
-        return np.where(a > 0.0, aged, new)
+        out = self._from_log_sf(self._log_sf(a) + log_keep) - a
+        return np.maximum(out, 0.0)
 
     # --- a bearing already in service (conditional on survival to its age) --------------
     def _z(self, hours: np.ndarray) -> np.ndarray:
-        """Cumulative hazard (t − x0)⁺/η)^b at operating hours t."""
+        """Cumulative hazard at operating hours t: ((t − x0)⁺/η)^b for a Weibull, −ln R otherwise."""
+        if not self.is_weibull:
+            return -self._log_sf(hours)
         return (np.maximum(hours - self.location_h, 0.0) / self.scale_h) ** self.shape
 
     def conditional_reliability(
@@ -325,8 +397,8 @@ class LifeDistribution:
     ) -> float | np.ndarray:
         """Remaining life in hours that a bearing aged ``age_h`` outlives with probability R.
 
-        The t solving R(a + t) / R(a) = R:
-        t = x0 + η·(z(a) + ln(1/R))^(1/b) − a, with z(a) = ((a − x0)⁺/η)^b.
+        The t solving R(a + t) / R(a) = R (for a Weibull
+        t = x0 + η·(z(a) + ln(1/R))^(1/b) − a, with z(a) = ((a − x0)⁺/η)^b).
         At age 0 it is :meth:`life_at_reliability`; R = 0.9 gives the remaining
         L10 of a bearing already in service. Arguments broadcast.
 
@@ -339,8 +411,7 @@ class LifeDistribution:
         if np.any((r <= 0) | (r >= 1)) or np.any(np.isnan(r)):
             raise InputError("reliability", f"expected values strictly between 0 and 1, got {r}")
         a = _check_age(age_h)
-        z = self._z(a) - np.log(r)
-        out = self.location_h + self.scale_h * z ** (1.0 / self.shape) - a
+        out = self._from_log_sf(-self._z(a) + np.log(r)) - a
         out = np.maximum(out, 0.0)  # rounding when a is far beyond the location
         return float(out) if out.ndim == 0 else out
 
@@ -349,10 +420,13 @@ class LifeDistribution:
     ) -> Any:
         """Remaining life in hours of a position already aged ``age_h`` without failing."""
         u = rng.random(size)
-        z0 = (max(age_h - self.location_h, 0.0) / self.scale_h) ** self.shape
-        z = (z0 - np.log1p(-u)) ** (1.0 / self.shape)
-        return self.location_h + self.scale_h * z - age_h
+        out = self.lives_from_uniform(np.asarray(u), age_h)
+        return float(out) if np.ndim(out) == 0 else out
 
-    def as_dict(self) -> dict[str, float]:
-        """``{shape, scale_h, location_h}`` for JSON output."""
-        return {"shape": self.shape, "scale_h": self.scale_h, "location_h": self.location_h}
+    def as_dict(self) -> dict[str, float | str]:
+        """``{shape, scale_h, location_h}`` for JSON output (and ``family`` for a lognormal)."""
+        out: dict[str, float | str] = {"shape": self.shape, "scale_h": self.scale_h,
+                                       "location_h": self.location_h}
+        if not self.is_weibull:
+            out["family"] = self.family
+        return out

@@ -152,7 +152,7 @@ def integrated_reliability(dist: Any, hours: Any) -> Any:
     times, with adaptive quadrature where it is not accurate enough.
     """
     t = np.asarray(hours, dtype=float)
-    if isinstance(dist, LifeDistribution):
+    if isinstance(dist, LifeDistribution) and dist.is_weibull:
         b, eta, x0 = dist.shape, dist.scale_h, dist.location_h
         z = np.maximum(t - x0, 0.0) / eta
         out = np.minimum(t, x0) + eta * math.gamma(1.0 + 1.0 / b) * special.gammainc(1.0 / b, z**b)
@@ -199,4 +199,4 @@ def _segment_integrals(dist: Any, starts: np.ndarray, ends: np.ndarray) -> np.nd
 
 def is_weibull_with_non_rising_hazard(dist: Any) -> bool:
     """True for a :class:`LifeDistribution` with shape b <= 1 (hazard never rises)."""
-    return isinstance(dist, LifeDistribution) and dist.shape <= 1.0
+    return isinstance(dist, LifeDistribution) and dist.is_weibull and dist.shape <= 1.0

@@ -92,10 +92,10 @@ def plot_life_distributions(
         raise InputError(
             "reliability", f"expected a value strictly between 0 and 1, got {reliability}"
         )
-    curves: dict[tuple[float, float, float], tuple[LifeDistribution, list[str], float]] = {}
+    curves: dict[tuple[str, float, float, float], tuple[LifeDistribution, list[str], float]] = {}
     for machine in scenario.machines:
         for pos in machine.positions:
-            key = (pos.life.shape, pos.life.scale_h, pos.life.location_h)
+            key = (pos.life.family, pos.life.shape, pos.life.scale_h, pos.life.location_h)
             entry = curves.setdefault(key, (pos.life, [], pos.field_factor))
             entry[1].append(f"{machine.id} / {pos.id} ({pos.bearing_id})")
     items = list(curves.values())

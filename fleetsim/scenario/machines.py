@@ -17,6 +17,7 @@ from fleetsim.bounds import (
     FIELD_FACTOR,
     ROTATION_FACTOR,
     VISCOSITY_RATIO,
+    LOGNORMAL_SIGMA,
     WEIBULL_SHAPE,
 )
 from fleetsim.errors import InputError
@@ -164,7 +165,8 @@ def _positions(
                     "not used with an explicit life = {shape, scale, location}; "
                     "give either an explicit life or the loads and speed, not both",
                 )
-        life = _field_life(Table(t.raw("life"), join(t.path, "life"), t.source, FIELD_LIFE_KEYS))
+        life = _field_life(Table(t.raw("life"), join(t.path, "life"), t.source,
+                                 (*FIELD_LIFE_KEYS, "family")))
         derived = None
     else:
         derived = _derive(t, bearing, index.paths[bid], defaults)
@@ -202,10 +204,12 @@ def _positions(
 
 
 def _field_life(t: Table) -> LifeDistribution:
+    family = t.text("family", "weibull", choices=("weibull", "lognormal"))
     return LifeDistribution(
-        shape=t.number("shape", within=WEIBULL_SHAPE),
+        shape=t.number("shape", within=WEIBULL_SHAPE if family == "weibull" else LOGNORMAL_SIGMA),
         scale_h=t.quantity("scale", "time", positive=True),
         location_h=t.quantity("location", "time", 0.0),
+        family=family,
     )
 
 

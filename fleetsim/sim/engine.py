@@ -39,13 +39,13 @@ from fleetsim.sim.streams import Streams, as_seed_sequence
 from fleetsim.sim.tally import (
     COUNTS,
     BearingTally,
-    Charged,
     GroupTally,
     MachineTally,
     Tally,
     costs_of,
 )
 from fleetsim.sim.unit import UnitRunner, position_columns, unit_columns
+from fleetsim.sim.years import YearBook
 
 #: Run quiet units with :func:`~fleetsim.sim.quiet.quiet_process` (tests turn it off to
 #: check that the general process gives the same result).
@@ -112,9 +112,10 @@ def _run(
 ) -> ReplicationResult:
     streams = Streams(root)
     env = BudgetedEnvironment(event_budget(scenario, horizon), scenario.source)
-    recorder = Recorder(keep_events)
-    log = recorder.log if keep_events else None
     discount = discount_for(scenario.costs.discount_rate_per_year)
+    book = YearBook(horizon, discount)
+    recorder = Recorder(keep_events, book)
+    log = recorder.log if keep_events else None
 
     bearing_ids = sorted(
         {p.bearing_id for m in scenario.machines for p in m.positions} | set(scenario.stores)
@@ -123,10 +124,10 @@ def _run(
     for b, bid in enumerate(bearing_ids):
         stock = scenario.stores.get(bid)
         if stock is None:
-            stores[bid] = UnlimitedSupply(bid, env, discount)
+            stores[bid] = UnlimitedSupply(bid, env, book)
         else:
             emergency = streams.bearing(b, emergency=True) if stock.emergency_lead_time else None
-            stores[bid] = SpareStore(env, bid, stock, streams.bearing(b), emergency, log, discount)
+            stores[bid] = SpareStore(env, bid, stock, streams.bearing(b), emergency, log, book)
 
     unit_index: dict[str, list[int]] = {}
     n_units = sum(m.count for m in scenario.machines)
@@ -138,7 +139,7 @@ def _run(
         [(g.id, g.need, scenario.group_members(g)) for g in scenario.groups],
         n_units,
         [g.hold_planned_work for g in scenario.groups],
-        discount,
+        book,
     )
     ctx = SimContext(env, recorder, CrewPool(env, scenario.crews.count), scenario.crews,
                      stores, groups, streams, life_sampler, discount)
@@ -237,7 +238,6 @@ def _tally(
 ) -> Tally:
     """The replication's :class:`~fleetsim.sim.tally.Tally`."""
     c = recorder.counts
-    pv = recorder.pv
     machines = {m.id: MachineTally(units=m.count) for m in scenario.machines}
     for mid, fails, down, lost in zip(unit_table["machine"], unit_table["failures"],
                                       unit_table["down_h"], unit_table["lost_operating_h"],
@@ -255,15 +255,6 @@ def _tally(
                          horizon if not math.isfinite(float(r["first_down_h"])) else float(r["first_down_h"]),
                          float(r["down_h"]))
               for r in group_rows]
-    charged = Charged(
-        changes=pv["changes"], failures=pv["failures"], inspections=pv["inspections"],
-        lost_operating_h=pv["lost_operating_h"],
-        issued={b: st.issued_pv for b, st in stats.items()},
-        on_hand_h={b: st.on_hand_pv_area for b, st in stats.items()},
-        emergency={b: st.emergency_pv for b, st in stats.items()},
-        group_down_h={str(r["group"]): float(r["down_pv_h"]) for r in group_rows
-                      if r["group"] != GroupTracker.FLEET},
-    )
     counts = {name: float(c[name]) for name in COUNTS if name in c}
     counts["missed_defects"] = float(c["missed_defects"])
     counts["failures_after_detection"] = float(c["failures_after_detection"])
@@ -276,7 +267,7 @@ def _tally(
         machines=machines,
         bearings=bearings,
         groups=groups,
-        charged=charged,
+        book=recorder.book,
     )
 
 

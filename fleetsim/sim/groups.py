@@ -19,7 +19,8 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from functools import partial
 
-from fleetsim.sim.discount import Discount
+from fleetsim.sim.tally import group_down_key
+from fleetsim.sim.years import YearBook
 
 
 @dataclass
@@ -33,8 +34,7 @@ class _State:
     down_h: float = 0.0
     events: int = 0
     first_h: float = math.nan
-    discount: Discount | None = None
-    down_pv_h: float = 0.0  # ∫ v(t) dt over the hours down (present-value hours)
+    book: YearBook | None = None  # the replication's year book (hours down by year)
 
 
 class GroupTracker:
@@ -51,8 +51,8 @@ class GroupTracker:
     FLEET = "fleet"
 
     def __init__(self, groups: list[tuple[str, int, list[int]]], n_units: int,
-                 hold_planned: list[bool] | None = None, discount: Discount | None = None) -> None:
-        self.states = [_State(name, need, len(members), discount=discount)
+                 hold_planned: list[bool] | None = None, book: YearBook | None = None) -> None:
+        self.states = [_State(name, need, len(members), book=book)
                        for name, need, members in groups]
         self.hold = list(hold_planned) if hold_planned is not None else [False] * len(groups)
         self.any_hold = any(self.hold)
@@ -84,8 +84,8 @@ class GroupTracker:
         if st.down and st.down_units <= st.size - st.need:
             st.down = False
             st.down_h += now - st.since
-            if st.discount is not None:
-                st.down_pv_h += st.discount.integral(st.since, now)
+            if st.book is not None:
+                st.book.over(group_down_key(st.name), st.since, now)
             return True
         return False
 
@@ -141,9 +141,8 @@ class GroupTracker:
         rows: list[dict[str, float | int | str | bool]] = []
         for st in [*self.states, self.fleet]:
             down_h = st.down_h + (horizon_h - st.since if st.down else 0.0)
-            pv_h = st.down_pv_h
-            if st.down and st.discount is not None:
-                pv_h += st.discount.integral(st.since, horizon_h)
+            if st.down and st.book is not None:
+                st.book.over(group_down_key(st.name), st.since, horizon_h)
             rows.append(
                 {
                     "group": st.name,
@@ -154,7 +153,6 @@ class GroupTracker:
                     "down_events": st.events,
                     "had_down": st.events > 0,
                     "first_down_h": st.first_h,
-                    "down_pv_h": pv_h if st.discount is not None else down_h,
                 }
             )
         return rows

@@ -8,8 +8,13 @@ is repaired and runs again. :func:`quiet_process` does exactly what
 :meth:`UnitRunner.run <fleetsim.sim.unit.UnitRunner.run>` does for such a unit
 (same event log, same records, bit for bit; ``tests/test_sim_quiet.py``
 checks it), in one generator with the stop inlined, so a failure costs one
-timeout and a handful of Python statements. A fleet on run-to-failure and age
-replacement without finite stores or crews is all quiet units.
+timeout and a handful of Python statements. It shares the general process's
+helpers rather than copying them: the scan of the positions
+(:func:`~fleetsim.sim.setup.scan`), the install rule
+(:meth:`~fleetsim.sim.setup.PositionState.fit`) and the opportunistic rule
+(:meth:`~fleetsim.sim.setup.PositionState.opportunity_due`). A fleet on
+run-to-failure and age replacement without finite stores or crews is all quiet
+units.
 """
 
 from __future__ import annotations
@@ -19,11 +24,11 @@ from typing import TYPE_CHECKING, Any, cast
 
 import simpy
 
-from fleetsim.sim.setup import INF
+from fleetsim.sim.setup import INF, scan
+from fleetsim.sim.tally import CHANGES, DOWN_H, FAILURES, LABOUR_H, LOST_OPERATING_H
 from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
 
 if TYPE_CHECKING:
-    from fleetsim.sim.setup import PositionState
     from fleetsim.sim.stores import UnlimitedSupply  # a quiet unit's stores are all unlimited
     from fleetsim.sim.unit import UnitRunner
 
@@ -43,36 +48,17 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
     sampler = u.ctx.life_sampler
     phase_h = u.phase_h
     opportunistic = u.opportunistic
-    discount = u.discount
-    pv = u.pv
+    book = u.book
     timeout = env.timeout
     while True:
         # Running, with the operating-hour clock synchronised to now.
         now = env.now
         clock = u.clock_op
-        nxt = INF
-        failed: list[PositionState] | None = None
-        due: list[PositionState] | None = None
-        for p in positions:
-            fail_op = p.fail_op
-            if fail_op <= clock:
-                if failed is None:
-                    failed = [p]
-                else:
-                    failed.append(p)
-                continue
-            if fail_op < nxt:
-                nxt = fail_op
-            due_op = p.due_op
-            if due_op <= clock:
-                p.due_op = INF
+        # The one scan of both processes; a quiet position's defect is its failure.
+        failed, due, _defects, nxt = scan(positions, clock)
+        if due is not None:
+            for p in due:
                 p.pending = True
-                if due is None:
-                    due = [p]
-                else:
-                    due.append(p)
-            elif due_op < nxt:
-                nxt = due_op
         if failed is None and due is None:
             if nxt == INF or not share > 0.0:
                 return  # nothing more can happen to this unit (it may never age)
@@ -102,10 +88,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
             counts["defects"] += len(failed)
             counts["failures"] += len(failed)
             u.failures += len(failed)
-            if discount is not None:
-                v = discount.factor(now)
-                for _ in failed:  # one addition per failure, as the general process does
-                    pv["failures"] += v
+            for _ in failed:  # one booking per failure, as the general process does
+                book.at(FAILURES, now)
             if log is not None:
                 log(now, uid, "", "work")
             duration = unplanned.quantile(failed[0].stop_u)
@@ -133,6 +117,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         if duration > 0.0:
             yield timeout(duration)
             now = env.now
+            book.over(LABOUR_H, now - duration, now)
         for p in work:
             if p.failed:
                 kind = "corrective"
@@ -144,8 +129,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 kind = "opportunistic"
                 p.opportunistic += 1
                 counts["opportunistic"] += 1
-            if discount is not None and kind != "corrective":
-                pv["changes"] += discount.factor(now)
+            if kind != "corrective":
+                book.at(CHANGES, now)
             if log is not None:
                 log(now, uid, p.id, kind)
             # A new bearing, by the one install rule (PositionState.fit).
@@ -156,10 +141,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[u.phase] += now - u.phase_t
         u.phase = RUNNING
         u.phase_t = now
-        if discount is not None:
-            lost = discount.integral(u.down_since, now)
-            pv["down_h"] += lost
-            pv["lost_operating_h"] += share * lost
+        book.over(DOWN_H, u.down_since, now)
+        book.over(LOST_OPERATING_H, u.down_since, now, share)
         up(now)
         if log is not None:
             log(now, uid, "", "up")

@@ -42,6 +42,7 @@ import pandas as pd
 
 from fleetsim.scenario.model import HOURS_PER_YEAR
 from fleetsim.sim.tally import Tally
+from fleetsim.sim.years import YearBook
 
 EVENT_COLUMNS = ("time_h", "unit", "position", "kind")
 DOWN_CAUSES = ("waiting_spare_h", "waiting_crew_h", "repair_h", "planned_h")
@@ -83,18 +84,15 @@ MAX_EVENTS_KEPT = 200_000
 class Recorder:
     """Mutable counters and the event log of a running replication."""
 
-    __slots__ = ("keep_events", "events", "counts", "pv", "truncated")
+    __slots__ = ("keep_events", "events", "counts", "book", "truncated")
 
-    def __init__(self, keep_events: bool) -> None:
+    def __init__(self, keep_events: bool, book: YearBook) -> None:
         self.keep_events = keep_events
         self.truncated = False
         self.events: list[tuple[float, str, str, str]] = []
         self.counts: dict[str, int] = dict.fromkeys(COUNT_NAMES, 0)
-        #: with discounting (:mod:`fleetsim.sim.discount`): the sum of discount factors of
-        #: failures, planned and opportunistic changes and inspections, and the integral
-        #: of the discount factor over every unit's stopped hours (``down_h``)
-        self.pv: dict[str, float] = dict.fromkeys(
-            ("failures", "changes", "inspections", "down_h", "lost_operating_h"), 0.0)
+        #: what costs are charged on, per calendar year (:mod:`fleetsim.sim.years`)
+        self.book = book
 
     def log(self, time_h: float, unit: str, position: str, kind: str) -> None:
         """Append one event to the log (the first :data:`MAX_EVENTS_KEPT`; a warning after)."""

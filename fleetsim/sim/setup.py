@@ -154,6 +154,52 @@ def looks_needed(plan: MaintenancePlan, det_table: UniformTable, k: int) -> np.n
     return inspections_to_detect(det_table.row(k), plan.detection[None, :])
 
 
+def scan(
+    positions: list[PositionState], clock_op: float
+) -> tuple[list[PositionState] | None, list[PositionState] | None, list[PositionState] | None,
+           float]:
+    """The one scan of a unit's positions at operating clock ``clock_op`` (both processes).
+
+    Returns ``(failed, due, defects, next_op)``: the positions whose failure has come,
+    those whose age replacement fell due (their ``due_op`` is cleared: asked once),
+    those whose defect appeared (marked seen), each None when empty, and the
+    operating clock value of the next of these events (inf: none).
+    """
+    nxt = INF
+    failed: list[PositionState] | None = None
+    due: list[PositionState] | None = None
+    defects: list[PositionState] | None = None
+    for p in positions:
+        if not p.defect_seen:
+            if p.defect_op <= clock_op:
+                p.defect_seen = True
+                if defects is None:
+                    defects = [p]
+                else:
+                    defects.append(p)
+            elif p.defect_op < nxt:
+                nxt = p.defect_op
+        fail_op = p.fail_op
+        if fail_op <= clock_op:
+            if failed is None:
+                failed = [p]
+            else:
+                failed.append(p)
+            continue
+        if fail_op < nxt:
+            nxt = fail_op
+        due_op = p.due_op
+        if due_op <= clock_op:
+            p.due_op = INF
+            if due is None:
+                due = [p]
+            else:
+                due.append(p)
+        elif due_op < nxt:
+            nxt = due_op
+    return failed, due, defects, nxt
+
+
 class PositionState:
     """The current bearing of one position of one unit, and its counters."""
 

@@ -32,7 +32,8 @@ import numpy as np
 import simpy
 
 from fleetsim.scenario.model import Stock
-from fleetsim.sim.discount import Discount
+from fleetsim.sim.tally import emergency_key, issued_key, on_hand_key, ordered_key
+from fleetsim.sim.years import YearBook
 
 
 class Claim:
@@ -62,7 +63,6 @@ class StoreStats:
     __slots__ = (
         "demands", "issued", "stockouts", "orders", "emergency_orders", "ordered_units",
         "on_hand_area", "backorder_area", "on_hand_end", "backorders_end", "on_order_end",
-        "issued_pv", "on_hand_pv_area", "emergency_pv",
     )  # fmt: skip
 
     def __init__(self) -> None:
@@ -77,11 +77,6 @@ class StoreStats:
         self.on_hand_end = 0
         self.backorders_end = 0
         self.on_order_end = 0
-        # With discounting (fleetsim.sim.discount): the sums of discount factors of the
-        # spares issued and the emergency orders, and ∫ on_hand · v(t) dt.
-        self.issued_pv = 0.0
-        self.on_hand_pv_area = 0.0
-        self.emergency_pv = 0.0
 
 
 Log = Callable[[float, str, str, str], None]
@@ -90,17 +85,20 @@ Log = Callable[[float, str, str, str], None]
 class UnlimitedSupply:
     """A bearing with no stock entry: every request is filled at once.
 
-    ``env`` and ``discount`` are needed only to discount the parts it issues.
+    ``env`` and ``book`` are needed only to book the parts it issues by year
+    (:mod:`fleetsim.sim.years`); a spare issued is a spare bought.
     """
 
     limited = False
 
     def __init__(self, bearing_id: str, env: simpy.Environment | None = None,
-                 discount: Discount | None = None) -> None:
+                 book: YearBook | None = None) -> None:
         self.bearing_id = bearing_id
         self.stats = StoreStats()
         self.env = env
-        self.discount = discount if env is not None else None
+        self.book = book if env is not None else None
+        self._issued_key = issued_key(bearing_id)
+        self._ordered_key = ordered_key(bearing_id)
 
     def demand(
         self, unit: str, position: str, notify: Callable[[], None] | None, failure: bool = False
@@ -114,8 +112,10 @@ class UnlimitedSupply:
         directly; :meth:`demand` and :meth:`try_issue` go through it)."""
         self.stats.demands += 1
         self.stats.issued += 1
-        if self.discount is not None:
-            self.stats.issued_pv += self.discount.factor(now)
+        book = self.book
+        if book is not None:
+            book.at(self._issued_key, now)
+            book.at(self._ordered_key, now)
 
     def expedite(self, claim: Claim, unit: str, position: str) -> bool:
         """Never needed: claims are always filled."""
@@ -146,8 +146,9 @@ class SpareStore:
         Generators of normal and emergency lead times.
     log
         ``log(time_h, unit, position, kind)`` or None.
-    discount
-        Discounting of parts, holding and emergency premiums, or None.
+    book
+        The replication's year book (parts issued and bought, spares on the
+        shelf and emergency orders, by year), or None.
     """
 
     limited = True
@@ -160,10 +161,10 @@ class SpareStore:
         lead_rng: np.random.Generator,
         emergency_rng: np.random.Generator | None,
         log: Log | None,
-        discount: Discount | None = None,
+        book: YearBook | None = None,
     ) -> None:
         self.env = env
-        self.discount = discount
+        self.book = book
         self.bearing_id = bearing_id
         self.stock = stock
         self.lead_rng = lead_rng
@@ -183,14 +184,14 @@ class SpareStore:
         if dt > 0.0:
             self.stats.on_hand_area += self.on_hand * dt
             self.stats.backorder_area += len(self.backorders) * dt
-            if self.discount is not None:
-                self.stats.on_hand_pv_area += self.on_hand * self.discount.integral(self._t_last, now)
+            if self.book is not None and self.on_hand:
+                self.book.over(on_hand_key(self.bearing_id), self._t_last, now, self.on_hand)
             self._t_last = now
 
     def _issued(self) -> None:
         self.stats.issued += 1
-        if self.discount is not None:
-            self.stats.issued_pv += self.discount.factor(self.env.now)
+        if self.book is not None:
+            self.book.at(issued_key(self.bearing_id), self.env.now)
 
     @property
     def inventory_position(self) -> int:
@@ -249,8 +250,8 @@ class SpareStore:
         assert self.emergency_rng is not None
         claim.expedited = True
         self.stats.emergency_orders += 1
-        if self.discount is not None:
-            self.stats.emergency_pv += self.discount.factor(self.env.now)
+        if self.book is not None:
+            self.book.at(emergency_key(self.bearing_id), self.env.now)
         self._place(1, lead.sample(self.emergency_rng), claim, "emergency_order", unit, position)
         return True
 
@@ -268,6 +269,8 @@ class SpareStore:
     ) -> None:
         self.on_order += qty
         self.stats.ordered_units += qty
+        if self.book is not None:
+            self.book.at(ordered_key(self.bearing_id), self.env.now, qty)
         if self.log is not None:
             self.log(self.env.now, unit, position, kind)
         arrival = self.env.timeout(lead_h)

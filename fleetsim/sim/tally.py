@@ -2,9 +2,10 @@
 
 Both engines (:mod:`fleetsim.sim.engine`, :mod:`fleetsim.sim.vector`) reduce
 a replication to a :class:`Tally`: counts, downtime by cause, per machine
-type, per bearing kind and per group, and the *charged* quantities that
-costs are computed from (present values at the study's discount rate; with
-rate 0 the plain sums, see :mod:`fleetsim.sim.discount`). :func:`costs_of` is
+type, per bearing kind and per group, and a :class:`~fleetsim.sim.years.YearBook`
+of the quantities that costs are charged on, per calendar year (plain and
+present values at the study's discount rate; with rate 0 they coincide, see
+:mod:`fleetsim.sim.discount`). :func:`costs_of` is
 the only cost model; :func:`fleetsim.study.figures.figures_of` the only
 reduction of a tally to a study's figures.
 
@@ -25,9 +26,12 @@ Cost conventions (one place):
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
+
+import numpy as np
 
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
+from fleetsim.sim.years import YearBook
 
 #: Causes of downtime, in unit-hours (calendar hours a unit is down).
 DOWN_CAUSES = ("crew", "spares", "repair", "planned")
@@ -64,24 +68,34 @@ class GroupTally:
     down_h: float
 
 
-@dataclass
-class Charged:
-    """What costs are charged on: present values (plain sums at rate 0).
+# Keys of the year book (fleetsim.sim.years) that costs are charged on, shared by both engines.
+CHANGES, FAILURES, INSPECTIONS = "changes", "failures", "inspections"
+DOWN_H, LOST_OPERATING_H, LABOUR_H = "down_h", "lost_operating_h", "labour_h"
 
-    ``changes`` planned and opportunistic changes; ``failures``;
-    ``inspections``; ``lost_operating_h`` operating hours lost;
-    per bearing: ``issued`` spares, ``on_hand_h`` part-hours on the shelf,
-    ``emergency`` emergency orders; per group: ``group_down_h`` hours down.
-    """
 
-    changes: float = 0.0
-    failures: float = 0.0
-    inspections: float = 0.0
-    lost_operating_h: float = 0.0
-    issued: dict[str, float] = field(default_factory=dict)
-    on_hand_h: dict[str, float] = field(default_factory=dict)
-    emergency: dict[str, float] = field(default_factory=dict)
-    group_down_h: dict[str, float] = field(default_factory=dict)
+def issued_key(bearing: str) -> str:
+    """Year-book key of the spares of ``bearing`` issued from the store."""
+    return f"issued:{bearing}"
+
+
+def ordered_key(bearing: str) -> str:
+    """Year-book key of the spares of ``bearing`` bought (ordered; issued, when unlimited)."""
+    return f"ordered:{bearing}"
+
+
+def on_hand_key(bearing: str) -> str:
+    """Year-book key of the part-hours of ``bearing`` on the shelf."""
+    return f"on_hand:{bearing}"
+
+
+def emergency_key(bearing: str) -> str:
+    """Year-book key of the emergency orders of ``bearing``."""
+    return f"emergency:{bearing}"
+
+
+def group_down_key(group: str) -> str:
+    """Year-book key of the hours group ``group`` is down."""
+    return f"group_down:{group}"
 
 
 @dataclass
@@ -94,7 +108,7 @@ class Tally:
     machines: dict[str, MachineTally]
     bearings: dict[str, BearingTally]
     groups: list[GroupTally]
-    charged: Charged
+    book: YearBook
 
     @property
     def years(self) -> float:
@@ -102,27 +116,39 @@ class Tally:
         return self.horizon_h / HOURS_PER_YEAR
 
 
+def costs_by_year(tally: Tally, scenario: Scenario) -> dict[str, np.ndarray]:
+    """The costs of a replication by category and calendar year (present values when discounted).
+
+    Categories: ``planned_labour``, ``failure_labour``, ``parts``, ``downtime``,
+    ``group_downtime``, ``inspection``, ``holding``, ``emergency``; each an array
+    over the years of :attr:`Tally.book`.
+    """
+    c = scenario.costs
+    book = tally.book
+    pv = book.years
+    zero = np.zeros(book.n)
+    bearings = sorted(set(scenario.bearings) | set(scenario.stores))
+    price = {b: scenario.bearings[b].price if b in scenario.bearings else 0.0 for b in bearings}
+    premium = {b: s.emergency_premium for b, s in scenario.stores.items()}
+    return {
+        "planned_labour": pv(CHANGES) * c.planned_replacement,
+        "failure_labour": pv(FAILURES) * (c.planned_replacement + c.failure),
+        "parts": sum((pv(issued_key(b)) * price[b] for b in bearings), zero),
+        "downtime": pv(LOST_OPERATING_H) * c.downtime_per_hour,
+        "group_downtime": sum((pv(group_down_key(g.id)) * g.downtime_per_hour
+                               for g in scenario.groups), zero),
+        "inspection": pv(INSPECTIONS) * c.inspection,
+        "holding": sum((pv(on_hand_key(b)) * (c.holding_rate_per_year * price[b] / HOURS_PER_YEAR)
+                        for b in bearings), zero),
+        "emergency": sum((pv(emergency_key(b)) * premium.get(b, 0.0) for b in bearings), zero),
+    }
+
+
 def costs_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
     """The costs of a replication by category, and ``total`` (present value when discounted).
 
-    Categories: ``planned_labour``, ``failure_labour``, ``parts``, ``downtime``,
-    ``group_downtime``, ``inspection``, ``holding``, ``emergency``.
+    The sums over the years of :func:`costs_by_year`.
     """
-    c = scenario.costs
-    ch = tally.charged
-    price = {b: scenario.bearings[b].price if b in scenario.bearings else 0.0 for b in ch.issued}
-    premium = {b: s.emergency_premium for b, s in scenario.stores.items()}
-    group_rate = {g.id: g.downtime_per_hour for g in scenario.groups}
-    out = {
-        "planned_labour": ch.changes * c.planned_replacement,
-        "failure_labour": ch.failures * (c.planned_replacement + c.failure),
-        "parts": sum(n * price[b] for b, n in ch.issued.items()),
-        "downtime": ch.lost_operating_h * c.downtime_per_hour,
-        "group_downtime": sum(h * group_rate.get(g, 0.0) for g, h in ch.group_down_h.items()),
-        "inspection": ch.inspections * c.inspection,
-        "holding": sum(c.holding_rate_per_year * price.get(b, 0.0) * h / HOURS_PER_YEAR
-                       for b, h in ch.on_hand_h.items()),
-        "emergency": sum(n * premium.get(b, 0.0) for b, n in ch.emergency.items()),
-    }
+    out = {k: float(v.sum()) for k, v in costs_by_year(tally, scenario).items()}
     out["total"] = sum(out.values())
     return out

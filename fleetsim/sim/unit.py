@@ -46,7 +46,8 @@ import simpy
 from simpy.resources.resource import PriorityRequest
 
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
-from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext
+from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext, scan
+from fleetsim.sim.tally import CHANGES, DOWN_H, FAILURES, INSPECTIONS, LABOUR_H, LOST_OPERATING_H
 
 _FAILURE, _PLANNED = 0, 1
 # Phases of a unit, in the order of ReplicationResult.units' columns.
@@ -108,7 +109,7 @@ class UnitRunner:
         self.failures = 0
         self.down_since = 0.0
         self.discount = ctx.discount
-        self.pv = ctx.recorder.pv
+        self.book = ctx.recorder.book
         self.random_stops = setup.random_stops
         self.opportunistic = setup.opportunistic
         self.holds = ctx.groups.holds(unit_index)
@@ -174,10 +175,9 @@ class UnitRunner:
         self.phase_h[self.phase] += now - self.phase_t
         self.phase = RUNNING
         self.phase_t = now
-        if self.discount is not None:
-            down = self.discount.integral(self.down_since, now)
-            self.pv["down_h"] += down
-            self.pv["lost_operating_h"] += self.share * down
+        book = self.book
+        book.over(DOWN_H, self.down_since, now)
+        book.over(LOST_OPERATING_H, self.down_since, now, self.share)
         self.ctx.groups.unit_up(self.index, now)
         if self.log is not None:
             self.log(now, self.id, "", "up")
@@ -202,8 +202,7 @@ class UnitRunner:
         self.failures += 1
         counts = self.counts
         counts["failures"] += 1
-        if self.discount is not None:
-            self.pv["failures"] += self.discount.factor(self.env.now)
+        self.book.at(FAILURES, self.env.now)
         if p.is_condition:
             counts["failures_after_detection" if p.detected else "missed_defects"] += 1
         if self.log is not None:
@@ -250,8 +249,7 @@ class UnitRunner:
         self._sync()
         now = self.env.now
         self.counts["inspections"] += 1
-        if self.discount is not None:
-            self.pv["inspections"] += self.discount.factor(now)
+        self.book.at(INSPECTIONS, now)
         if self.log is not None:
             self.log(now, self.id, "", "inspection")
         clock = self.clock_op
@@ -293,29 +291,13 @@ class UnitRunner:
                 self.clock_op += share * (now - self.t_sync)
             self.t_sync = now
             clock = self.clock_op
-            nxt = INF
-            failed: list[PositionState] | None = None
-            for p in positions:
-                if not p.defect_seen:
-                    if p.defect_op <= clock:
-                        self._defect(p)
-                    elif p.defect_op < nxt:
-                        nxt = p.defect_op
-                fail_op = p.fail_op
-                if fail_op <= clock:
-                    if failed is None:
-                        failed = [p]
-                    else:
-                        failed.append(p)
-                    continue
-                if fail_op < nxt:
-                    nxt = fail_op
-                due = p.due_op
-                if due <= clock:
-                    p.due_op = INF
+            failed, due, defects, nxt = scan(positions, clock)
+            if defects is not None:
+                for p in defects:
+                    self._defect(p)
+            if due is not None:
+                for p in due:
                     self._request(p, now)
-                elif due < nxt:
-                    nxt = due
             if failed is not None:
                 for p in failed:
                     self._fail(p)
@@ -399,6 +381,7 @@ class UnitRunner:
         duration = self.ctx.crews_spec.unplanned_repair.quantile(failed[0].stop_u)
         if duration > 0.0:
             yield env.timeout(duration)
+            self.book.over(LABOUR_H, env.now - duration, env.now)
         self._renew(work)
         crews.release(req, duration)
         self._go_up()
@@ -422,6 +405,7 @@ class UnitRunner:
         duration = self.ctx.crews_spec.planned_repair.quantile(lead.stop_u)
         if duration > 0.0:
             yield env.timeout(duration)
+            self.book.over(LABOUR_H, env.now - duration, env.now)
         self._renew(work)
         self.ctx.crews.release(req, duration)
         self._go_up()
@@ -454,8 +438,8 @@ class UnitRunner:
             elif kind == "opportunistic":
                 p.opportunistic += 1
                 counts["opportunistic"] += 1
-            if kind != "corrective" and self.discount is not None:
-                self.pv["changes"] += self.discount.factor(now)
+            if kind != "corrective":
+                self.book.at(CHANGES, now)
             if self.log is not None:
                 self.log(now, self.id, p.id, kind)
             self.install(p)
@@ -468,10 +452,9 @@ class UnitRunner:
         """Close the books at the horizon: the operating clock and the current phase."""
         if self.running:
             self.clock_op += self.share * (horizon_h - self.t_sync)
-        elif self.discount is not None:
-            down = self.discount.integral(self.down_since, horizon_h)
-            self.pv["down_h"] += down
-            self.pv["lost_operating_h"] += self.share * down
+        else:
+            self.book.over(DOWN_H, self.down_since, horizon_h)
+            self.book.over(LOST_OPERATING_H, self.down_since, horizon_h, self.share)
         self.t_sync = horizon_h
         self.phase_h[self.phase] += horizon_h - self.phase_t
         self.phase_t = horizon_h

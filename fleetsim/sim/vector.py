@@ -35,10 +35,24 @@ import numpy as np
 
 from fleetsim.scenario.model import Duration, Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
-from fleetsim.sim.discount import Discount, discount_for
+from fleetsim.sim.discount import discount_for
 from fleetsim.sim.schedule import compile_plan, inspections_to_detect
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
-from fleetsim.sim.tally import BearingTally, Charged, GroupTally, MachineTally, Tally
+from fleetsim.sim.tally import (
+    CHANGES,
+    DOWN_H,
+    FAILURES,
+    INSPECTIONS,
+    LABOUR_H,
+    LOST_OPERATING_H,
+    BearingTally,
+    GroupTally,
+    MachineTally,
+    Tally,
+    issued_key,
+    ordered_key,
+)
+from fleetsim.sim.years import YearBook
 
 _EPS = 1e-9
 INF = math.inf
@@ -47,8 +61,10 @@ INF = math.inf
 class _Sums:
     """What one machine type adds to the replication's tally."""
 
-    def __init__(self, machine: Machine, keep_intervals: bool) -> None:
+    def __init__(self, machine: Machine, keep_intervals: bool, book: YearBook) -> None:
         self.keep_intervals = keep_intervals
+        self.book = book
+        self.bearing = [p.bearing_id for p in machine.positions]
         self.first_stop_h = INF
         self.failures = np.zeros(machine.count)
         self.planned = 0.0
@@ -60,13 +76,17 @@ class _Sums:
         self.down_repair_h = 0.0
         self.down_planned_h = 0.0
         self.issued = np.zeros(len(machine.positions))
-        # present values (plain sums at rate 0, see fleetsim.sim.discount)
-        self.pv_changes = 0.0
-        self.pv_failures = 0.0
-        self.pv_inspections = 0.0
-        self.pv_lost_h = 0.0
-        self.pv_issued = np.zeros(len(machine.positions))
         self.intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []  # (unit, start, end)
+
+    def issue(self, positions: np.ndarray, t_h: np.ndarray) -> None:
+        """Spares issued (and, from unlimited supply, bought) for ``positions`` at ``t_h``."""
+        if positions.size == 0:
+            return
+        np.add.at(self.issued, positions, 1.0)
+        for j in np.unique(positions):
+            at = t_h[positions == j]
+            self.book.at_many(issued_key(self.bearing[j]), at)
+            self.book.at_many(ordered_key(self.bearing[j]), at)
 
     def stopped(self, units: np.ndarray, start_h: np.ndarray, end_h: np.ndarray) -> None:
         """Units ``units`` were down over [start_h, end_h) (kept for groups)."""
@@ -108,10 +128,10 @@ class _Lanes:
     """State of all units of one machine type in one replication (the general path)."""
 
     def __init__(self, machine: Machine, index: int, scenario: Scenario, streams: Streams,
-                 horizon_h: float, disc: Discount, keep_intervals: bool) -> None:
+                 horizon_h: float, book: YearBook, keep_intervals: bool) -> None:
         self.m = machine
         self.H = horizon_h
-        self.disc = disc
+        self.book = book
         plan = self.plan = compile_plan(machine)
         U, P = machine.count, len(machine.positions)
         self.U, self.P = U, P
@@ -123,7 +143,7 @@ class _Lanes:
         self.T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
         self.T_stop = streams.table(index, U, P, STOP) if random_stops else None
         self.T_det = streams.table(index, U, P, DETECTION) if plan.rounds else None
-        self.sums = _Sums(machine, keep_intervals)
+        self.sums = _Sums(machine, keep_intervals, book)
         self.t = np.zeros(U)
         age0 = machine.ages_h()
         self.age = age0.copy()
@@ -172,10 +192,8 @@ class _Lanes:
         if new.any():
             self.pending |= new
             u, p = np.nonzero(new)
-            s = self.sums
             when = self.t if asked is None else asked
-            np.add.at(s.issued, p, 1.0)
-            np.add.at(s.pv_issued, p, self.disc.factors(when[u]))
+            self.sums.issue(p, when[u])
 
     # --- stepping ----------------------------------------------------------------------
     def step(self) -> bool:
@@ -246,7 +264,7 @@ class _Lanes:
     def _inspect(self, lanes: np.ndarray, positions: tuple[int, ...]) -> None:
         s = self.sums
         s.inspections += float(lanes.sum())
-        s.pv_inspections += float(self.disc.factors(self.t[lanes]).sum())
+        self.book.at_many(INSPECTIONS, self.t[lanes])
         cols = np.zeros(self.P, dtype=bool)
         cols[list(positions)] = True
         window = (lanes[:, None] & cols[None, :] & ~self.detected
@@ -277,22 +295,20 @@ class _Lanes:
         n_fail = fu.sum(axis=1)
         if n_fail.any():
             s.failures[u] += n_fail
-            s.pv_failures += float((n_fail * self.disc.factors(t0)).sum())
+            self.book.at_many(FAILURES, t0, n_fail)
             cond = plan.inspected[None, :]
             s.missed_defects += float((fu & cond & ~self.detected[u]).sum())
             s.failures_after_detection += float((fu & cond & self.detected[u]).sum())
             new_claim = fu & ~self.pending[u]
             ui, pi = np.nonzero(new_claim)
-            np.add.at(s.issued, pi, 1.0)
-            np.add.at(s.pv_issued, pi, self.disc.factors(t0[ui]))
+            s.issue(pi, t0[ui])
         pend = self.pending[u] & ~fu
         if plan.opportunistic:
             cal_age = t0[:, None] - self.fitted_cal[u]
             age = np.where(plan.opportunistic_calendar[None, :], cal_age, self.age[u])
             opp = ~fu & ~pend & (age >= plan.opportunistic_age_h[None, :])
             ui, pi = np.nonzero(opp)
-            np.add.at(s.issued, pi, 1.0)
-            np.add.at(s.pv_issued, pi, self.disc.factors(t0[ui]))
+            s.issue(pi, t0[ui])
         else:
             opp = np.zeros_like(pend)
         work = fu | pend | opp
@@ -309,13 +325,15 @@ class _Lanes:
         held = shown - t0
         s.down_repair_h += float(held[n_fail > 0].sum())
         s.down_planned_h += float(held[n_fail == 0].sum())
-        s.pv_lost_h += self.share * float(self.disc.integrals(t0, shown).sum())
+        self.book.over_many(DOWN_H, t0, shown)
+        self.book.over_many(LOST_OPERATING_H, t0, shown, self.share)
         s.stopped(u, t0, shown)
         done = end < self.H  # the changes count when the stop ends inside the horizon
         n_changes = (pend | opp).sum(axis=1)
         s.planned += float((pend.sum(axis=1))[done].sum())
         s.opportunistic += float(opp.sum(axis=1)[done].sum())
-        s.pv_changes += float((n_changes * self.disc.factors(end))[done].sum())
+        self.book.at_many(CHANGES, end[done], n_changes[done])
+        self.book.over_many(LABOUR_H, t0[done], end[done])
         # calendar jobs that fell inside the stop: block dates ask for what is not being
         # changed; inspections of a stopped unit are skipped
         whole = np.zeros((self.U, self.P), dtype=bool)
@@ -359,7 +377,7 @@ class _Lanes:
 
 
 def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: Streams,
-                   horizon_h: float, disc: Discount, keep_intervals: bool,
+                   horizon_h: float, book: YearBook, keep_intervals: bool,
                    budget: EventBudget | None = None) -> _Sums:
     """Fast path: each position an independent renewal process (run-to-failure/age).
 
@@ -376,7 +394,7 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
     T_life = streams.table(index, U, P, LIFE)
     T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
     T_stop = streams.table(index, U, P, STOP) if random_stops else None
-    s = _Sums(machine, keep_intervals)
+    s = _Sums(machine, keep_intervals, book)
     idx = np.arange(n)
     pos = np.tile(np.arange(P), U)
     cut0 = plan.age_due_h[pos]
@@ -409,18 +427,20 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
         p_in = inside & ~failed
         fails[idx[f_in]] += 1.0
         e_in = end[inside]
-        np.add.at(s.issued, p[inside], 1.0)
-        np.add.at(s.pv_issued, p[inside], disc.factors(e_in))
-        s.pv_failures += float(disc.factors(end[f_in]).sum())
+        s.issue(p[inside], e_in)
+        book.at_many(FAILURES, end[f_in])
         stop_end = end + d
         shown = np.minimum(stop_end, H)
         held = (shown - end)
         s.down_repair_h += float(held[f_in].sum())
         s.down_planned_h += float(held[p_in].sum())
-        s.pv_lost_h += share * float(disc.integrals(e_in, shown[inside]).sum())
+        book.over_many(DOWN_H, e_in, shown[inside])
+        book.over_many(LOST_OPERATING_H, e_in, shown[inside], share)
         done = p_in & (stop_end < H)
         s.planned += float(done.sum())
-        s.pv_changes += float(disc.factors(stop_end[done]).sum())
+        book.at_many(CHANGES, stop_end[done])
+        finished = inside & (stop_end < H)
+        book.over_many(LABOUR_H, end[finished], stop_end[finished])
         s.stopped(idx[inside] // P, e_in, shown[inside])
         keep = inside & (stop_end < H)
         idx, t = idx[keep], stop_end[keep]
@@ -442,7 +462,7 @@ def _renewal_exact(machine: Machine, scenario: Scenario) -> bool:
 
 
 def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: Streams,
-                     horizon_h: float, disc: Discount, keep_intervals: bool | None = None,
+                     horizon_h: float, book: YearBook, keep_intervals: bool | None = None,
                      budget: EventBudget | None = None) -> _Sums:
     """Simulate all units of one machine type for one replication.
 
@@ -453,8 +473,8 @@ def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: 
     """
     keep = bool(scenario.groups) if keep_intervals is None else keep_intervals
     if _renewal_exact(machine, scenario):
-        return _renewal_lanes(machine, index, scenario, streams, horizon_h, disc, keep, budget)
-    lanes = _Lanes(machine, index, scenario, streams, horizon_h, disc, keep)
+        return _renewal_lanes(machine, index, scenario, streams, horizon_h, book, keep, budget)
+    lanes = _Lanes(machine, index, scenario, streams, horizon_h, book, keep)
     while lanes.step():
         if budget is not None:
             budget.spend(max(machine.count, ROUND_EVENTS))
@@ -462,7 +482,7 @@ def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: 
 
 
 def _group_rows(scenario: Scenario, intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]],
-                horizon_h: float, disc: Discount, first_stop_h: float) -> list[dict]:
+                horizon_h: float, book: YearBook, first_stop_h: float) -> list[dict]:
     """Replay unit stops through the group tracker of the discrete-event engine."""
     from fleetsim.sim.groups import GroupTracker
 
@@ -471,9 +491,9 @@ def _group_rows(scenario: Scenario, intervals: list[tuple[np.ndarray, np.ndarray
     if not groups:
         # The fleet is down while any unit is down; only its first down event is reported.
         down = first_stop_h < horizon_h
-        return [{"group": "fleet", "had_down": down, "down_pv_h": math.nan,
+        return [{"group": "fleet", "had_down": down,
                  "first_down_h": first_stop_h if down else math.nan, "down_h": math.nan}]
-    tracker = GroupTracker(groups, n, discount=disc)
+    tracker = GroupTracker(groups, n, book=book)
     if intervals:
         unit = np.concatenate([iv[0] for iv in intervals])
         start = np.concatenate([iv[1] for iv in intervals])
@@ -523,14 +543,13 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     if any(g.hold_planned_work for g in scenario.groups):
         raise ValueError("groups that hold planned work back need the discrete-event engine")
     H = float(scenario.study.horizon_h if horizon_h is None else horizon_h)
-    disc = discount_for(scenario.costs.discount_rate_per_year)
+    book = YearBook(H, discount_for(scenario.costs.discount_rate_per_year))
     streams = Streams(seed)
     budget = EventBudget(event_budget(scenario, H), scenario.source)
-    sums = [simulate_machine(m, i, scenario, streams, H, disc, budget=budget)
+    sums = [simulate_machine(m, i, scenario, streams, H, book, budget=budget)
             for i, m in enumerate(scenario.machines)]
     machines: dict[str, MachineTally] = {}
     issued: dict[str, float] = {b: 0.0 for b in scenario.bearings}
-    pv_issued: dict[str, float] = {b: 0.0 for b in scenario.bearings}
     intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
     offset = 0
     for m, s in zip(scenario.machines, sums, strict=True):
@@ -539,14 +558,12 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
                                       down_h=down, lost_operating_h=down * m.operating_share)
         for j, pos in enumerate(m.positions):
             issued[pos.bearing_id] += float(s.issued[j])
-            pv_issued[pos.bearing_id] += float(s.pv_issued[j])
         intervals.extend((u + offset, a, b) for u, a, b in s.intervals)
         offset += m.count
-    rows = _group_rows(scenario, intervals, H, disc, min(s.first_stop_h for s in sums))
+    rows = _group_rows(scenario, intervals, H, book, min(s.first_stop_h for s in sums))
     total = {name: sum(getattr(s, name) for s in sums) for name in (
         "planned", "opportunistic", "inspections", "detections", "missed_defects",
-        "failures_after_detection", "down_repair_h", "down_planned_h", "pv_changes",
-        "pv_failures", "pv_inspections", "pv_lost_h")}
+        "failures_after_detection", "down_repair_h", "down_planned_h")}
     counts = {
         "failures": float(sum(float(s.failures.sum()) for s in sums)),
         "planned": total["planned"], "opportunistic": total["opportunistic"],
@@ -558,12 +575,6 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     groups = [GroupTally(str(r["group"]), bool(r["had_down"]),
                          H if not math.isfinite(float(r["first_down_h"])) else float(r["first_down_h"]),
                          float(r["down_h"])) for r in rows]
-    charged = Charged(
-        changes=total["pv_changes"], failures=total["pv_failures"],
-        inspections=total["pv_inspections"], lost_operating_h=total["pv_lost_h"],
-        issued=pv_issued, on_hand_h={}, emergency={},
-        group_down_h={str(r["group"]): float(r["down_pv_h"]) for r in rows if r["group"] != "fleet"},
-    )
     return Tally(
         horizon_h=H,
         counts=counts,
@@ -572,5 +583,5 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
         machines=machines,
         bearings={b: BearingTally(issued=n, fill_rate=1.0) for b, n in issued.items()},
         groups=groups,
-        charged=charged,
+        book=book,
     )

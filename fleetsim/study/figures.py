@@ -18,6 +18,8 @@ from __future__ import annotations
 import math
 from typing import TYPE_CHECKING
 
+import numpy as np
+
 if TYPE_CHECKING:
     from fleetsim.scenario.model import Scenario
     from fleetsim.sim.tally import Tally
@@ -67,7 +69,29 @@ KEYED_FIGURES: dict[str, tuple[str, str, str]] = {
     "group_down": ("group", "0/1", "1 if the group had a down event"),
     "group_downtime_h": ("group", "h", "time the group was down"),
     "group_first_down_h": ("group", "h", "time of the group's first down event (horizon if none)"),
+    # the year-by-year plan: key = calendar year from the start, 1, 2, ... (the last may be
+    # partial); with a bearing, "<bearing>@<year>"
+    "cost_in_year": ("year", "currency", "all costs in the year (present value when discounted)"),
+    "failures_in_year": ("year", "count", "functional failures in the year"),
+    "changes_in_year": ("year", "count", "planned and opportunistic changes made in the year"),
+    "inspections_in_year": ("year", "count", "inspections in the year"),
+    "labour_h_in_year": ("year", "crew-hours", "crew hours of repair and planned work in the year"),
+    "downtime_h_in_year": ("year", "unit-hours", "machine-unit hours down in the year"),
+    "spares_issued_in_year": ("bearing@year", "count", "spares of the bearing issued in the year"),
+    "spares_ordered_in_year": ("bearing@year", "count",
+                               "spares of the bearing bought in the year (ordered; issued, "
+                               "when supply is unlimited)"),
 }
+
+#: The families of the year-by-year plan (sums over the years are the horizon totals).
+YEAR_FAMILIES = ("cost_in_year", "failures_in_year", "changes_in_year", "inspections_in_year",
+                 "labour_h_in_year", "downtime_h_in_year", "spares_issued_in_year",
+                 "spares_ordered_in_year")
+
+
+def year_key(year: int, bearing: str | None = None) -> str:
+    """Key of a year-by-year figure: ``"3"``, or ``"WB-50@3"`` with a bearing (years from 1)."""
+    return f"{year}" if bearing is None else f"{bearing}@{year}"
 
 
 def keyed(prefix: str, key: str) -> str:
@@ -114,7 +138,16 @@ def figures_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
     one cost model) behind every study, sweep and report.
     """
     from fleetsim.sim.discount import per_year
-    from fleetsim.sim.tally import costs_of
+    from fleetsim.sim.tally import (
+        CHANGES,
+        DOWN_H,
+        FAILURES,
+        INSPECTIONS,
+        LABOUR_H,
+        costs_by_year,
+        issued_key,
+        ordered_key,
+    )
 
     H = tally.horizon_h
     c = tally.counts
@@ -144,7 +177,9 @@ def figures_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
         out[f"failures:{m.id}"] = mt.failures
         out[f"downtime_h:{m.id}"] = mt.down_h
         out[f"availability:{m.id}"] = 1.0 - mt.down_h / (m.count * H)
-    costs = costs_of(tally, scenario)
+    by_year = costs_by_year(tally, scenario)
+    costs = {k: float(v.sum()) for k, v in by_year.items()}
+    costs["total"] = sum(costs.values())
     for name in ("parts", "planned", "failure", "downtime", "group_downtime", "inspection",
                  "holding", "emergency"):
         key = {"planned": "planned_labour", "failure": "failure_labour"}.get(name, name)
@@ -158,6 +193,23 @@ def figures_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
         out[f"spares_per_year:{b}"] = issued / tally.years
         fill = bt.fill_rate if bt is not None else 1.0
         out[f"fill_rate:{b}"] = fill if math.isfinite(fill) else 1.0
+    book = tally.book
+    year_cost = np.sum(list(by_year.values()), axis=0)
+    plain = {"failures_in_year": book.years(FAILURES, False),
+             "changes_in_year": book.years(CHANGES, False),
+             "inspections_in_year": book.years(INSPECTIONS, False),
+             "labour_h_in_year": book.years(LABOUR_H, False),
+             "downtime_h_in_year": book.years(DOWN_H, False)}
+    for y in range(book.n):
+        key = year_key(y + 1)
+        out[f"cost_in_year:{key}"] = float(year_cost[y])
+        for family, values in plain.items():
+            out[f"{family}:{key}"] = float(values[y])
+    for b in scenario.bearings:
+        issued_y, ordered_y = book.years(issued_key(b), False), book.years(ordered_key(b), False)
+        for y in range(book.n):
+            out[f"spares_issued_in_year:{year_key(y + 1, b)}"] = float(issued_y[y])
+            out[f"spares_ordered_in_year:{year_key(y + 1, b)}"] = float(ordered_y[y])
     for g in tally.groups:
         if g.id == "fleet":
             out["fleet_down"] = float(g.had_down)

@@ -53,7 +53,7 @@ from fleetsim.plan.lifelike import integrated_reliability
 from fleetsim.scenario.model import HOURS_PER_YEAR, Machine, Policy, Scenario
 from fleetsim.study.cluster import DaskCluster
 from fleetsim.study.engines import choose_engine, replicate
-from fleetsim.study.figures import split, unit_of
+from fleetsim.study.figures import YEAR_FAMILIES, split, unit_of
 from fleetsim.study.result import StudyResult
 from fleetsim.study.runner import Progress, run_replications
 
@@ -70,7 +70,7 @@ _TAIL = 1e-12
 _ADDITIVE_UNITS = ("count", "unit-hours", "currency")
 #: Figures that cannot be taken over a window of a longer run: left out of the policy view.
 _NOT_WINDOWED = ("fleet_down", "fleet_first_down_h", "group_down", "group_first_down_h",
-                 "fill_rate")
+                 "fill_rate", *YEAR_FAMILIES)  # the year-by-year plan is the budget view's
 
 
 @dataclasses.dataclass(frozen=True)
