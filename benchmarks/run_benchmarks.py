@@ -8,7 +8,8 @@ prints, in one run:
 * yardsticks on the same run-to-failure fleet — a bare SimPy model (one
   process per position, nothing else), the same with the garbage collector
   paused as the DES pauses it, and a bare numpy renewal sampler — and
-  fleetsim's figures as ratios to them;
+  fleetsim's figures as ratios to them; the vectorised engine with 8 h repairs
+  against a bare numpy sampler whose cycles are life + 8 h;
 * the speed-up of the vectorised engine over the discrete-event engine;
 * the scaling of a 200-replication study from one to two workers, beside
   what two processes give on this machine in the same rounds;
@@ -118,8 +119,8 @@ def bare_simpy_paused(positions: int, seed: int) -> int:
         return bare_simpy(positions, seed)
 
 
-def bare_numpy(positions: int, seed: int) -> int:
-    """Run-to-failure renewal counts by cumulative sums of sampled lives."""
+def bare_numpy(positions: int, seed: int, repair_h: float = 0.0) -> int:
+    """Run-to-failure renewal counts by cumulative sums of sampled lives (+ a repair each)."""
     rng = np.random.default_rng(seed)
     t = np.zeros(positions)
     failures = 0
@@ -128,6 +129,7 @@ def bare_numpy(positions: int, seed: int) -> int:
         t[active] += LIFE.location_h + LIFE.scale_h * rng.weibull(LIFE.shape, int(active.sum()))
         active &= t < HORIZON_H
         failures += int(active.sum())
+        t[active] += repair_h
     return failures
 
 
@@ -209,6 +211,24 @@ def throughput(sizes: list[int], des_max: int) -> dict:
               f"{_cell(row, 'des_over_simpy', 10, '.2f')} {_cell(row, 'des_over_simpy_paused', 10, '.2f')} "
               f"{_cell(row, 'bare_numpy')} {_cell(row, 'vector')} "
               f"{_cell(row, 'vector_over_numpy', 10, '.2f')} {_cell(row, 'vector_over_des', 8, '.2f')}")
+    print("\nRun-to-failure with 8 h repairs (four positions a unit: a repair stops the unit) "
+          "against a bare numpy sampler whose cycles are life + 8 h; medians of "
+          f"{YARDSTICK_ROUNDS} alternated rounds")
+    print(f"{'positions':>9} {'bare numpy':>12} {'vector':>12} {'vec/numpy':>10}")
+    out["repairs"] = {}
+    for n in sizes:
+        sc = fleet(n, Policy(), repair_h=8.0)
+        py = position_years(sc)
+        runs = {"vector": [], "bare_numpy": []}
+        for _ in range(YARDSTICK_ROUNDS):
+            runs["vector"].append(py / timed(lambda i, sc=sc: vector_run(sc, i), 0.3))
+            runs["bare_numpy"].append(py / timed(lambda i, n=n: bare_numpy(n, i, 8.0), 0.3))
+        row = {"bare_numpy": float(np.median(runs["bare_numpy"])),
+               "vector": float(np.median(runs["vector"])),
+               "vector_over_numpy": _ratio(runs, "vector", "bare_numpy")}
+        out["repairs"][n] = row
+        print(f"{n:>9} {_cell(row, 'bare_numpy')} {_cell(row, 'vector')} "
+              f"{_cell(row, 'vector_over_numpy', 10, '.2f')}")
     return out
 
 

@@ -15,9 +15,9 @@ from dataclasses import dataclass, field
 from fleetsim.bounds import (
     APPLICATION_FACTOR,
     FIELD_FACTOR,
+    LOGNORMAL_SIGMA,
     ROTATION_FACTOR,
     VISCOSITY_RATIO,
-    LOGNORMAL_SIGMA,
     WEIBULL_SHAPE,
 )
 from fleetsim.errors import InputError

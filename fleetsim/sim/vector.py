@@ -21,10 +21,12 @@ ended). It fills the same :class:`~fleetsim.sim.tally.Tally`, so on the same
 seed both engines give the same figures (``tests/test_engine_identity.py``).
 
 When every position of a machine type is run-to-failure or age-replaced
-without opportunistic changes and a stop cannot delay another position (one
-position per unit, or zero stop durations), each position is an ordinary
-renewal process and the fast path :func:`_renewal_lanes` draws its cycles
-directly (cycle = min(life to F, T)/share + stop duration).
+without opportunistic changes, each position is an ordinary renewal process on
+its unit's operating clock (a stop freezes the clock, whatever its duration),
+and the whole-cycle path :func:`_renewal_lanes` draws the cycles directly,
+merges each unit's events into stops and places the stops on the calendar
+with a segmented cumulative sum: repairs, planned work and several positions
+per unit stay in arrays.
 """
 
 from __future__ import annotations
@@ -379,11 +381,17 @@ class _Lanes:
 def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: Streams,
                    horizon_h: float, book: YearBook, keep_intervals: bool,
                    budget: EventBudget | None = None) -> _Sums:
-    """Fast path: each position an independent renewal process (run-to-failure/age).
+    """Whole-cycle path: run-to-failure and age replacement, any stop durations.
 
-    Every position still inside the horizon advances by exactly one renewal per
-    round, so round k uses row k of the tables; positions that have passed the
-    horizon are dropped from the working arrays after each round.
+    A stop freezes the ageing of every position of its unit, so on the unit's
+    *operating* clock each position is an ordinary renewal process (cycle =
+    min(life to F, T)) whatever the stops. The path draws every position's
+    cycles on that clock in rounds (round k uses row k of the tables), merges
+    the events of a unit's positions by operating clock (events at the same
+    clock value are one stop, as in the discrete-event engine: a failure's stop
+    if any position failed), and only then places the stops on the calendar:
+    stop j of a unit starts at c_j / share + the durations of the stops before
+    it (a segmented cumulative sum). Nothing is stepped event by event.
     """
     U, P = machine.count, len(machine.positions)
     n = U * P
@@ -395,70 +403,88 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
     T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
     T_stop = streams.table(index, U, P, STOP) if random_stops else None
     s = _Sums(machine, keep_intervals, book)
+    H = horizon_h
+    c_max = share * H  # no unit runs more operating hours than this within the horizon
     idx = np.arange(n)
     pos = np.tile(np.arange(P), U)
     cut0 = plan.age_due_h[pos]
-    t = np.zeros(n)
     a0 = machine.ages_h().reshape(-1)
-    fails = np.zeros(n)
-    H = horizon_h
+    clock = np.zeros(n)  # operating clock at the current fitting of each position
+    parts: list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]] = []  # idx, clock, failed, u
     k = 0
     while idx.size:
         if budget is not None:
             budget.spend(max(idx.size, ROUND_EVENTS))
-        u_life = T_life.row(k).reshape(-1)[idx]
         p = pos[idx]
         age = a0[idx] if k == 0 else 0.0
-        life = _lives(machine, u_life, p, age)
+        life = _lives(machine, T_life.row(k).reshape(-1)[idx], p, age)
         if T_pf is not None:
             life = life + _pf(machine, T_pf.row(k).reshape(-1)[idx], p)
         cut = np.maximum(cut0[idx] - age, 0.0) if k == 0 else cut0[idx]
         failed = life <= cut  # a failure at the due age is a failure, as in the DES
-        with np.errstate(divide="ignore", invalid="ignore"):
-            end = t + np.minimum(life, cut) / share if share > 0 else np.full(idx.size, INF)
-        inside = end < H
-        if T_stop is not None:
-            su = T_stop.row(k).reshape(-1)[idx]
-            d = np.where(failed, _stop_hours(crews.unplanned_repair, su),
-                         _stop_hours(crews.planned_repair, su))
-        else:
-            d = np.where(failed, crews.unplanned_repair.value_h, crews.planned_repair.value_h)
-        f_in = inside & failed
-        p_in = inside & ~failed
-        fails[idx[f_in]] += 1.0
-        e_in = end[inside]
-        s.issue(p[inside], e_in)
-        book.at_many(FAILURES, end[f_in])
-        stop_end = end + d
-        shown = np.minimum(stop_end, H)
-        held = (shown - end)
-        s.down_repair_h += float(held[f_in].sum())
-        s.down_planned_h += float(held[p_in].sum())
-        book.over_many(DOWN_H, e_in, shown[inside])
-        book.over_many(LOST_OPERATING_H, e_in, shown[inside], share)
-        done = p_in & (stop_end < H)
-        s.planned += float(done.sum())
-        book.at_many(CHANGES, stop_end[done])
-        finished = inside & (stop_end < H)
-        book.over_many(LABOUR_H, end[finished], stop_end[finished])
-        s.stopped(idx[inside] // P, e_in, shown[inside])
-        keep = inside & (stop_end < H)
-        idx, t = idx[keep], stop_end[keep]
+        c = clock + np.minimum(life, cut)
+        inside = (c < c_max) | (c <= 0.0)  # (a position due at the start stops at once)
+        su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else np.full(idx.size, 0.5)
+        parts.append((idx[inside], c[inside], failed[inside], su[inside]))
+        idx, clock = idx[inside], c[inside]
         k += 1
-    s.failures += fails.reshape(U, P).sum(axis=1)
+    if not parts or sum(x[0].size for x in parts) == 0:
+        return s
+    e_idx = np.concatenate([x[0] for x in parts])
+    e_clock = np.concatenate([x[1] for x in parts])
+    e_fail = np.concatenate([x[2] for x in parts])
+    e_u = np.concatenate([x[3] for x in parts])
+    e_unit, e_pos = e_idx // P, e_idx % P
+    # one stop per (unit, clock value); inside a stop its lead first: the first failed
+    # position in position order, else the first position (the DES's stop_u choice)
+    order = np.lexsort((e_pos, ~e_fail, e_clock, e_unit))
+    e_unit, e_pos, e_clock, e_fail, e_u = (a[order] for a in (e_unit, e_pos, e_clock, e_fail, e_u))
+    new = np.ones(e_unit.size, dtype=bool)
+    new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
+    starts = np.flatnonzero(new)
+    stop_of = np.cumsum(new) - 1  # stop index of every event
+    st_unit, st_clock = e_unit[starts], e_clock[starts]
+    st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
+    d = np.where(st_fail, _stop_hours(crews.unplanned_repair, e_u[starts]),
+                 _stop_hours(crews.planned_repair, e_u[starts]))
+    # calendar start of each stop: operating clock / share + earlier stops of its unit
+    before = np.cumsum(d) - d
+    first = np.ones(starts.size, dtype=bool)
+    first[1:] = st_unit[1:] != st_unit[:-1]
+    unit_base = np.maximum.accumulate(np.where(first, before, -np.inf))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
+    t0 = run_h + (before - unit_base)
+    end = t0 + d
+    live = t0 < H  # stops the horizon reaches (and every event in them)
+    done = end < H  # stops whose changes are made within the horizon
+    ev_live, ev_done = live[stop_of], done[stop_of]
+    ev_t0 = t0[stop_of]
+    # counts and the year book, with the DES's conventions
+    failed_ev = e_fail & ev_live
+    np.add.at(s.failures, e_unit[failed_ev], 1.0)
+    book.at_many(FAILURES, ev_t0[failed_ev])
+    s.issue(e_pos[ev_live], ev_t0[ev_live])  # asked for at the failure or the due age
+    planned_ev = ~e_fail & ev_done
+    s.planned += float(planned_ev.sum())
+    book.at_many(CHANGES, end[stop_of][planned_ev])
+    shown = np.minimum(end, H)
+    held = np.where(live, shown - t0, 0.0)
+    s.down_repair_h += float(held[st_fail].sum())
+    s.down_planned_h += float(held[~st_fail].sum())
+    book.over_many(DOWN_H, t0[live], shown[live])
+    book.over_many(LOST_OPERATING_H, t0[live], shown[live], share)
+    book.over_many(LABOUR_H, t0[done], end[done])
+    s.stopped(st_unit[live], t0[live], shown[live])
     return s
 
 
 def _renewal_exact(machine: Machine, scenario: Scenario) -> bool:
+    """True when every position is run-to-failure or age-replaced without opportunistic
+    changes: each is then a renewal process on its unit's operating clock."""
     if not {p.policy.kind for p in machine.positions} <= {"run-to-failure", "age"}:
         return False
-    if any(p.policy.opportunistic_share is not None for p in machine.positions):
-        return False
-    if len(machine.positions) == 1:
-        return True
-    c = scenario.crews
-    return c.planned_repair.kind == "fixed" and c.planned_repair.value_h == 0 and \
-        c.unplanned_repair.kind == "fixed" and c.unplanned_repair.value_h == 0
+    return all(p.policy.opportunistic_share is None for p in machine.positions)
 
 
 def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: Streams,

@@ -115,6 +115,15 @@ class YearBook:
         a, p = self._rows(key)
         y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
         y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
+        one = y0 == y1  # most intervals lie inside one year: no splitting
+        if one.any():
+            so, eo, wo, yo = s[one], e[one], w[one], y0[one]
+            span = np.maximum(eo - so, 0.0)
+            a += np.bincount(yo, weights=wo * span, minlength=self.n)
+            p += np.bincount(yo, weights=wo * self.discount.integrals(so, eo), minlength=self.n)
+            if one.all():
+                return
+            s, e, w, y0, y1 = s[~one], e[~one], w[~one], y0[~one], y1[~one]
         for y in range(int(y0.min()), int(y1.max()) + 1):
             lo = np.maximum(s, y * HOURS_PER_YEAR)
             hi = e if y == self.n - 1 else np.minimum(e, (y + 1) * HOURS_PER_YEAR)
