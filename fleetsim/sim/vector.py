@@ -35,6 +35,7 @@ import math
 
 import numpy as np
 
+from fleetsim.life import LifeDistribution
 from fleetsim.scenario.model import Duration, Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
 from fleetsim.sim.discount import discount_for
@@ -67,6 +68,10 @@ class _Sums:
         self.keep_intervals = keep_intervals
         self.book = book
         self.bearing = [p.bearing_id for p in machine.positions]
+        #: positions fitted with each bearing kind
+        self.columns: dict[str, list[int]] = {}
+        for j, b in enumerate(self.bearing):
+            self.columns.setdefault(b, []).append(j)
         self.first_stop_h = INF
         self.failures = np.zeros(machine.count)
         self.planned = 0.0
@@ -85,10 +90,11 @@ class _Sums:
         if positions.size == 0:
             return
         np.add.at(self.issued, positions, 1.0)
-        for j in np.unique(positions):
-            at = t_h[positions == j]
-            self.book.at_many(issued_key(self.bearing[j]), at)
-            self.book.at_many(ordered_key(self.bearing[j]), at)
+        kinds = set(self.bearing)
+        for bearing in kinds:
+            at = t_h if len(kinds) == 1 else t_h[np.isin(positions, self.columns[bearing])]
+            self.book.at_many(issued_key(bearing), at)
+            self.book.at_many(ordered_key(bearing), at)
 
     def stopped(self, units: np.ndarray, start_h: np.ndarray, end_h: np.ndarray) -> None:
         """Units ``units`` were down over [start_h, end_h) (kept for groups)."""
@@ -100,12 +106,22 @@ class _Sums:
 
 def _lives(machine: Machine, u: np.ndarray, pos: np.ndarray, age: np.ndarray | float = 0.0
            ) -> np.ndarray:
-    """Remaining lives to P (hours beyond ``age``) of positions ``pos``, from uniforms ``u``."""
+    """Remaining lives to P (hours beyond ``age``) of positions ``pos``, from uniforms ``u``.
+
+    One call of the life's inverse transform per distinct life of the machine type
+    (usually one), not per position.
+    """
+    groups: dict[LifeDistribution, list[int]] = {}
+    for j, p in enumerate(machine.positions):
+        groups.setdefault(p.life, []).append(j)
+    if len(groups) == 1:
+        return next(iter(groups)).lives_from_uniform(u, age)
     out = np.empty(u.shape)
     a = np.broadcast_to(np.asarray(age, dtype=float), u.shape)
-    for j in np.unique(pos):
-        sel = pos == j
-        out[sel] = machine.positions[j].life.lives_from_uniform(u[sel], a[sel])
+    for dist, cols in groups.items():
+        sel = np.isin(pos, cols)
+        if sel.any():
+            out[sel] = dist.lives_from_uniform(u[sel], a[sel])
     return out
 
 
@@ -113,12 +129,17 @@ def _pf(machine: Machine, u: np.ndarray | None, pos: np.ndarray) -> np.ndarray |
     """P-F intervals in operating hours of positions ``pos`` (0 where none is given)."""
     if u is None:
         return 0.0
+    groups: dict[Duration | None, list[int]] = {}
+    for j, p in enumerate(machine.positions):
+        groups.setdefault(p.pf_interval, []).append(j)
+    if len(groups) == 1:
+        d = next(iter(groups))
+        return d.quantiles(u) if d is not None else 0.0
     out = np.zeros(u.shape)
-    for j in np.unique(pos):
-        d = machine.positions[j].pf_interval
-        if d is not None:
-            sel = pos == j
-            out[sel] = d.quantiles(u[sel])
+    for dur, cols in groups.items():
+        if dur is not None:
+            sel = np.isin(pos, cols)
+            out[sel] = dur.quantiles(u[sel])
     return out
 
 
@@ -405,12 +426,18 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
     s = _Sums(machine, keep_intervals, book)
     H = horizon_h
     c_max = share * H  # no unit runs more operating hours than this within the horizon
+    d_fail, d_plan = crews.unplanned_repair, crews.planned_repair
+    instant = not random_stops and d_fail.value_h == 0.0 and d_plan.value_h == 0.0
+    # With one position a unit, or stops of no duration, a stop delays nothing but its own
+    # position: its calendar time follows round by round, and no merging is needed.
+    alone = P == 1 or instant
     idx = np.arange(n)
     pos = np.tile(np.arange(P), U)
     cut0 = plan.age_due_h[pos]
     a0 = machine.ages_h().reshape(-1)
     clock = np.zeros(n)  # operating clock at the current fitting of each position
-    parts: list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]] = []  # idx, clock, failed, u
+    delay = np.zeros(n)  # hours the position's own earlier stops took (when alone)
+    parts: list[tuple[np.ndarray, ...]] = []  # idx, clock, failed, stop quantile, duration, start
     k = 0
     while idx.size:
         if budget is not None:
@@ -423,43 +450,66 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
         cut = np.maximum(cut0[idx] - age, 0.0) if k == 0 else cut0[idx]
         failed = life <= cut  # a failure at the due age is a failure, as in the DES
         c = clock + np.minimum(life, cut)
-        inside = (c < c_max) | (c <= 0.0)  # (a position due at the start stops at once)
-        su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else np.full(idx.size, 0.5)
-        parts.append((idx[inside], c[inside], failed[inside], su[inside]))
-        idx, clock = idx[inside], c[inside]
+        if alone:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                t0 = (c / share if share > 0 else np.zeros_like(c)) + delay
+            if instant:
+                d = np.zeros(idx.size)
+            elif T_stop is not None:
+                su = T_stop.row(k).reshape(-1)[idx]
+                d = np.where(failed, _stop_hours(d_fail, su), _stop_hours(d_plan, su))
+            else:
+                d = np.where(failed, d_fail.value_h, d_plan.value_h)
+            inside = t0 < H
+            keep = inside & (t0 + d < H)  # renewed within the horizon: it goes on
+            parts.append((idx[inside], c[inside], failed[inside], d[inside], t0[inside]))
+            idx, clock, delay = idx[keep], c[keep], (delay + d)[keep]
+        else:
+            inside = (c < c_max) | (c <= 0.0)  # (a position due at the start stops at once)
+            su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else np.zeros(idx.size)
+            parts.append((idx[inside], c[inside], failed[inside], su[inside]))
+            idx, clock = idx[inside], c[inside]
         k += 1
-    if not parts or sum(x[0].size for x in parts) == 0:
+    if sum(x[0].size for x in parts) == 0:
         return s
     e_idx = np.concatenate([x[0] for x in parts])
-    e_clock = np.concatenate([x[1] for x in parts])
     e_fail = np.concatenate([x[2] for x in parts])
-    e_u = np.concatenate([x[3] for x in parts])
     e_unit, e_pos = e_idx // P, e_idx % P
-    # one stop per (unit, clock value); inside a stop its lead first: the first failed
-    # position in position order, else the first position (the DES's stop_u choice)
-    order = np.lexsort((e_pos, ~e_fail, e_clock, e_unit))
-    e_unit, e_pos, e_clock, e_fail, e_u = (a[order] for a in (e_unit, e_pos, e_clock, e_fail, e_u))
-    new = np.ones(e_unit.size, dtype=bool)
-    new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
-    starts = np.flatnonzero(new)
-    stop_of = np.cumsum(new) - 1  # stop index of every event
-    st_unit, st_clock = e_unit[starts], e_clock[starts]
-    st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
-    d = np.where(st_fail, _stop_hours(crews.unplanned_repair, e_u[starts]),
-                 _stop_hours(crews.planned_repair, e_u[starts]))
-    # calendar start of each stop: operating clock / share + earlier stops of its unit
-    before = np.cumsum(d) - d
-    first = np.ones(starts.size, dtype=bool)
-    first[1:] = st_unit[1:] != st_unit[:-1]
-    unit_base = np.maximum.accumulate(np.where(first, before, -np.inf))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
-    t0 = run_h + (before - unit_base)
+    if alone:
+        # every event is its own stop
+        d = np.concatenate([x[3] for x in parts])
+        t0 = np.concatenate([x[4] for x in parts])
+        st_unit, st_fail, stop_of = e_unit, e_fail, None
+    else:
+        e_clock = np.concatenate([x[1] for x in parts])
+        e_u = np.concatenate([x[3] for x in parts])
+        # one stop per (unit, clock value); inside a stop its lead first: the first failed
+        # position in position order, else the first position (the DES's stop_u choice)
+        order = np.lexsort((e_pos, ~e_fail, e_clock, e_unit))
+        e_unit, e_pos, e_clock, e_fail, e_u = (a[order]
+                                               for a in (e_unit, e_pos, e_clock, e_fail, e_u))
+        new = np.ones(e_unit.size, dtype=bool)
+        new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
+        starts = np.flatnonzero(new)
+        stop_of = np.cumsum(new) - 1  # stop index of every event
+        st_unit, st_clock = e_unit[starts], e_clock[starts]
+        st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
+        d = np.where(st_fail, _stop_hours(d_fail, e_u[starts]), _stop_hours(d_plan, e_u[starts]))
+        # calendar start of each stop: operating clock / share + earlier stops of its unit
+        before = np.cumsum(d) - d
+        first = np.ones(starts.size, dtype=bool)
+        first[1:] = st_unit[1:] != st_unit[:-1]
+        unit_base = np.maximum.accumulate(np.where(first, before, -np.inf))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
+        t0 = run_h + (before - unit_base)
     end = t0 + d
     live = t0 < H  # stops the horizon reaches (and every event in them)
     done = end < H  # stops whose changes are made within the horizon
-    ev_live, ev_done = live[stop_of], done[stop_of]
-    ev_t0 = t0[stop_of]
+    if stop_of is None:
+        ev_live, ev_done, ev_t0, ev_end = live, done, t0, end
+    else:
+        ev_live, ev_done, ev_t0, ev_end = live[stop_of], done[stop_of], t0[stop_of], end[stop_of]
     # counts and the year book, with the DES's conventions
     failed_ev = e_fail & ev_live
     np.add.at(s.failures, e_unit[failed_ev], 1.0)
@@ -467,15 +517,18 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
     s.issue(e_pos[ev_live], ev_t0[ev_live])  # asked for at the failure or the due age
     planned_ev = ~e_fail & ev_done
     s.planned += float(planned_ev.sum())
-    book.at_many(CHANGES, end[stop_of][planned_ev])
-    shown = np.minimum(end, H)
-    held = np.where(live, shown - t0, 0.0)
-    s.down_repair_h += float(held[st_fail].sum())
-    s.down_planned_h += float(held[~st_fail].sum())
-    book.over_many(DOWN_H, t0[live], shown[live])
-    book.over_many(LOST_OPERATING_H, t0[live], shown[live], share)
-    book.over_many(LABOUR_H, t0[done], end[done])
-    s.stopped(st_unit[live], t0[live], shown[live])
+    book.at_many(CHANGES, ev_end[planned_ev])
+    if not instant:
+        shown = np.minimum(end, H)
+        held = np.where(live, shown - t0, 0.0)
+        s.down_repair_h += float(held[st_fail].sum())
+        s.down_planned_h += float(held[~st_fail].sum())
+        book.over_many(DOWN_H, t0[live], shown[live])
+        book.over_many(LOST_OPERATING_H, t0[live], shown[live], share)
+        book.over_many(LABOUR_H, t0[done], end[done])
+        s.stopped(st_unit[live], t0[live], shown[live])
+    else:
+        s.stopped(st_unit[live], t0[live], t0[live])
     return s
 
 

@@ -100,9 +100,17 @@ class YearBook:
             return
         a, p = self._rows(key)
         y = np.minimum((t / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
-        w = np.broadcast_to(np.asarray(n, dtype=float), t.shape)
-        a += np.bincount(y, weights=w, minlength=self.n)
-        p += np.bincount(y, weights=w * self.discount.factors(t), minlength=self.n)
+        if np.ndim(n) == 0:
+            plain: np.ndarray = np.bincount(y, minlength=self.n).astype(float) * float(n)
+            w: np.ndarray | float = float(n)
+        else:
+            w = np.asarray(n, dtype=float)
+            plain = np.bincount(y, weights=w, minlength=self.n)
+        a += plain
+        if self.discount.delta_h == 0.0:
+            p += plain  # rate 0: the present value is the amount
+        else:
+            p += np.bincount(y, weights=w * self.discount.factors(t), minlength=self.n)
 
     def over_many(self, key: str, start_h: np.ndarray, end_h: np.ndarray,
                   weight: np.ndarray | float = 1.0) -> None:
@@ -112,16 +120,28 @@ class YearBook:
             return
         e = np.asarray(end_h, dtype=float)
         w = np.broadcast_to(np.asarray(weight, dtype=float), s.shape)
+        scalar = np.ndim(weight) == 0
         a, p = self._rows(key)
         y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
         y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
         one = y0 == y1  # most intervals lie inside one year: no splitting
         if one.any():
-            so, eo, wo, yo = s[one], e[one], w[one], y0[one]
+            every = bool(one.all())
+            so, eo, yo = (s, e, y0) if every else (s[one], e[one], y0[one])
             span = np.maximum(eo - so, 0.0)
-            a += np.bincount(yo, weights=wo * span, minlength=self.n)
-            p += np.bincount(yo, weights=wo * self.discount.integrals(so, eo), minlength=self.n)
-            if one.all():
+            if scalar:
+                plain: np.ndarray = np.bincount(yo, weights=span, minlength=self.n) * float(weight)
+            else:
+                wo = w if every else w[one]
+                plain = np.bincount(yo, weights=wo * span, minlength=self.n)
+            a += plain
+            if self.discount.delta_h == 0.0:
+                p += plain  # rate 0: the present value is the amount
+            else:
+                v = self.discount.integrals(so, eo)
+                p += np.bincount(yo, weights=(v * float(weight)) if scalar else (wo * v),
+                                 minlength=self.n)
+            if every:
                 return
             s, e, w, y0, y1 = s[~one], e[~one], w[~one], y0[~one], y1[~one]
         for y in range(int(y0.min()), int(y1.max()) + 1):
