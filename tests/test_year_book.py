@@ -142,3 +142,22 @@ def test_the_study_year_plan_sums_to_the_horizon_totals() -> None:
         assert rows["mean"].sum() == pytest.approx(mean[total], rel=1e-9), quantity
     spares = plan[(plan["quantity"] == "spares issued") & (plan["bearing"] == "B")]
     assert spares["mean"].sum() == pytest.approx(mean["spares_issued:B"], rel=1e-9)
+
+
+def test_the_report_writes_the_year_plan_csv(tmp_path) -> None:
+    import pandas as pd
+
+    from fleetsim.report import write_report
+    from fleetsim.study import run_study
+
+    life = LifeDistribution(1.5, 12_000.0)
+    sc = Scenario(Study("plan", 2.5 * Y, 8, 3), Costs(failure=900.0),
+                  {"B": Bearing("B", BearingType.BALL, 3e4, price=60.0)},
+                  (Machine("m", 20, 1.0, 0.0, (Position("p", "B", life, Policy()),)),))
+    res = run_study(sc, seed=3, keep_events=False)
+    paths = write_report([res], tmp_path / "report", title="plan")
+    plan = pd.read_csv(paths.tables["year_plan"], keep_default_na=False)
+    assert sorted(plan["year"].unique()) == [1, 2, 3]
+    cost = plan[plan["quantity"] == "cost"]
+    assert cost["mean"].sum() == pytest.approx(res.summary.loc["cost_total", "mean"], rel=1e-9)
+    assert set(plan.columns) >= {"variant", "year", "quantity", "bearing", "p10", "p50", "p90"}

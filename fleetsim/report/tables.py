@@ -11,6 +11,11 @@ one file:
 ``headline.csv``
     The headline figures with their 95 % intervals (per-year figures already
     divided by the horizon in years).
+``year_plan.csv``
+    The year-by-year plan (budget view): per variant, calendar year and
+    quantity (failures, planned changes, inspections, spares issued and bought
+    per bearing, crew hours, machine hours down, cost), P10, P50, P90 and the
+    mean over the replications; the means add up to the horizon totals.
 ``events.csv``
     The event log of the first replication (only when a study kept one).
 
@@ -31,6 +36,7 @@ from fleetsim import numbers as fmt
 from fleetsim.report.headline import Headline, headline_figures
 from fleetsim.report.text import variant_labels
 from fleetsim.study.result import StudyResult
+from fleetsim.study.year_plan import year_plan
 
 HEADLINE_COLUMNS = (
     "variant",
@@ -174,7 +180,8 @@ def write_tables(
     Returns
     -------
     dict
-        ``{"replications": path, "summary": path, "headline": path}`` and
+        ``{"replications": path, "summary": path, "headline": path}``,
+        ``"year_plan"`` (the year-by-year plan, :mod:`fleetsim.study.year_plan`) and
         ``"events"`` when any study kept an event log.
     """
     labels = _labels(results, labels)
@@ -192,6 +199,11 @@ def write_tables(
             _with_variant(r.events, lab)
             for r, lab in zip(results, labels, strict=True)
             if r.events is not None and not r.events.empty
+        ],
+        "year_plan": [
+            _with_variant(plan, lab)
+            for r, lab in zip(results, labels, strict=True)
+            if not (plan := year_plan(r)).empty
         ],
     }
     paths: dict[str, Path] = {}

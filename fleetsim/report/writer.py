@@ -7,6 +7,7 @@ A report directory holds::
     replications.csv     one row per variant and replication
     summary.csv          mean, spread and CI of every figure, per variant
     headline.csv         the headline figures with their CIs
+    year_plan.csv        the year-by-year plan: P10/P50/P90 per year and quantity
     events.csv           event log of the first replication (when kept)
     figures/*.png        every figure of the page
 
