@@ -136,3 +136,26 @@ def test_import_refuses_to_overwrite(tmp_path: Path, capsys: pytest.CaptureFixtu
     out.write_text("keep me")
     code, _, err = run(["import", str(ASSETS), "--catalog", str(CAT), "--out", str(out)], capsys)
     assert code == 2 and "--force" in err and out.read_text() == "keep me"
+
+
+def test_cells_cannot_inject_toml(tmp_path: Path) -> None:
+    from openpyxl import Workbook
+
+    xl = tmp_path / "a.xlsx"
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["machine", "position", "bearing", "radial_load_kN", "speed_rpm", "note", "policy"])
+    ws.append(["m", "de", "IB-20", 3, 1480, 'line one\n[study]\nname = "x"', "run-to-failure"])
+    wb.save(xl)
+    res = import_register(xl, CAT)
+    assert "\n[study]\nname = \"x\"" not in res.scenario_toml
+    assert "# line one [study] name = \"x\"" in res.scenario_toml
+    for col, value in (("machine", 'm"x'), ("policy", 'age" }\n[x]'), ("policy", "{ kind = 'age' } \n[x]")):
+        wb = Workbook()
+        ws = wb.active
+        ws.append(["machine", "position", "bearing", "radial_load_kN", "speed_rpm", "policy"])
+        row = {"machine": "m", "policy": "run-to-failure", col: value}
+        ws.append([row["machine"], "de", "IB-20", 3, 1480, row["policy"]])
+        wb.save(xl)
+        with pytest.raises(InputError, match=f"column {col}"):
+            import_register(xl, CAT)

@@ -35,7 +35,6 @@ from __future__ import annotations
 
 import copy
 import hashlib
-import tomllib
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
@@ -94,10 +93,9 @@ def resolve_includes(
             raise InputError(where, f"file {str(path)!r} not found") from None
         except (OSError, UnicodeDecodeError) as exc:
             raise InputError(where, f"cannot read {str(path)!r} ({exc})") from None
-        try:
-            included = tomllib.loads(text)
-        except tomllib.TOMLDecodeError as exc:
-            raise InputError(str(path), f"TOML syntax error: {exc}") from None
+        from fleetsim.scenario.loader import parse_toml  # the one TOML reader (loader uses us)
+
+        included = parse_toml(text, str(path))
         other = sorted(set(included) - {"field_factor", "fitted_life"})
         if other:
             raise InputError(

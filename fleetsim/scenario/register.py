@@ -48,7 +48,7 @@ from __future__ import annotations
 import csv
 import io
 import math
-import tomllib
+import re
 from dataclasses import dataclass
 from os import PathLike
 from pathlib import Path
@@ -56,6 +56,7 @@ from typing import Any
 
 from fleetsim.errors import InputError
 from fleetsim.life.sizing import CatalogueEntry, read_catalogue
+from fleetsim.scenario.loader import parse_toml, read_text
 from fleetsim.spreadsheet import read_table, where
 
 REQUIRED = ("machine", "position")
@@ -121,17 +122,27 @@ def _number(src: str, sheet: str | None, row: int, col: str, raw: str, *, positi
     return raw.replace("_", "")
 
 
+def _plain(src: str, sheet: str | None, row: int, col: str, raw: str) -> str:
+    """An id or word written into the scenario in quotes: no quote, backslash or control character."""
+    if re.search(r'["\\\x00-\x1f\x7f]', raw):
+        raise InputError(
+            where(src, row, col, sheet), f"expected a name without quotes or line breaks, got {raw!r}"
+        )
+    return raw
+
+
 def _policy(src: str, sheet: str | None, row: int, raw: str) -> str:
     text = raw.strip()
+    cell = where(src, row, "policy", sheet)
     if not text.startswith("{"):
+        if not re.fullmatch(r"[A-Za-z][A-Za-z-]*", text):
+            raise InputError(
+                cell, f"expected a policy kind or an inline table {{ kind = ... }}, got {raw!r}"
+            )
         return f'{{ kind = "{text}" }}'
-    try:
-        tomllib.loads(f"p = {text}")
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(
-            where(src, row, "policy", sheet),
-            f"expected a policy kind or an inline table {{ kind = ... }}, got {raw!r} ({exc})",
-        ) from None
+    doc = parse_toml(f"p = {text}\n", cell)
+    if not isinstance(doc.get("p"), dict) or len(doc) != 1:
+        raise InputError(cell, f"expected one inline table {{ kind = ... }}, got {raw!r}")
     return text
 
 
@@ -225,6 +236,12 @@ def import_register(
         for col, val in (("machine", mid), ("position", pid)):
             if not val:
                 raise InputError(where(src, row, col, sheet_name), "expected an id, got an empty cell")
+            _plain(src, sheet_name, row, col, val)
+        for col in ("bearing", "arrangement"):
+            if rec.get(col):
+                _plain(src, sheet_name, row, col, rec[col])
+        if rec.get("note"):
+            rec = {**rec, "note": " ".join(rec["note"].split())}
         m = machines.setdefault(mid, {"hours": None, "positions": {}, "row": row})
         if rec.get("operating_hours_per_year"):
             hours = _number(src, sheet_name, row, "operating_hours_per_year",
@@ -407,14 +424,8 @@ def _write(
 
 def _settings_text(path: str | PathLike[str]) -> str:
     src = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except OSError as exc:
-        raise InputError(src, f"cannot read the settings file ({exc.strerror or exc})") from None
-    try:
-        doc = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(src, f"TOML syntax error: {exc}") from None
+    text = read_text(path).removeprefix("\ufeff")
+    doc = parse_toml(text, src)
     for key in _SETTINGS_FORBIDDEN:
         if key in doc:
             raise InputError(
