@@ -62,17 +62,51 @@ SECTION_LINES = {name: [i for i, ln in enumerate(t.splitlines()) if ln.strip().s
                  for name, t in TEXTS.items()}
 
 
+#: Values a key that holds a quantity ("4.5 kN", "10 years") must refuse, whatever its kind:
+#: expressions, decimal commas, non-finite or out-of-bounds numbers, unknown units, no unit.
+MUST_REFUSE_AS_QUANTITY = {
+    '"9**9**9 h"', '"9**9**9"', '"30,7 kN"', '"9,5 kN"', '"1,000 h"', '"1e999 h"',
+    '"1e308 years"', '"1e300 kN"', '"-5 h"', '"-1 kN"', '"nan h"', '"inf h"', '"NaN"', '"4.5 KN"',
+    '"4.5 kN/h"', '"2*8 h"', '"(8) h"', '"8"', '"h"', '""', '" "', '"x"', '"1 lightyear"',
+    '"3 m"', '"5 kg"', '"%"', '"1_000 h"', "0", "-1", "1", "1e308", "inf", "nan", "true", "[]",
+}
+_QUANTITY_TEXT = re.compile(r'^"[-+]?[0-9][0-9.eE+-]* *[A-Za-z/]+"\s*(#.*)?$')
+
+
+def _quantity_keys() -> set[str]:
+    """Keys that hold a quantity string wherever they appear in the base texts."""
+    quantity, other = set(), set()
+    for text in TEXTS.values():
+        for line in text.splitlines():
+            m = _LINE.match(line)
+            if m:
+                (quantity if _QUANTITY_TEXT.match(m["value"].strip()) else other).add(m["key"])
+    return quantity - other
+
+
+QUANTITY_KEYS = _quantity_keys()
+
+
 @st.composite
-def hostile_scenarios(draw: st.DrawFn, base: str | None = None) -> str:
-    """A demo or the tiny scenario with one to three hostile edits of its text."""
+def hostile_scenarios(draw: st.DrawFn, base: str | None = None) -> tuple[str, bool]:
+    """A demo or the tiny scenario with one to three hostile edits of its text.
+
+    Also says whether the result must be refused: a key that held a quantity
+    now holds a value of :data:`MUST_REFUSE_AS_QUANTITY`, and that line is
+    still in the file.
+    """
     name = base or draw(st.sampled_from(sorted(TEXTS)))
     lines = TEXTS[name].splitlines()
+    refused: set[str] = set()
     for _ in range(draw(st.integers(1, 3))):
         op = draw(st.sampled_from(["value", "value", "value", "drop", "key", "section", "raw"]))
         i = draw(st.sampled_from(LINES[name]))
         m = _LINE.match(lines[i])
         if op == "value" and m:
-            lines[i] = f"{m['lead']}{m['key']} = {draw(st.sampled_from(TOML_VALUES))}"
+            value = draw(st.sampled_from(TOML_VALUES))
+            lines[i] = f"{m['lead']}{m['key']} = {value}"
+            if m["key"] in QUANTITY_KEYS and value in MUST_REFUSE_AS_QUANTITY:
+                refused.add(lines[i])
         elif op == "drop":
             lines[i] = ""
         elif op == "key" and m:
@@ -91,7 +125,7 @@ def hostile_scenarios(draw: st.DrawFn, base: str | None = None) -> str:
                  '[[variant]]\nname = "v"\nset = { "policy.interval" = "-3 h" }',
                  '[[variant]]\nname = "v"\nset = { "nope.nope" = 1 }',
                  '[[variant]]\nname = "v"\ndescription = 7\nset = { "costs.failure" = 1 }'])))
-    return "\n".join(lines) + "\n"
+    return "\n".join(lines) + "\n", bool(refused & set(lines))
 
 
 def _assert_promise(args: Sequence[str], cwd: Path) -> tuple[int, str]:
@@ -126,16 +160,21 @@ def _in_tmp(text: str, name: str = "fuzz.toml",
 # --- scenarios ------------------------------------------------------------------------
 @fuzz(300)
 @given(hostile_scenarios())
-def test_check_on_hostile_scenarios(text: str) -> None:
+def test_check_on_hostile_scenarios(case: tuple[str, bool]) -> None:
+    text, must_refuse = case
     with _in_tmp(text) as (tmp, path):
-        _assert_promise(["check", str(path)], tmp)
+        code, err = _assert_promise(["check", str(path)], tmp)
+    assert code == 2 or not must_refuse, f"a bad quantity accepted:\n{text}"
 
 
 @fuzz(30)
 @given(hostile_scenarios(base="tiny"))
-def test_run_on_hostile_scenarios(text: str) -> None:
+def test_run_on_hostile_scenarios(case: tuple[str, bool]) -> None:
+    text, must_refuse = case
     with _in_tmp(text) as (tmp, path):
-        _assert_promise(["run", str(path), "-n", "2", "--quiet", "--out", str(tmp / "r")], tmp)
+        code, _ = _assert_promise(
+            ["run", str(path), "-n", "2", "--quiet", "--out", str(tmp / "r")], tmp)
+    assert code == 2 or not must_refuse, f"a bad quantity accepted:\n{text}"
 
 
 # --- records files --------------------------------------------------------------------
@@ -207,6 +246,18 @@ RUN_OPTIONS = {
 }
 
 
+QUANTITY_OPTIONS = {"--dynamic-rating", "--static-rating", "--radial-load", "--axial-load",
+                    "--speed", "--at", "--fatigue-limit", "--load", "--life"}
+#: Option values that are a valid quantity of some kind (the rest must be refused).
+VALID_QUANTITIES = {"1480 rpm", "3 kN", "1 year", "1e-300 N"}
+
+
+def _must_refuse(args: list[str]) -> bool:
+    """A quantity option holds a value that is no quantity of any kind."""
+    bad = set(OPTION_VALUES) - VALID_QUANTITIES
+    return any(a in QUANTITY_OPTIONS and v in bad for a, v in zip(args, args[1:], strict=False))
+
+
 def _with(args: list[str], option: str, value: str) -> list[str]:
     out = list(args)
     if option in out:
@@ -223,7 +274,8 @@ def test_life_with_hostile_options(changes: list[tuple[str, str]]) -> None:
     args = LIFE_BASE
     for option, value in changes:
         args = _with(args, option, value)
-    _assert_promise(args, Path(tempfile.gettempdir()))
+    code, _ = _assert_promise(args, Path(tempfile.gettempdir()))
+    assert code == 2 or not _must_refuse(args), f"accepted: fleetsim {' '.join(args)}"
 
 
 @fuzz(50)
@@ -233,7 +285,8 @@ def test_size_with_hostile_options(changes: list[tuple[str, str]]) -> None:
     args = SIZE_BASE
     for option, value in changes:
         args = _with(args, option, value)
-    _assert_promise(args, Path(tempfile.gettempdir()))
+    code, _ = _assert_promise(args, Path(tempfile.gettempdir()))
+    assert code == 2 or not _must_refuse(args), f"accepted: fleetsim {' '.join(args)}"
 
 
 @fuzz(40)
