@@ -197,6 +197,8 @@ class LifeDistribution:
     family: str = "weibull"
 
     def __post_init__(self) -> None:
+        # a plain attribute, not a field: the engines ask it at every draw
+        object.__setattr__(self, "_weibull", self.family == "weibull")
         if self.family == "weibull":
             WeibullShape(self.shape, self.location_h, self.scale_h)  # validates
             return
@@ -212,7 +214,7 @@ class LifeDistribution:
     @property
     def is_weibull(self) -> bool:
         """True for the Weibull family."""
-        return self.family == "weibull"
+        return self._weibull  # type: ignore[attr-defined]  # set in __post_init__
 
     @classmethod
     def from_rating_life(
@@ -334,7 +336,7 @@ class LifeDistribution:
         :meth:`residual_sample`, for one scalar, without numpy overhead for a
         Weibull.
         """
-        if not self.is_weibull:
+        if not self._weibull:  # type: ignore[attr-defined]
             return float(self.lives_from_uniform(np.array([u]), age_h)[0])
         e = -math.log1p(-u)
         if age_h > 0.0:

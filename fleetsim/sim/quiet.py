@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING, Any, cast
 import simpy
 
 from fleetsim.sim.setup import INF, scan
-from fleetsim.sim.tally import CHANGES, DOWN_H, FAILURES, LABOUR_H, LOST_OPERATING_H
+from fleetsim.sim.tally import CHANGES, FAILURES
 from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
 
 if TYPE_CHECKING:
@@ -117,7 +117,6 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         if duration > 0.0:
             yield timeout(duration)
             now = env.now
-            book.over(LABOUR_H, now - duration, now)
         for p in work:
             if p.failed:
                 kind = "corrective"
@@ -141,8 +140,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[u.phase] += now - u.phase_t
         u.phase = RUNNING
         u.phase_t = now
-        book.over(DOWN_H, u.down_since, now)
-        book.over(LOST_OPERATING_H, u.down_since, now, share)
+        book.down(u.down_since, now, share, worked=True)  # a quiet unit never waits
         up(now)
         if log is not None:
             log(now, uid, "", "up")

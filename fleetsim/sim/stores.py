@@ -98,7 +98,6 @@ class UnlimitedSupply:
         self.env = env
         self.book = book if env is not None else None
         self._issued_key = issued_key(bearing_id)
-        self._ordered_key = ordered_key(bearing_id)
 
     def demand(
         self, unit: str, position: str, notify: Callable[[], None] | None, failure: bool = False
@@ -113,9 +112,8 @@ class UnlimitedSupply:
         self.stats.demands += 1
         self.stats.issued += 1
         book = self.book
-        if book is not None:
+        if book is not None:  # (what it buys is what it issues: see ordered_key)
             book.at(self._issued_key, now)
-            book.at(self._ordered_key, now)
 
     def expedite(self, claim: Claim, unit: str, position: str) -> bool:
         """Never needed: claims are always filled."""

@@ -31,7 +31,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
-from fleetsim.sim.years import YearBook
+from fleetsim.sim.years import DOWN_KEY, LABOUR_KEY, LOST_KEY, YearBook
 
 #: Causes of downtime, in unit-hours (calendar hours a unit is down).
 DOWN_CAUSES = ("crew", "spares", "repair", "planned")
@@ -70,7 +70,7 @@ class GroupTally:
 
 # Keys of the year book (fleetsim.sim.years) that costs are charged on, shared by both engines.
 CHANGES, FAILURES, INSPECTIONS = "changes", "failures", "inspections"
-DOWN_H, LOST_OPERATING_H, LABOUR_H = "down_h", "lost_operating_h", "labour_h"
+DOWN_H, LOST_OPERATING_H, LABOUR_H = DOWN_KEY, LOST_KEY, LABOUR_KEY
 
 
 def issued_key(bearing: str) -> str:
@@ -79,8 +79,19 @@ def issued_key(bearing: str) -> str:
 
 
 def ordered_key(bearing: str) -> str:
-    """Year-book key of the spares of ``bearing`` bought (ordered; issued, when unlimited)."""
+    """Year-book key of the spares of ``bearing`` ordered from a (s, S) store.
+
+    A bearing without a store entry buys exactly what it issues; it books only
+    :func:`issued_key` (see :func:`bought_by_year`).
+    """
     return f"ordered:{bearing}"
+
+
+def bought_by_year(tally: Tally, scenario: Scenario, bearing: str) -> np.ndarray:
+    """Spares of ``bearing`` bought per year: ordered from its store, or issued when unlimited."""
+    if bearing in scenario.stores:
+        return tally.book.years(ordered_key(bearing), False)
+    return tally.book.years(issued_key(bearing), False)
 
 
 def on_hand_key(bearing: str) -> str:

@@ -47,7 +47,7 @@ from simpy.resources.resource import PriorityRequest
 
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
 from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext, scan
-from fleetsim.sim.tally import CHANGES, DOWN_H, FAILURES, INSPECTIONS, LABOUR_H, LOST_OPERATING_H
+from fleetsim.sim.tally import CHANGES, FAILURES, INSPECTIONS, LABOUR_H
 
 _FAILURE, _PLANNED = 0, 1
 # Phases of a unit, in the order of ReplicationResult.units' columns.
@@ -175,9 +175,7 @@ class UnitRunner:
         self.phase_h[self.phase] += now - self.phase_t
         self.phase = RUNNING
         self.phase_t = now
-        book = self.book
-        book.over(DOWN_H, self.down_since, now)
-        book.over(LOST_OPERATING_H, self.down_since, now, self.share)
+        self.book.down(self.down_since, now, self.share)
         self.ctx.groups.unit_up(self.index, now)
         if self.log is not None:
             self.log(now, self.id, "", "up")
@@ -453,8 +451,7 @@ class UnitRunner:
         if self.running:
             self.clock_op += self.share * (horizon_h - self.t_sync)
         else:
-            self.book.over(DOWN_H, self.down_since, horizon_h)
-            self.book.over(LOST_OPERATING_H, self.down_since, horizon_h, self.share)
+            self.book.down(self.down_since, horizon_h, self.share)
         self.t_sync = horizon_h
         self.phase_h[self.phase] += horizon_h - self.phase_t
         self.phase_t = horizon_h

@@ -53,7 +53,6 @@ from fleetsim.sim.tally import (
     MachineTally,
     Tally,
     issued_key,
-    ordered_key,
 )
 from fleetsim.sim.years import YearBook
 
@@ -94,7 +93,6 @@ class _Sums:
         for bearing in kinds:
             at = t_h if len(kinds) == 1 else t_h[np.isin(positions, self.columns[bearing])]
             self.book.at_many(issued_key(bearing), at)
-            self.book.at_many(ordered_key(bearing), at)
 
     def stopped(self, units: np.ndarray, start_h: np.ndarray, end_h: np.ndarray) -> None:
         """Units ``units`` were down over [start_h, end_h) (kept for groups)."""

@@ -24,6 +24,9 @@ import numpy as np
 from fleetsim.scenario.model import HOURS_PER_YEAR
 from fleetsim.sim.discount import Discount
 
+#: The keys :meth:`YearBook.down` books (the same as :mod:`fleetsim.sim.tally`'s).
+DOWN_KEY, LOST_KEY, LABOUR_KEY = "down_h", "lost_operating_h", "labour_h"
+
 
 def year_count(horizon_h: float) -> int:
     """Number of calendar years (the last one possibly partial) in a horizon of ``horizon_h``."""
@@ -33,6 +36,9 @@ def year_count(horizon_h: float) -> int:
 class YearBook:
     """Per-year plain and present-value sums, by key (see the module docstring).
 
+    The rows are plain Python lists: the discrete-event engine books one event
+    at a time, where list arithmetic is several times faster than numpy scalars.
+
     Parameters
     ----------
     horizon_h
@@ -41,64 +47,104 @@ class YearBook:
         The study's discount (rate 0: the identity).
     """
 
-    __slots__ = ("discount", "n", "amount", "pv")
+    __slots__ = ("discount", "n", "amount", "pv", "_plain")
 
     def __init__(self, horizon_h: float, discount: Discount) -> None:
         self.discount = discount
         self.n = year_count(horizon_h)
         #: plain amounts per year, by key
-        self.amount: dict[str, np.ndarray] = {}
-        #: present values per year, by key
-        self.pv: dict[str, np.ndarray] = {}
+        self.amount: dict[str, list[float]] = {}
+        #: present values per year, by key (the same list as the amount at rate 0)
+        self.pv: dict[str, list[float]] = {}
+        self._plain = discount.delta_h == 0.0
 
     def __eq__(self, other: object) -> bool:
         if not isinstance(other, YearBook):
             return NotImplemented
-        return (self.n == other.n and self.amount.keys() == other.amount.keys()
-                and all(np.array_equal(v, other.amount[k]) and np.array_equal(self.pv[k], other.pv[k])
-                        for k, v in self.amount.items()))
+        return self.n == other.n and self.amount == other.amount and self.pv == other.pv
 
     __hash__ = None  # type: ignore[assignment]  # mutable
 
-    def _rows(self, key: str) -> tuple[np.ndarray, np.ndarray]:
+    def _rows(self, key: str) -> tuple[list[float], list[float]]:
         a = self.amount.get(key)
         if a is None:
-            a = self.amount[key] = np.zeros(self.n)
-            self.pv[key] = np.zeros(self.n)
+            a = self.amount[key] = [0.0] * self.n
+            # at rate 0 the present value *is* the amount: one list, booked once
+            self.pv[key] = a if self._plain else [0.0] * self.n
         return a, self.pv[key]
-
-    def _year(self, t_h: float) -> int:
-        y = int(t_h / HOURS_PER_YEAR)
-        return y if y < self.n else self.n - 1
 
     def at(self, key: str, t_h: float, n: float = 1.0) -> None:
         """Book ``n`` events of ``key`` at calendar hour ``t_h``."""
-        a, p = self._rows(key)
-        y = self._year(t_h)
+        a = self.amount.get(key)
+        if a is None:
+            a = self._rows(key)[0]
+        y = int(t_h / HOURS_PER_YEAR)
+        if y >= self.n:
+            y = self.n - 1
         a[y] += n
-        p[y] += n * self.discount.factor(t_h)
+        if not self._plain:
+            self.pv[key][y] += n * self.discount.factor(t_h)
 
     def over(self, key: str, start_h: float, end_h: float, weight: float = 1.0) -> None:
         """Book ``weight`` × hours of ``key`` over [start_h, end_h), split by year."""
         if not end_h > start_h:
             return
         a, p = self._rows(key)
-        y, last = self._year(start_h), self._year(end_h)
+        n = self.n
+        y = int(start_h / HOURS_PER_YEAR)
+        last = int(end_h / HOURS_PER_YEAR)
+        y = y if y < n else n - 1
+        last = last if last < n else n - 1
+        plain = self._plain
         d = self.discount
         while True:
             stop = end_h if y == last else (y + 1) * HOURS_PER_YEAR
             a[y] += weight * (stop - start_h)
-            p[y] += weight * d.integral(start_h, stop)
+            if not plain:
+                p[y] += weight * d.integral(start_h, stop)
             if y == last:
                 return
             start_h, y = stop, y + 1
+
+    def down(self, start_h: float, end_h: float, share: float, worked: bool = False) -> None:
+        """A unit down over [start_h, end_h): its hours down and, × ``share``, its
+        operating hours lost (one call for the keys of every stop); with ``worked``,
+        a crew worked the whole stop (crew hours too)."""
+        if not end_h > start_h:
+            return
+        if worked:
+            self.over(LABOUR_KEY, start_h, end_h)
+        if int(start_h / HOURS_PER_YEAR) == int(end_h / HOURS_PER_YEAR) < self.n:
+            # inside one year (nearly every stop): book both without splitting
+            y = int(start_h / HOURS_PER_YEAR)
+            hours = end_h - start_h
+            down, lost = self.amount.get(DOWN_KEY), self.amount.get(LOST_KEY)
+            if down is None or lost is None:
+                down, lost = self._rows(DOWN_KEY)[0], self._rows(LOST_KEY)[0]
+            down[y] += hours
+            lost[y] += share * hours
+            if not self._plain:
+                v = self.discount.integral(start_h, end_h)
+                self.pv[DOWN_KEY][y] += v
+                self.pv[LOST_KEY][y] += share * v
+            return
+        self.over(DOWN_KEY, start_h, end_h)
+        self.over(LOST_KEY, start_h, end_h, share)
+
+    def _add(self, key: str, plain: np.ndarray, present: np.ndarray | None) -> None:
+        a, p = self._rows(key)
+        for y, v in enumerate(plain.tolist()):
+            a[y] += v
+        if not self._plain:
+            assert present is not None
+            for y, v in enumerate(present.tolist()):
+                p[y] += v
 
     def at_many(self, key: str, t_h: np.ndarray, n: np.ndarray | float = 1.0) -> None:
         """:meth:`at` for arrays of times (and counts)."""
         t = np.asarray(t_h, dtype=float)
         if t.size == 0:
             return
-        a, p = self._rows(key)
         y = np.minimum((t / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
         if np.ndim(n) == 0:
             plain: np.ndarray = np.bincount(y, minlength=self.n).astype(float) * float(n)
@@ -106,11 +152,9 @@ class YearBook:
         else:
             w = np.asarray(n, dtype=float)
             plain = np.bincount(y, weights=w, minlength=self.n)
-        a += plain
-        if self.discount.delta_h == 0.0:
-            p += plain  # rate 0: the present value is the amount
-        else:
-            p += np.bincount(y, weights=w * self.discount.factors(t), minlength=self.n)
+        present = None if self._plain else np.bincount(
+            y, weights=w * self.discount.factors(t), minlength=self.n)
+        self._add(key, plain, present)
 
     def over_many(self, key: str, start_h: np.ndarray, end_h: np.ndarray,
                   weight: np.ndarray | float = 1.0) -> None:
@@ -121,43 +165,43 @@ class YearBook:
         e = np.asarray(end_h, dtype=float)
         w = np.broadcast_to(np.asarray(weight, dtype=float), s.shape)
         scalar = np.ndim(weight) == 0
-        a, p = self._rows(key)
-        y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
-        y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
+        n = self.n
+        plain = np.zeros(n)
+        present = None if self._plain else np.zeros(n)
+        y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), n - 1)
+        y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), n - 1)
         one = y0 == y1  # most intervals lie inside one year: no splitting
         if one.any():
             every = bool(one.all())
             so, eo, yo = (s, e, y0) if every else (s[one], e[one], y0[one])
             span = np.maximum(eo - so, 0.0)
+            wo = w if every else w[one]
             if scalar:
-                plain: np.ndarray = np.bincount(yo, weights=span, minlength=self.n) * float(weight)
+                plain += np.bincount(yo, weights=span, minlength=n) * float(weight)
             else:
-                wo = w if every else w[one]
-                plain = np.bincount(yo, weights=wo * span, minlength=self.n)
-            a += plain
-            if self.discount.delta_h == 0.0:
-                p += plain  # rate 0: the present value is the amount
-            else:
+                plain += np.bincount(yo, weights=wo * span, minlength=n)
+            if present is not None:
                 v = self.discount.integrals(so, eo)
-                p += np.bincount(yo, weights=(v * float(weight)) if scalar else (wo * v),
-                                 minlength=self.n)
-            if every:
-                return
-            s, e, w, y0, y1 = s[~one], e[~one], w[~one], y0[~one], y1[~one]
-        for y in range(int(y0.min()), int(y1.max()) + 1):
-            lo = np.maximum(s, y * HOURS_PER_YEAR)
-            hi = e if y == self.n - 1 else np.minimum(e, (y + 1) * HOURS_PER_YEAR)
-            inside = (y0 <= y) & (y1 >= y) & (hi > lo)
-            if inside.any():
-                a[y] += float((w * (hi - lo))[inside].sum())
-                p[y] += float((w * self.discount.integrals(lo, hi))[inside].sum())
+                present += np.bincount(yo, weights=wo * v, minlength=n)
+            if not every:
+                s, e, w, y0, y1 = s[~one], e[~one], w[~one], y0[~one], y1[~one]
+        if not bool(one.all()):
+            for y in range(int(y0.min()), int(y1.max()) + 1):
+                lo = np.maximum(s, y * HOURS_PER_YEAR)
+                hi = e if y == n - 1 else np.minimum(e, (y + 1) * HOURS_PER_YEAR)
+                inside = (y0 <= y) & (y1 >= y) & (hi > lo)
+                if inside.any():
+                    plain[y] += float((w * (hi - lo))[inside].sum())
+                    if present is not None:
+                        present[y] += float((w * self.discount.integrals(lo, hi))[inside].sum())
+        self._add(key, plain, present)
 
     def total(self, key: str, present: bool = True) -> float:
         """Sum over the years of ``key`` (present value by default; 0 for a key never booked)."""
         rows = self.pv if present else self.amount
-        return float(rows[key].sum()) if key in rows else 0.0
+        return float(sum(rows[key])) if key in rows else 0.0
 
     def years(self, key: str, present: bool = True) -> np.ndarray:
         """Per-year sums of ``key`` (zeros for a key never booked)."""
         rows = self.pv if present else self.amount
-        return rows[key].copy() if key in rows else np.zeros(self.n)
+        return np.array(rows[key], dtype=float) if key in rows else np.zeros(self.n)

@@ -144,9 +144,9 @@ def figures_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
         FAILURES,
         INSPECTIONS,
         LABOUR_H,
+        bought_by_year,
         costs_by_year,
         issued_key,
-        ordered_key,
     )
 
     H = tally.horizon_h
@@ -206,7 +206,7 @@ def figures_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
         for family, values in plain.items():
             out[f"{family}:{key}"] = float(values[y])
     for b in scenario.bearings:
-        issued_y, ordered_y = book.years(issued_key(b), False), book.years(ordered_key(b), False)
+        issued_y, ordered_y = book.years(issued_key(b), False), bought_by_year(tally, scenario, b)
         for y in range(book.n):
             out[f"spares_issued_in_year:{year_key(y + 1, b)}"] = float(issued_y[y])
             out[f"spares_ordered_in_year:{year_key(y + 1, b)}"] = float(ordered_y[y])
