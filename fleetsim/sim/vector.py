@@ -43,11 +43,9 @@ from fleetsim.sim.schedule import compile_plan, inspections_to_detect
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
 from fleetsim.sim.tally import (
     CHANGES,
-    DOWN_H,
     FAILURES,
     INSPECTIONS,
     LABOUR_H,
-    LOST_OPERATING_H,
     BearingTally,
     GroupTally,
     MachineTally,
@@ -102,6 +100,27 @@ class _Sums:
                 self.intervals.append((units, start_h.copy(), end_h.copy()))
 
 
+_FAMILIES: dict[int, tuple[Machine, dict[LifeDistribution, list[int]],
+                            dict[Duration | None, list[int]]]] = {}
+
+
+def _families(machine: Machine) -> tuple[dict[LifeDistribution, list[int]],
+                                         dict[Duration | None, list[int]]]:
+    """Positions of ``machine`` by distinct life and by distinct P-F interval (cached)."""
+    hit = _FAMILIES.get(id(machine))
+    if hit is not None and hit[0] is machine:
+        return hit[1], hit[2]
+    lives: dict[LifeDistribution, list[int]] = {}
+    pfs: dict[Duration | None, list[int]] = {}
+    for j, p in enumerate(machine.positions):
+        lives.setdefault(p.life, []).append(j)
+        pfs.setdefault(p.pf_interval, []).append(j)
+    if len(_FAMILIES) > 256:
+        _FAMILIES.clear()
+    _FAMILIES[id(machine)] = (machine, lives, pfs)
+    return lives, pfs
+
+
 def _lives(machine: Machine, u: np.ndarray, pos: np.ndarray, age: np.ndarray | float = 0.0
            ) -> np.ndarray:
     """Remaining lives to P (hours beyond ``age``) of positions ``pos``, from uniforms ``u``.
@@ -109,9 +128,7 @@ def _lives(machine: Machine, u: np.ndarray, pos: np.ndarray, age: np.ndarray | f
     One call of the life's inverse transform per distinct life of the machine type
     (usually one), not per position.
     """
-    groups: dict[LifeDistribution, list[int]] = {}
-    for j, p in enumerate(machine.positions):
-        groups.setdefault(p.life, []).append(j)
+    groups = _families(machine)[0]
     if len(groups) == 1:
         return next(iter(groups)).lives_from_uniform(u, age)
     out = np.empty(u.shape)
@@ -127,9 +144,7 @@ def _pf(machine: Machine, u: np.ndarray | None, pos: np.ndarray) -> np.ndarray |
     """P-F intervals in operating hours of positions ``pos`` (0 where none is given)."""
     if u is None:
         return 0.0
-    groups: dict[Duration | None, list[int]] = {}
-    for j, p in enumerate(machine.positions):
-        groups.setdefault(p.pf_interval, []).append(j)
+    groups = _families(machine)[1]
     if len(groups) == 1:
         d = next(iter(groups))
         return d.quantiles(u) if d is not None else 0.0
@@ -346,8 +361,7 @@ class _Lanes:
         held = shown - t0
         s.down_repair_h += float(held[n_fail > 0].sum())
         s.down_planned_h += float(held[n_fail == 0].sum())
-        self.book.over_many(DOWN_H, t0, shown)
-        self.book.over_many(LOST_OPERATING_H, t0, shown, self.share)
+        self.book.down_many(t0, shown, self.share)
         s.stopped(u, t0, shown)
         done = end < self.H  # the changes count when the stop ends inside the horizon
         n_changes = (pend | opp).sum(axis=1)
@@ -521,8 +535,7 @@ def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: St
         held = np.where(live, shown - t0, 0.0)
         s.down_repair_h += float(held[st_fail].sum())
         s.down_planned_h += float(held[~st_fail].sum())
-        book.over_many(DOWN_H, t0[live], shown[live])
-        book.over_many(LOST_OPERATING_H, t0[live], shown[live], share)
+        book.down_many(t0[live], shown[live], share)
         book.over_many(LABOUR_H, t0[done], end[done])
         s.stopped(st_unit[live], t0[live], shown[live])
     else:

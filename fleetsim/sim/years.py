@@ -131,6 +131,25 @@ class YearBook:
         self.over(DOWN_KEY, start_h, end_h)
         self.over(LOST_KEY, start_h, end_h, share)
 
+    def down_many(self, start_h: np.ndarray, end_h: np.ndarray, share: float) -> None:
+        """:meth:`down` for arrays of stops (hours down, and × ``share`` operating hours lost)."""
+        s = np.asarray(start_h, dtype=float)
+        if s.size == 0:
+            return
+        e = np.asarray(end_h, dtype=float)
+        n = self.n
+        y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), n - 1)
+        y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), n - 1)
+        if not (y0 == y1).all():
+            self.over_many(DOWN_KEY, s, e)
+            self.over_many(LOST_KEY, s, e, share)
+            return
+        plain = np.bincount(y0, weights=np.maximum(e - s, 0.0), minlength=n)
+        present = None if self._plain else np.bincount(
+            y0, weights=self.discount.integrals(s, e), minlength=n)
+        self._add(DOWN_KEY, plain, present)
+        self._add(LOST_KEY, plain * share, None if present is None else present * share)
+
     def _add(self, key: str, plain: np.ndarray, present: np.ndarray | None) -> None:
         a, p = self._rows(key)
         for y, v in enumerate(plain.tolist()):
