@@ -128,10 +128,12 @@ def select_best(
     shown = tuple(float(m) if minimise else float(-m) for m in means)
     if k == 1 or n < 2:
         nan = (math.nan,) * k
-        keep = (best,) if k == 1 else (best, *(i for i in range(k) if i != best))
-        return Selection(shown, best, keep, nan, nan, minimise, confidence, n)
+        everyone = (best, *(i for i in range(k) if i != best))
+        return Selection(shown, best, everyone, nan, nan, minimise, confidence, n)
     t = float(stats.t.ppf(1.0 - (1.0 - confidence) / (k - 1), n - 1))
-    lower, upper, keep = [], [], []
+    lower: list[float] = []
+    upper: list[float] = []
+    keep: list[int] = []
     for i in range(k):
         others = [j for j in range(k) if j != i]
         d = x[i] - x[others]                      # (k − 1, n) paired differences
