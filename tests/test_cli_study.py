@@ -93,7 +93,9 @@ def test_sweep_marks_the_best_and_the_analytic_optimum(small: Path, tmp_path: Pa
                  "--out", str(tmp_path / "s"), "--quiet", "--replications", "8"])
     assert code == 0
     out = capsys.readouterr().out
-    assert "Best on cost_per_year" in out and "Closed-form optimum interval" in out
+    # The recommendation and its evidence come first.
+    assert out.startswith("Recommended on cost per year (policy view")
+    assert "Closed-form optimum interval" in out
     assert (tmp_path / "s" / "figures" / "cost_rate_sweep.png").exists()
 
 
@@ -199,8 +201,76 @@ def test_an_inspection_sweep_draws_its_cost_curve_and_names_only_what_varies(
                  "--vary", "policy.inspection_every=1,4 weeks", "--vary", "costs.inspection=20"])
     assert code == 0
     sweep = json.loads(capsys.readouterr().out)
+    # The file's base case (age replacement, no inspections) is simulated beside the grid.
+    assert sweep["baseline"] == "Today's practice"
     assert sweep["extra"]["best_variant"] in ("policy.inspection_every=1 weeks",
-                                              "policy.inspection_every=4 weeks")
+                                              "policy.inspection_every=4 weeks",
+                                              "Today's practice")
     assert (out / "figures" / "cost_rate_sweep.png").exists()
     assert "Cost rate against inspection interval" in (out / "report.html").read_text()
     assert "analytic_optimum_interval_h" not in sweep["extra"]  # age replacement's closed form
+
+
+DEMOS = Path(__file__).resolve().parent.parent / "scenarios"
+
+
+def test_the_pump_demo_sweep_decides_on_the_policy_view_against_the_base_case(
+        tmp_path: Path, capsys) -> None:
+    code = main(["sweep", str(DEMOS / "pump_stations.toml"), "--json", "--quiet",
+                 "--vary", "policy.interval=20000,30000,60000 h", "--replications", "6",
+                 "--out", str(tmp_path / "pump")])
+    assert code == 0
+    doc = json.loads(capsys.readouterr().out)
+    # The file's base case (30,000 h) is the baseline, found among the swept values.
+    assert doc["baseline"] == "policy.interval=30000 h (the file's base case)"
+    rec = doc["recommended"]
+    assert rec["view"] == "policy" and rec["objective"] == "cost"
+    assert rec["variant"] in [v["variant"] for v in doc["variants"]]
+    assert rec["variant"] in doc["indistinguishable_from_best"]
+    for v in doc["variants"]:
+        pv = v["policy_view"]["cost_per_year"]
+        assert pv["ci_low"] <= pv["mean"] <= pv["ci_high"]
+    stock = doc["stock_advice"]
+    assert {a["bearing"] for a in stock} == {"WB-50", "WB-36", "WB-30", "CR-60", "AC-45"}
+    for a in stock:
+        assert set(a) >= {"bearing", "reorder_point", "order_up_to", "target_fill_rate",
+                          "simulated_fill_rate", "sized_for_variant"}
+        assert a["sized_for_variant"] == rec["variant"]
+        assert set(a["simulated_fill_rate"]) >= {"mean", "ci_low", "ci_high"}
+        assert a["reorder_point"] < a["order_up_to"]
+
+
+def test_run_prints_its_recommendation_first_and_keeps_the_contract(
+        small: Path, tmp_path: Path, capsys) -> None:
+    assert main(["run", str(small), "--out", str(tmp_path / "r"), "--quiet",
+                 "--replications", "6"]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("Recommended on cost per year (policy view")
+    assert main(["run", str(small), "--out", str(tmp_path / "r"), "--quiet", "--json",
+                 "--replications", "6", "--objective", "availability",
+                 "--baseline", "Run to failure"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["baseline"] == "Run to failure"
+    assert doc["recommended"]["objective"] == "availability"
+    assert doc["recommended"]["view"] == "policy"
+    assert doc["stock_advice"] == []  # nothing is stocked in this plant
+
+
+def test_a_cost_sweep_is_a_sensitivity_study(small: Path, tmp_path: Path, capsys) -> None:
+    code = main(["sweep", str(small), "--json", "--quiet", "--replications", "4",
+                 "--vary", "costs.failure=500,4000", "--out", str(tmp_path / "c")])
+    assert code == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["recommended"]["variant"] is None
+    assert doc["baseline"] == "Today's practice"
+    assert [r["setting"] for r in doc["sensitivity"]] == ["costs.failure=500", "costs.failure=4000"]
+    code = main(["sweep", str(small), "--quiet", "--replications", "4",
+                 "--vary", "costs.failure=500,4000", "--out", str(tmp_path / "c")])
+    assert capsys.readouterr().out.startswith("Sensitivity study of costs.failure")
+
+
+def test_an_unknown_baseline_is_a_one_line_error(small: Path, tmp_path: Path, capsys) -> None:
+    code = main(["run", str(small), "--baseline", "Nope", "--out", str(tmp_path / "x")])
+    assert code == 2
+    err = capsys.readouterr().err
+    assert "--baseline" in err and "Nope" in err and "Traceback" not in err

@@ -17,15 +17,13 @@ from fleetsim.errors import InputError
 from fleetsim.seed import check_seed
 
 if TYPE_CHECKING:
+    from fleetsim.study.decision import Decision
     from fleetsim.study.result import StudyResult
     from fleetsim.study.variants import Variant
 
 ENGINE_CHOICE = click.Choice(["auto", "des", "vector"])
-OBJECTIVES = {
-    "cost": ("cost_per_year", min),
-    "availability": ("availability", max),
-    "reliability": ("fleet_down", min),
-}
+#: --objective choices (their figures and directions live in fleetsim.study.decision).
+OBJECTIVE_NAMES = ["cost", "availability", "reliability"]
 
 
 class _Progress:
@@ -73,6 +71,13 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
                      help="Continue an interrupted run from its checkpoint in the report directory."),
         click.option("--quiet", "-q", is_flag=True, help="No progress bar or notes on standard error."),
         click.option("--json", "as_json", is_flag=True, help="Print one JSON object."),
+        click.option("--objective", type=click.Choice(OBJECTIVE_NAMES), default="cost",
+                     show_default=True,
+                     help="What the recommendation optimises: cost per year, availability or "
+                          "reliability (no fleet down event over the horizon)."),
+        click.option("--baseline", default=None,
+                     help="Variant that savings are measured against (default: the file's "
+                          "base case, simulated on the same seed)."),
     ]
     for opt in reversed(options):
         fn = opt(fn)
@@ -109,7 +114,7 @@ def _workers(n: int) -> int:
 
 
 def _run_variants(variants: Sequence[Variant], *, replications: int | None, seed: int | None,
-                  engine: str | None, workers: int, cluster: str | None, quiet: bool, resume: bool,
+                  engine: str | None, workers: int, cluster: Any, quiet: bool, resume: bool,
                   out_dir: Path) -> tuple[list[StudyResult], Path]:
     from fleetsim.study import run_study
     from fleetsim.study.cluster import study_cluster
@@ -134,27 +139,36 @@ def _run_variants(variants: Sequence[Variant], *, replications: int | None, seed
     return results, ck_dir
 
 
-def _finish(results: list[StudyResult], out_dir: Path, ck_dir: Path, title: str, as_json: bool,
-            quiet: bool, extra: dict[str, Any], stock_from: int = 0, **report_kw: Any) -> None:
-    from fleetsim.report import summary_table, write_report
-    from fleetsim.study.advice import recommended_stock
+def _decide(results: list[StudyResult], *, objective: str, baseline: int, workers: int,
+            cluster: Any, quiet: bool, cost_settings: Sequence[str | None] | None = None,
+            sensitivity_keys: Sequence[str] = ()) -> Decision:
+    from fleetsim.study.decision import study_decision
 
-    advice = recommended_stock(results[stock_from])
-    stock = {a.bearing: a.base_stock for a in advice}
+    _note(quiet, "policy view (stationary start) of every variant, then stock sized by simulation")
+    bar = _Progress(quiet, "policy view, stock")
+    try:
+        return study_decision(results, objective=objective, baseline=baseline, workers=workers,
+                              cluster=cluster, progress=bar, cost_settings=cost_settings,
+                              sensitivity_keys=sensitivity_keys)
+    finally:
+        bar.close()
+
+
+def _finish(results: list[StudyResult], decision: Decision, out_dir: Path, ck_dir: Path,
+            title: str, as_json: bool, quiet: bool, extra: dict[str, Any],
+            evidence: Sequence[str] = (), **report_kw: Any) -> None:
+    from fleetsim.report import summary_table, write_report
+
+    stock = {a.bearing: a.order_up_to for a in decision.stock}
     extra = dict(extra)
     rate = results[0].scenario.costs.discount_rate_per_year
     discounted = (f"costs discounted at {100 * rate:.4g} % a year to present values at the start; "
-                  "cost per year is the equivalent annual cost") if rate > 0 else ""
+                  "cost per year is the equivalent annual cost (budget view; the policy view "
+                  "is the undiscounted long-run average)") if rate > 0 else ""
     if discounted:
         extra["cost_basis"] = discounted
-    extra["recommended_stock_95pct_fill_rate"] = {
-        "variant": results[stock_from].label,
-        "levels": {a.bearing: {"base_stock": a.base_stock, "fill_rate": a.fill_rate,
-                               "demand_per_year": a.demand_per_year, "lead_time_h": a.lead_time_h,
-                               "current_order_up_to": a.current_order_up_to} for a in advice},
-    }
     paths = write_report(results, out_dir, title=title, extra=extra,
-                         recommended_stock=stock or None, **report_kw)
+                         recommended_stock=stock or None, decision=decision, **report_kw)
     for f in ck_dir.glob("*.jsonl"):
         f.unlink()
     try:
@@ -169,19 +183,17 @@ def _finish(results: list[StudyResult], out_dir: Path, ck_dir: Path, title: str,
         summary["elapsed_s"] = sum(r.elapsed_s for r in results)
         echo_json(summary)
         return
+    click.echo("\n".join([*decision.lines(), *evidence]))
+    click.echo("")
+    click.echo("\n".join(decision.table_lines()))
+    click.echo("\nBudget view (from today's fleet over the horizon):")
     click.echo(summary_table(results).rstrip())
     if discounted:
         click.echo(f"({discounted[0].upper()}{discounted[1:]}.)")
-    if stock:
-        click.echo("\nRecommended stock for a 95 % fill rate (Palm's theorem on the simulated demand"
-                   f" of {results[stock_from].label!r}):")
-        for a in advice:
-            click.echo(f"  {a.bearing}: {a.base_stock} on hand (now S = {a.current_order_up_to}); "
-                       f"demand {a.demand_per_year:.2f}/year, lead time {a.lead_time_h / 24:.0f} d")
     click.echo(f"\nReport: {paths.html}")
     click.echo(f"\n{SAFETY_CAUTION}")
     _note(quiet, f"{sum(len(r.replications) for r in results)} replications in "
-                 f"{sum(r.elapsed_s for r in results):.1f} s")
+                 f"{sum(r.elapsed_s for r in results):.1f} s (budget view)")
 
 
 @click.command()
@@ -192,16 +204,17 @@ def _finish(results: list[StudyResult], out_dir: Path, ck_dir: Path, title: str,
                    "replications under each, on common random numbers.")  # fmt: skip
 def run(scenario: str, replications: int | None, seed: int | None, out: str | None, engine: str,
         workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool,
-        param_draws: int | None = None) -> None:
+        objective: str, baseline: str | None, param_draws: int | None = None) -> None:
     """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
     _check_options(replications, seed, workers, cluster, out)
     from fleetsim.scenario.loader import text_digest
     from fleetsim.study import choose_engine
-    from fleetsim.study.variants import file_variants, read_document
+    from fleetsim.study.variants import file_variants, read_document, with_baseline
 
     document, text = read_document(scenario)
     digest = text_digest(text)
-    variants = file_variants(document, scenario, digest)
+    variants, base_index = with_baseline(document, file_variants(document, scenario, digest),
+                                         scenario, digest, baseline)
     base = variants[0].scenario
     chosen, why = choose_engine(base, engine)
     _note(quiet, f"{base.study.name}: {len(variants)} variant(s), engine {chosen} ({why})")
@@ -213,14 +226,19 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
                       workers=_workers(workers), cluster=cluster)  # fmt: skip
         return
     out_dir = Path(out) if out else Path("reports") / slug(base.study.name)
-    results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
-                                workers=_workers(workers), cluster=cluster, quiet=quiet,
-                                resume=resume, out_dir=out_dir)
+    from fleetsim.study.cluster import study_cluster
+
+    with study_cluster(cluster, _workers(workers), "--cluster") as dask:  # one for the study
+        results, ck = _run_variants(variants, replications=replications, seed=seed,
+                                    engine=engine, workers=_workers(workers), cluster=dask,
+                                    quiet=quiet, resume=resume, out_dir=out_dir)
+        decision = _decide(results, objective=objective, baseline=base_index,
+                           workers=_workers(workers), cluster=dask, quiet=quiet)
     extra: dict[str, Any] = {"scenario_file": Path(scenario).name, "engine_choice": why}
     described = {v.name: v.description for v in variants if v.description}
     if described:
         extra["variant_descriptions"] = described
-    _finish(results, out_dir, ck, base.study.name, as_json, quiet, extra)
+    _finish(results, decision, out_dir, ck, base.study.name, as_json, quiet, extra)
 
 
 def _parse_vary(items: tuple[str, ...]) -> list[tuple[str, list[Any]]]:
@@ -244,33 +262,42 @@ SWEEP_AXES = {"policy.interval": "Replacement interval",
 @click.argument("scenario", type=click.Path(dir_okay=False))
 @click.option("--vary", multiple=True, required=True,
               help="KEY=V1,V2,... [UNIT] or KEY=START:STOP:STEP UNIT; several --vary make a grid.")
-@click.option("--objective", type=click.Choice(list(OBJECTIVES)), default="cost", show_default=True,
-              help="What the best variant optimises: cost per year, availability or reliability.")
 @_common
 @click.option("--parameter-uncertainty", "param_draws", type=int, default=None, metavar="DRAWS",
               help="Draw the fitted field factors (with bounds) DRAWS times and run the grid "
                    "under each, on common random numbers.")  # fmt: skip
 def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: int | None,
           seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
-          resume: bool, quiet: bool, as_json: bool, param_draws: int | None = None) -> None:
-    """Run every combination of --vary values on common random numbers and mark the best."""
+          resume: bool, quiet: bool, as_json: bool, baseline: str | None,
+          param_draws: int | None = None) -> None:
+    """Run every combination of --vary values on common random numbers, beside the base case.
+
+    Sweeping a cost or price input is a sensitivity study: no recommendation.
+    """
     _check_options(replications, seed, workers, cluster, out)
     import pandas as pd
 
     from fleetsim.scenario.loader import text_digest
     from fleetsim.study.advice import analytic_cost_curve
+    from fleetsim.study.decision import is_cost_input
     from fleetsim.study.summary import figure_estimate
-    from fleetsim.study.variants import grid_variants, read_document, value_label
+    from fleetsim.study.variants import grid_variants, read_document, value_label, with_baseline
     from fleetsim.units import parse_quantity
 
     document, text = read_document(scenario)
     digest = text_digest(text)
     varies = _parse_vary(vary)
-    variants = grid_variants(document, varies, scenario, digest)
-    if len(variants) > 200:
-        raise InputError("--vary", f"the grid has {len(variants)} variants; expected at most 200")
-    base = variants[0].scenario
+    points = grid_variants(document, varies, scenario, digest)
+    if len(points) > 200:
+        raise InputError("--vary", f"the grid has {len(points)} variants; expected at most 200")
+    variants, base_index = with_baseline(document, points, scenario, digest, baseline)
+    offset = len(variants) - len(points)  # 1 when the base case was added in front
+    base = variants[base_index].scenario
     swept = [(k, vals) for k, vals in varies if len(vals) > 1]
+    sensitivity_keys = [k for k, _vals in swept if is_cost_input(k)]
+    cost_settings = [None] * offset + [
+        "; ".join(f"{k}={value_label(val)}" for k, val in v.overrides if k in sensitivity_keys)
+        or None for v in points]
     fixed = [(k, vals[0]) for k, vals in varies if len(vals) == 1]
     _note(quiet, f"{base.study.name}: sweeping {len(variants)} variant(s)")
     if fixed:
@@ -278,22 +305,29 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
               + "; ".join(f"{k}={value_label(v)}" for k, v in fixed))
     if param_draws is not None:
         from fleetsim.cli.uncertainty import run_uncertain
+        from fleetsim.study.decision import OBJECTIVES
 
-        figure, pick = OBJECTIVES[objective]
-        run_uncertain(document, scenario, digest, param_draws, list(variants), as_json,
-                      include_base=False, objective=figure, highest=pick is max,
+        figure, minimise, _words = OBJECTIVES[objective]
+        run_uncertain(document, scenario, digest, param_draws, list(points), as_json,
+                      include_base=False, objective=figure, highest=not minimise,
                       replications=replications, seed=seed, engine=engine,
                       workers=_workers(workers), cluster=cluster)  # fmt: skip
         return
     out_dir = Path(out) if out else Path("reports") / (slug(base.study.name) + "-sweep")
-    results, ck = _run_variants(variants, replications=replications, seed=seed, engine=engine,
-                                workers=_workers(workers), cluster=cluster, quiet=quiet,
-                                resume=resume, out_dir=out_dir)
-    figure, pick = OBJECTIVES[objective]
-    means = [float(r.replications[figure].mean()) for r in results]
-    best = means.index(pick(means))
+    from fleetsim.study.cluster import study_cluster
+
+    with study_cluster(cluster, _workers(workers), "--cluster") as dask:  # one for the study
+        results, ck = _run_variants(variants, replications=replications, seed=seed,
+                                    engine=engine, workers=_workers(workers), cluster=dask,
+                                    quiet=quiet, resume=resume, out_dir=out_dir)
+        decision = _decide(results, objective=objective, baseline=base_index,
+                           workers=_workers(workers), cluster=dask, quiet=quiet,
+                           cost_settings=cost_settings, sensitivity_keys=sensitivity_keys)
+    best = decision.recommended
+    shown = decision.decided_on()
     extra: dict[str, Any] = {
-        "objective": figure, "best_variant": variants[best].name,
+        "objective": decision.figure,
+        "best_variant": None if best is None else variants[best].name,
         "varied": [{"key": k, "values": [str(v) for v in vals]} for k, vals in varies],
     }
     sweep_table = None
@@ -302,9 +336,12 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     if axis is not None:
         hours = [parse_quantity(v, "time", f"--vary {swept[0][0]}") for v in swept[0][1]]
         rows = []
-        for h, r in zip(hours, results, strict=True):
+        for h, r, b in zip(hours, shown[offset:], results[offset:], strict=True):
             est = figure_estimate(r.replications["cost_per_year"], "cost_per_year")
-            rows.append({"interval_h": h, "mean": est.mean, "ci_low": est.low, "ci_high": est.high})
+            bud = figure_estimate(b.replications["cost_per_year"], "cost_per_year")
+            rows.append({"interval_h": h, "mean": est.mean, "ci_low": est.low, "ci_high": est.high,
+                         "view": decision.view, "budget_mean": bud.mean,
+                         "budget_ci_low": bud.low, "budget_ci_high": bud.high})
         sweep_table = pd.DataFrame(rows)
         age_sweep = swept[0][0] == "policy.interval"  # the closed form is age replacement's
         if age_sweep and base.costs.discount_rate_per_year > 0:
@@ -313,7 +350,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
         elif age_sweep:
             lo, hi = min(hours), max(hours)
             grid = [lo + (hi - lo) * k / 200 for k in range(201)]
-            analytic = analytic_cost_curve(base, grid)
+            analytic = analytic_cost_curve(points[0].scenario, grid)
             if analytic is not None:
                 i = int(analytic["cost_rate"].idxmin())
                 extra["analytic_optimum_interval_h"] = float(analytic["interval_h"][i])
@@ -321,23 +358,19 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
                 extra["analytic_optimum_at_edge"] = i in (0, len(analytic) - 1)
                 extra["analytic_note"] = ("long-run cost rate of age replacement (Barlow & "
                                           "Proschan), without waiting for spares or crews")
-    best_at_edge = len(variants) > 2 and best in (0, len(variants) - 1)
+    best_at_edge = (best is not None and len(points) > 2
+                    and best - offset in (0, len(points) - 1))
     extra["best_at_edge_of_range"] = best_at_edge
-    _finish(results, out_dir, ck, f"{base.study.name}: sweep", as_json, quiet, extra,
-            stock_from=best, sweep=sweep_table, sweep_analytic=analytic,
+    evidence = []
+    if best_at_edge:
+        evidence.append("It is at the edge of the swept range: the optimum may lie beyond it; "
+                        "widen the range.")
+    if "analytic_optimum_interval_h" in extra:
+        edge = (" — at the edge of the range, so it may lie beyond"
+                if extra["analytic_optimum_at_edge"] else "")
+        evidence.append(f"Closed-form optimum interval (long-run quick estimate, no waiting for "
+                        f"spares or crews): {extra['analytic_optimum_interval_h']:,.0f} h at "
+                        f"{extra['analytic_optimum_cost_per_year']:,.0f} per year{edge}")
+    _finish(results, decision, out_dir, ck, f"{base.study.name}: sweep", as_json, quiet, extra,
+            evidence=evidence, sweep=sweep_table, sweep_analytic=analytic,
             sweep_parameter=axis or "Interval")
-    if not as_json:
-        est = figure_estimate(results[best].replications[figure], figure)
-        click.echo(f"\nBest on {figure}: {variants[best].name} — {est.mean:,.4g} "
-                   f"(95 % CI {est.low:,.4g} to {est.high:,.4g})")
-        if best_at_edge:
-            click.echo("  It is at the edge of the swept range: the optimum may lie beyond it; "
-                       "widen the range.")
-        if "analytic_optimum_interval_h" in extra:
-            edge = (" — at the edge of the range, so it may lie beyond"
-                    if extra["analytic_optimum_at_edge"] else "")
-            click.echo(f"Closed-form optimum interval (long-run quick estimate, no waiting for "
-                       f"spares or crews): {extra['analytic_optimum_interval_h']:,.0f} h at "
-                       f"{extra['analytic_optimum_cost_per_year']:,.0f} per year{edge}")
-
-

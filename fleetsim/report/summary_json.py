@@ -15,7 +15,7 @@ import json
 import math
 from collections.abc import Mapping, Sequence
 from pathlib import PurePath
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -24,6 +24,9 @@ import fleetsim
 from fleetsim.errors import InputError
 from fleetsim.report.headline import difference, headline_figures, recommended_index
 from fleetsim.study.result import StudyResult
+
+if TYPE_CHECKING:
+    from fleetsim.study.decision import Decision
 
 #: Written into every summary; also how the writer recognises a report directory.
 REPORT_FORMAT = "fleetsim-report/1"
@@ -116,9 +119,19 @@ def summary_document(
     recommended_stock: Mapping[str, float] | None = None,
     sweep: pd.DataFrame | None = None,
     extra: Mapping[str, Any] | None = None,
+    decision: Decision | None = None,
 ) -> dict[str, Any]:
-    """The content of ``summary.json`` as plain JSON types."""
+    """The content of ``summary.json`` as plain JSON types.
+
+    With a ``decision`` (:mod:`fleetsim.study.decision`) the document carries
+    the JSON contract of a decision: ``baseline``, ``recommended`` (``variant,
+    objective, view``), ``indistinguishable_from_best``, ``stock_advice``, and
+    in every ``variants[]`` entry ``policy_view``. Without one, the
+    recommendation is the lowest mean cost per year.
+    """
     best = recommended_index(results)
+    if decision is not None:
+        best = decision.baseline if decision.recommended is None else decision.recommended
     doc: dict[str, Any] = {
         "report_format": REPORT_FORMAT,
         "title": title,
@@ -135,6 +148,10 @@ def summary_document(
             for k, (r, lab) in enumerate(zip(results, labels, strict=True))
         ],
     }
+    if decision is not None:
+        for k, entry in enumerate(doc["variants"]):
+            entry.update(jsonable(decision.variant_json(k), "decision"))
+        doc.update(jsonable(decision.as_json(), "decision"))
     if recommended_stock:
         doc["recommended_stock"] = jsonable(dict(recommended_stock), "recommended_stock")
     if sweep is not None:

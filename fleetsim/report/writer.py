@@ -56,6 +56,8 @@ from fleetsim.study.result import StudyResult
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
 
+    from fleetsim.study.decision import Decision
+
 HTML_NAME = "report.html"
 SUMMARY_NAME = "summary.json"
 FIGURES_DIR = "figures"
@@ -391,6 +393,7 @@ def write_report(
     recommended_stock: Mapping[str, float] | None = None,
     life_reliability: float = DEFAULT_MARKED_RELIABILITY,
     dpi: int = DEFAULT_DPI,
+    decision: Decision | None = None,
 ) -> ReportPaths:
     """Write the report of one or more study variants into ``out_dir``, atomically.
 
@@ -422,6 +425,10 @@ def write_report(
         Reliability whose life is marked on the life figure besides L10.
     dpi
         Resolution of the figures.
+    decision
+        What the study recommends (:mod:`fleetsim.study.decision`): it sets
+        the recommended variant, opens the executive summary with its
+        sentences, and adds its JSON contract to ``summary.json``.
 
     Returns
     -------
@@ -443,6 +450,10 @@ def write_report(
     _check_target(out_dir)
     labels = variant_labels(results)
     best = recommended_index(results)
+    if decision is not None:
+        best = decision.baseline if decision.recommended is None else decision.recommended
+        if executive_summary is None:
+            executive_summary = decision.lines()
     paragraphs = (
         list(executive_summary)
         if executive_summary is not None
@@ -459,6 +470,7 @@ def write_report(
         recommended_stock=recommended_stock,
         sweep=sweep,
         extra=extra,
+        decision=decision,
     )
     out_dir.parent.mkdir(parents=True, exist_ok=True)
     work = _sibling(out_dir, "new")

@@ -22,6 +22,7 @@ whatever was there. ``fleetsim sweep --vary KEY=VALUES`` uses the same paths.
 from __future__ import annotations
 
 import copy
+import dataclasses
 import itertools
 import math
 import re
@@ -36,6 +37,11 @@ from fleetsim.scenario import build_scenario
 from fleetsim.scenario.loader import parse_toml, read_text
 from fleetsim.scenario.model import Scenario
 from fleetsim.scenario.reader import show
+
+#: Name of a scenario file's base case (the file as it is).
+BASE_NAME = "Today's practice"
+
+BASE_CASE_WORDS = "the file's base case"
 
 _STEP = re.compile(r"^([^\[\]]+)((?:\[[^\]]+\])*)$")
 
@@ -212,7 +218,7 @@ MAX_DESCRIPTION = 2000
 
 def file_variants(document: Mapping[str, Any], source: str, digest: str) -> list[Variant]:
     """The base case and the ``[[variant]]`` entries of a scenario document."""
-    base_name = "Today's practice"
+    base_name = BASE_NAME
     raw = document.get("variant", [])
     if not isinstance(raw, list):
         raise InputError(f"{source}: variant", "expected [[variant]] tables")
@@ -262,3 +268,41 @@ def grid_variants(document: Mapping[str, Any], varies: Sequence[tuple[str, list[
         name = "; ".join(f"{k}={value_label(v)}" for k, v in shown)
         out.append(build_variant(document, pairs, name, source, digest))
     return out
+
+
+def _same(a: Scenario, b: Scenario) -> bool:
+    return dataclasses.replace(a, source="") == dataclasses.replace(b, source="")
+
+
+def with_baseline(document: Mapping[str, Any], variants: Sequence[Variant], source: str,
+                  digest: str, baseline: str | None = None) -> tuple[list[Variant], int]:
+    """The variants with the file's base case among them, and the baseline's index.
+
+    The base case (the file as it is, :data:`BASE_NAME`) is put first unless a
+    variant already is the same scenario (then that variant is the base case,
+    and its name says so).
+    ``baseline`` names another variant to measure against instead.
+
+    Raises
+    ------
+    InputError
+        At ``--baseline`` when no variant has that name.
+    """
+    out = list(variants)
+    base = build_variant(document, [], BASE_NAME, source, digest)
+    same = [k for k, v in enumerate(out) if _same(v.scenario, base.scenario)]
+    if same:
+        index = same[0]
+        if out[index].name != BASE_NAME:  # a swept value that is the file's own
+            out[index] = dataclasses.replace(out[index],
+                                             name=f"{out[index].name} ({BASE_CASE_WORDS})")
+    else:
+        out.insert(0, base)
+        index = 0
+    if baseline is None:
+        return out, index
+    names = [v.name for v in out]
+    if baseline not in names:
+        raise InputError("--baseline", f"expected a variant name, got {baseline!r} "
+                                       f"(variants: {', '.join(names)})")
+    return out, names.index(baseline)
