@@ -274,3 +274,20 @@ def test_an_unknown_baseline_is_a_one_line_error(small: Path, tmp_path: Path, ca
     assert code == 2
     err = capsys.readouterr().err
     assert "--baseline" in err and "Nope" in err and "Traceback" not in err
+
+
+def test_size_scenario_prints_its_answer_first_and_the_decision_contract(
+        tmp_path: Path, capsys) -> None:
+    args = ["size", "--scenario", str(DEMOS / "pump_stations.toml"), "--reliability", "0.9",
+            "--life", "5 years", "--catalog", str(DEMOS / "catalogue.csv"),
+            "--machine", "north-pump-1", "--replications", "6", "--out", str(tmp_path / "r"),
+            "--quiet"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("north-pump-1: reliability over the period")
+    assert "Recommended on cost per year (policy view" in out.split("Target:")[0]
+    assert main([*args, "--json"]) == 0
+    obj = json.loads(capsys.readouterr().out)
+    assert obj["baseline"] == "Today's bearings"
+    assert obj["recommended"]["view"] == "policy"
+    assert set(obj["policy_view"]) == {"Today's bearings", "New selection"}

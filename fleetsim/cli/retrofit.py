@@ -49,6 +49,9 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
                    f"replications each)...", err=True)
     results = compare({"Today's bearings": today, "New selection": new},
                       replications=replications, keep_events=False)
+    from fleetsim.study.decision import study_decision
+
+    decision = study_decision(results, stock_target=None)
     out_dir = Path(out) if out else Path("reports") / (slug(today.study.name) + "-retrofit")
     years = period_h / 8766.0
     rows = [
@@ -67,7 +70,7 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
     paths = write_report(results, out_dir, title=f"{today.study.name}: retrofit for "
                          f"{target:.4g} over {years:.3g} years",
                          extra={"target": target, "period_h": period_h, "positions": rows,
-                                "machine_reliability": machines_out})
+                                "machine_reliability": machines_out}, decision=decision)
     if as_json:
         obj: dict[str, Any] = {
             "target": target, "period_h": period_h, "positions": rows,
@@ -78,10 +81,21 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
                               for v, r in diffs.iterrows()},
             "report": str(paths.html), "caution": SAFETY_CAUTION,
         }
+        contract = decision.as_json()
+        obj.update({k: contract[k] for k in ("baseline", "recommended",
+                                             "indistinguishable_from_best")})
+        obj["policy_view"] = {decision.labels[k]: decision.variant_json(k)["policy_view"]
+                              for k in range(len(results))}
         echo_json(obj)
         return
     how = ("the target shared equally by the positions that can change"
            if allocation == "equal" else "the cheapest combination of bearings that meets it")
+    for m, v in machines_out.items():
+        click.echo(f"{m}: reliability over the period {v['today']:.4f} today → {v['new']:.4f} "
+                   f"with the new selection ({'meets' if v['meets_target'] else 'misses'} "
+                   f"{target:.4g})")
+    click.echo("\n".join(decision.lines()))
+    click.echo("")
     click.echo(f"Target: each machine {target:.4g} reliable over {years:.3g} years "
                f"(positions in series; {how})\n")
     w = max(len(f"{r['machine']}/{r['position']}") for r in rows)
@@ -90,11 +104,6 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
         need = fmt(None if c.required_rating_N is None else c.required_rating_N / 1e3, ".4g", "kN")
         click.echo(f"{c.machine + '/' + c.position:<{w}}  {c.current_bearing:<10} "
                    f"{need:>9}  {c.selected or '—':<10} {c.note}")
-    click.echo("")
-    for m, v in machines_out.items():
-        click.echo(f"{m}: reliability over the period {v['today']:.4f} today → {v['new']:.4f} "
-                   f"with the new selection ({'meets' if v['meets_target'] else 'misses'} "
-                   f"{target:.4g})")
     click.echo("")
     click.echo(summary_table(results).rstrip())
     click.echo(f"\nReport: {paths.html}\n\n{SAFETY_CAUTION}")
