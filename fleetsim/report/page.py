@@ -2,7 +2,7 @@
 
 Figures are embedded as base64 PNG data URIs and the style sheet is inline,
 so the page needs no network and no other file; a print style sheet lays it
-out for A4 paper. Autoescaping is on for the whole template: every name the
+out for A4 or Letter paper (tables wrap, figures are never split across pages). Autoescaping is on for the whole template: every name the
 user wrote (study, machines, positions, bearings, groups, variant labels,
 extra results) reaches the page as text, never as markup.
 """
@@ -19,8 +19,9 @@ import jinja2
 
 import fleetsim
 from fleetsim import numbers as fmt
+from fleetsim.report import extra_tables, inputs
 from fleetsim.report.headline import headline_figures
-from fleetsim.scenario.model import HOURS_PER_YEAR, Duration, Policy, Scenario
+from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
 from fleetsim.study.result import StudyResult
 
 TEMPLATE = "report.html.j2"
@@ -61,81 +62,163 @@ def _template() -> jinja2.Template:
     return env.from_string(text)
 
 
-def policy_text(policy: Policy, pf_interval: Duration | None = None) -> str:
-    """A maintenance policy in a few plain words (with the position's P-F interval)."""
-    if policy.kind == "age" and policy.interval_h:
-        return f"age replacement at {fmt.number(policy.interval_h)} operating h"
-    if policy.kind == "block" and policy.interval_h:
-        return f"block replacement every {fmt.number(policy.interval_h)} h ({policy.block_scope})"
-    if policy.kind == "condition" and policy.inspection_every_h:
-        pf = f", P-F {fmt.number(pf_interval.mean_h)} h mean" if pf_interval else ""
-        return (
-            f"inspect every {fmt.number(policy.inspection_every_h)} h{pf}, "
-            f"detection {100 * policy.detection:g} %"
-        )
-    return "run to failure" if policy.kind == "run-to-failure" else policy.kind
+#: Headline figures where lower is better; ``HIGHER`` where higher is; the rest are not judged.
+LOWER = ("cost_per_year", "failures_per_year", "downtime_", "missed_defects_per_year")
+HIGHER = ("availability", "fleet_no_down", "group_no_down:")
+#: Most variant columns in one headline table; more variants give further tables.
+COLUMNS_PER_TABLE = 4
 
 
-def fleet_rows(scenario: Scenario) -> list[dict[str, str]]:
-    """One row per machine position: names, units, lives and policy, as display text."""
-    rows = []
-    for m in scenario.machines:
-        for p in m.positions:
-            basic = p.derived.rating_life_h if p.derived is not None else None
-            rows.append(
-                {
-                    "machine": m.id,
-                    "units": str(m.count),
-                    "share": f"{100 * m.operating_share:.0f} %",
-                    "position": p.id,
-                    "bearing": p.bearing_id,
-                    "basic_l10": fmt.number(basic) if basic is not None else "given life",
-                    "life_l10": fmt.number(float(p.life.life_at_reliability(0.9))),
-                    "shape": f"{p.life.shape:.3g}",
-                    "policy": policy_text(p.policy, p.pf_interval),
-                }
-            )
-    return rows
+def _direction(figure: str) -> int:
+    if figure.startswith(LOWER):
+        return -1
+    if figure.startswith(HIGHER):
+        return 1
+    return 0
 
 
 def headline_rows(results: Sequence[StudyResult]) -> list[dict[str, Any]]:
-    """Rows of the headline table: figure name and one cell per variant."""
+    """Rows of the headline table: figure name and one cell per variant.
+
+    Each cell has its ``mean`` and ``ci`` text and a ``mark``: ``"best"`` or
+    ``"worst"`` in its row, for figures where lower (cost, failures, downtime)
+    or higher (availability, no down event) is better and the variants differ.
+    """
     order: list[str] = []
     names: dict[str, str] = {}
     cells: dict[tuple[str, int], dict[str, str]] = {}
+    means: dict[str, dict[int, float]] = {}
     for k, r in enumerate(results):
         for h in headline_figures(r):
             if h.figure not in names:
                 order.append(h.figure)
                 names[h.figure] = f"{h.label} ({'%' if h.is_share else h.unit})"
-            # Shares are in percent; the row name carries the sign.
             mean, low, high = fmt.estimate_parts(h.mean, h.ci_low, h.ci_high, share=h.is_share)
             cells[(h.figure, k)] = {
                 "mean": mean,
                 "ci": "" if low is None else f"95 % CI {low} to {high}",
+                "mark": "",
             }
-    empty = {"mean": "–", "ci": ""}
+            means.setdefault(h.figure, {})[k] = h.mean
+    for f in order:
+        sign = _direction(f)
+        vals = {k: v for k, v in means[f].items() if v == v}
+        if sign == 0 or len(vals) < 2 or len({cells[(f, k)]["mean"] for k in vals}) < 2:
+            continue
+        best = max(vals.values()) if sign > 0 else min(vals.values())
+        worst = min(vals.values()) if sign > 0 else max(vals.values())
+        for k, v in vals.items():
+            cells[(f, k)]["mark"] = "best" if v == best else ("worst" if v == worst else "")
+    empty = {"mean": "–", "ci": "", "mark": ""}
     return [
         {"name": names[f], "cells": [cells.get((f, k), empty) for k in range(len(results))]}
         for f in order
     ]
 
 
-def flatten(data: Any, prefix: str = "") -> list[tuple[str, str]]:
-    """Nested JSON-like data as ``(key path, text)`` rows for a two-column table."""
-    if isinstance(data, Mapping):
-        rows: list[tuple[str, str]] = []
-        for k, v in data.items():
-            rows += flatten(v, f"{prefix}.{k}" if prefix else str(k))
-        return rows
-    if isinstance(data, list) and data and all(isinstance(v, Mapping | list) for v in data):
+def headline_tables(
+    rows: list[dict[str, Any]], labels: Sequence[str], recommended: int
+) -> list[dict[str, Any]]:
+    """The headline table split into tables of at most :data:`COLUMNS_PER_TABLE` variants.
+
+    A printed page holds about five columns; the figure names repeat in each part.
+    """
+    out = []
+    n = len(labels)
+    for start in range(0, n, COLUMNS_PER_TABLE):
+        idx = list(range(start, min(n, start + COLUMNS_PER_TABLE)))
+        out.append(
+            {
+                "columns": [
+                    {"label": labels[k], "baseline": k == 0 and n > 1,
+                     "recommended": k == recommended and n > 1}
+                    for k in idx
+                ],
+                "rows": [{"name": r["name"], "cells": [r["cells"][k] for k in idx]} for r in rows],
+            }
+        )
+    return out
+
+
+def group_rows(rows: list[dict[str, Any]], key: str, join: str = ", ") -> list[dict[str, Any]]:
+    """Rows equal but for ``key`` merged into one, their ``key`` values joined, in first-seen order."""
+    merged: dict[tuple[Any, ...], dict[str, Any]] = {}
+    for row in rows:
+        rest = tuple((k, v) for k, v in row.items() if k != key)
+        if rest in merged:
+            merged[rest][key] += join + str(row[key])
+        else:
+            merged[rest] = dict(row)
+    return list(merged.values())
+
+
+def plan_rows(today: Scenario, chosen: Scenario) -> list[dict[str, Any]]:
+    """What to do at each position: today's policy and the recommended one, in words.
+
+    Positions of the same name, bearing and policies on several machines share a row.
+    """
+    now = {(m.id, p.id): p for m in today.machines for p in m.positions}
+    rows = []
+    for m in chosen.machines:
+        for p in m.positions:
+            before = now.get((m.id, p.id))
+            rows.append(
+                {
+                    "position": p.id,
+                    "bearing": p.bearing_id,
+                    "today": inputs.policy_text(before.policy, before.pf_interval)
+                    if before is not None
+                    else "–",
+                    "do": inputs.policy_text(p.policy, p.pf_interval),
+                    "changed": before is None
+                    or before.policy != p.policy
+                    or before.bearing_id != p.bearing_id,
+                    "machines": m.id,
+                }
+            )
+    return group_rows(rows, "machines")
+
+
+def stock_rows(
+    summary: Mapping[str, Any] | None, recommended_stock: Mapping[str, float] | None
+) -> list[dict[str, str]]:
+    """Stock levels to set, per bearing, from the summary's advice when it has it.
+
+    Reads ``stock_advice`` records (``bearing, reorder_point, order_up_to,
+    target_fill_rate, simulated_fill_rate{mean, ci_low, ci_high},
+    sized_for_variant``) when the summary carries them, else the recommended
+    base-stock levels by bearing.
+    """
+    advice = (summary or {}).get("stock_advice")
+    if isinstance(advice, list) and advice:
         rows = []
-        for i, v in enumerate(data):
-            rows += flatten(v, f"{prefix}[{i}]")
+        for a in advice:
+            sim = a.get("simulated_fill_rate") or {}
+            rows.append(
+                {
+                    "bearing": str(a.get("bearing", "")),
+                    "levels": f"s = {a.get('reorder_point', '–')}, S = {a.get('order_up_to', '–')}",
+                    "fill": fmt.estimate(sim.get("mean"), sim.get("ci_low"), sim.get("ci_high"),
+                                         share=True)
+                    if sim else "–",
+                    "target": fmt.percent(a.get("target_fill_rate")),
+                    "variant": str(a.get("sized_for_variant", "")),
+                }
+            )
         return rows
-    if isinstance(data, float):
-        return [(prefix, fmt.number(data))]
-    return [(prefix, "–" if data is None else str(data))]
+    return [
+        {"bearing": b, "levels": f"S = {fmt.number(float(v))} (on hand + on order)", "fill": "–",
+         "target": "95.0 %", "variant": ""}
+        for b, v in (recommended_stock or {}).items()
+    ]
+
+
+def _units(scenario: Scenario, member: str) -> int:
+    """Units a group member stands for: a machine type's count, or one named unit."""
+    try:
+        return scenario.machine(member).count
+    except KeyError:
+        return 1
 
 
 def render_page(
@@ -149,13 +232,20 @@ def render_page(
     files: Sequence[str],
     extra: Any = None,
     generated: str = "",
+    summary: Mapping[str, Any] | None = None,
+    recommended_stock: Mapping[str, float] | None = None,
+    subtitle: str = "",
 ) -> str:
     """The report page as HTML text.
+
+    The page reads in the order a manager does: the executive summary (what
+    to do, the saving, how sure), the inputs that drive it, the evidence
+    (headline table and figures), then the appendix.
 
     Parameters
     ----------
     results, labels
-        The studies and their variant names; the first is today's practice.
+        The studies and their variant names; the first is the baseline.
     title
         Page title.
     executive_summary
@@ -167,12 +257,21 @@ def render_page(
     files
         Names of the report's other files (CSV, PNG, JSON), listed at the end.
     extra
-        JSON-like further results, shown as a key/value table.
+        JSON-like further results, shown as titled tables in the appendix.
     generated
         Date text shown in the header (empty for none).
+    summary
+        The ``summary.json`` document; its ``baseline``, ``recommended``
+        (``variant``, ``objective``, ``view``), ``indistinguishable_from_best``
+        and ``stock_advice`` are shown when present.
+    recommended_stock
+        Recommended base stock by bearing (used when the summary has no advice).
+    subtitle
+        A line under the title (what was swept, what was sized).
     """
     template = _template()
     first = results[0].scenario
+    chosen = results[recommended].scenario
     variants = [
         {
             "label": lab,
@@ -180,39 +279,49 @@ def render_page(
             "digest": r.scenario.digest[:16] or "n/a",
             "seed": r.seed,
             "engine": r.engine,
-            "replications": len(r.replications),
-            "horizon": f"{r.horizon_h / HOURS_PER_YEAR:.3g} years ({fmt.number(r.horizon_h)} h)",
+            "replications": fmt.number(len(r.replications)),
+            "horizon": f"{fmt.number(r.horizon_h / HOURS_PER_YEAR)} years",
             "workers": r.workers,
             "elapsed": f"{r.elapsed_s:.1f} s",
             "recommended": k == recommended,
         }
         for k, (r, lab) in enumerate(zip(results, labels, strict=True))
     ]
+    summary = summary or {}
+    rec = summary.get("recommended") if isinstance(summary.get("recommended"), Mapping) else {}
+    decision = {
+        "variant": labels[recommended],
+        "baseline": str(summary.get("baseline") or labels[0]),
+        "objective": str(rec.get("objective") or rec.get("rule") or "lowest mean cost per year"),
+        "view": str(rec.get("view") or ""),
+        "tied": [str(v) for v in summary.get("indistinguishable_from_best") or []],
+    }
     return template.render(
         title=title,
+        subtitle=subtitle,
         caution=fleetsim.SAFETY_CAUTION,
         version=fleetsim.__version__,
         generated=generated,
         executive=list(executive_summary),
-        labels=list(labels),
-        recommended=recommended,
-        headline=headline_rows(results),
+        decision=decision,
+        several=len(results) > 1,
+        plan=plan_rows(first, chosen),
+        stock=stock_rows(summary, recommended_stock),
+        headline_tables=headline_tables(headline_rows(results), labels, recommended),
         figures=list(figures),
         variants=variants,
         currency=first.costs.currency,
-        fleet=fleet_rows(first),
+        costs=inputs.cost_rows(first),
+        study_inputs=inputs.study_rows(first),
+        crews=inputs.crew_rows(first),
+        fleet=group_rows(inputs.position_rows(first), "machine"),
+        bearings=inputs.bearing_rows(first),
         groups=[
-            {"id": g.id, "machines": ", ".join(g.machines), "need": g.need} for g in first.groups
+            {"id": g.id, "machines": ", ".join(g.machines), "need": g.need,
+             "of": sum(_units(first, m) for m in g.machines),
+             "hold": "yes" if g.hold_planned_work else "no"}
+            for g in first.groups
         ],
-        bearings=[
-            {
-                "id": b.id,
-                "type": str(b.bearing_type),
-                "c": fmt.number(b.dynamic_rating_N),
-                "price": fmt.number(b.price),
-            }
-            for b in first.bearings.values()
-        ],
-        extra=flatten(extra) if extra else [],
+        extra=extra_tables.blocks(extra),
         files=list(files),
     )

@@ -394,6 +394,7 @@ def write_report(
     life_reliability: float = DEFAULT_MARKED_RELIABILITY,
     dpi: int = DEFAULT_DPI,
     decision: Decision | None = None,
+    subtitle: str = "",
 ) -> ReportPaths:
     """Write the report of one or more study variants into ``out_dir``, atomically.
 
@@ -429,6 +430,8 @@ def write_report(
         What the study recommends (:mod:`fleetsim.study.decision`): it sets
         the recommended variant, opens the executive summary with its
         sentences, and adds its JSON contract to ``summary.json``.
+    subtitle
+        A line under the title (what was swept, what was sized).
 
     Returns
     -------
@@ -505,6 +508,9 @@ def write_report(
             files=files,
             extra=doc.get("extra"),
             generated=datetime.now(UTC).strftime("%Y-%m-%d"),
+            summary=doc,
+            recommended_stock=recommended_stock,
+            subtitle=subtitle,
         )
         (work / HTML_NAME).write_bytes(page.encode("utf-8"))
         manifest = {"files": sorted([HTML_NAME, *files])}
