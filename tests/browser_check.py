@@ -118,7 +118,7 @@ def check_page(html: Path, out_dir: Path, name: str) -> PageCheck:
             shot = out_dir / f"{name}-screen.png"
             page.screenshot(path=str(shot), full_page=True)
             result.screenshots.append(shot)
-            for paper, (w_mm, h_mm) in PAPERS.items():
+            for paper, (w_mm, _h_mm) in PAPERS.items():
                 width_px = round((w_mm - 2 * MARGIN_MM) * PX_PER_MM)
                 page.set_viewport_size({"width": width_px, "height": 1000})
                 page.emulate_media(media="print")
