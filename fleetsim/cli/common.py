@@ -27,6 +27,28 @@ def slug(name: str) -> str:
     return s[:MAX_SLUG].rstrip("-._") or "study"
 
 
+def terminal_width(default: int = 100) -> int:
+    """Characters per line for tables and text: ``COLUMNS`` if set, else the terminal's, else ``default``."""
+    import shutil
+
+    return max(40, shutil.get_terminal_size((default, 24)).columns)
+
+
+def paragraphs(texts: Sequence[str], width: int, indent: str = "") -> str:
+    """Paragraphs wrapped to ``width`` characters, one after another (an empty text is a blank line)."""
+    import textwrap
+
+    out = []
+    for text in texts:
+        lead = text[: len(text) - len(text.lstrip(" "))]
+        out.append(
+            textwrap.fill(text.strip(), width, initial_indent=lead,
+                          subsequent_indent=indent or lead, break_on_hyphens=False)
+            if text.strip() else ""
+        )
+    return "\n".join(out)
+
+
 def fail(message: str, code: int = EXIT_INPUT) -> int:
     """Print one error line to standard error and return the exit code."""
     click.echo(f"fleetsim: error: {message}", err=True)

@@ -12,7 +12,7 @@ import click
 
 from fleetsim import SAFETY_CAUTION
 from fleetsim.bounds import MAX_REPLICATIONS
-from fleetsim.cli.common import echo_json, slug
+from fleetsim.cli.common import echo_json, paragraphs, slug, terminal_width
 from fleetsim.errors import InputError
 from fleetsim.seed import check_seed
 
@@ -157,6 +157,8 @@ def _decide(results: list[StudyResult], *, objective: str, baseline: int, worker
 def _finish(results: list[StudyResult], decision: Decision, out_dir: Path, ck_dir: Path,
             title: str, as_json: bool, quiet: bool, extra: dict[str, Any],
             evidence: Sequence[str] = (), **report_kw: Any) -> None:
+    import json
+
     from fleetsim.report import summary_table, write_report
 
     stock = {a.bearing: a.order_up_to for a in decision.stock}
@@ -175,23 +177,23 @@ def _finish(results: list[StudyResult], decision: Decision, out_dir: Path, ck_di
         ck_dir.rmdir()
     except OSError:
         pass
+    summary = json.loads(Path(paths.summary_json).read_text())
     if as_json:
-        import json
-
-        summary = json.loads(Path(paths.summary_json).read_text())
         summary["report"] = str(paths.html)
         summary["elapsed_s"] = sum(r.elapsed_s for r in results)
         echo_json(summary)
         return
-    click.echo("\n".join([*decision.lines(), *evidence]))
+    # The recommendation and its evidence first, then the tables, within the terminal's width.
+    width = terminal_width()
+    click.echo(paragraphs([*decision.lines(), *evidence], width))
     click.echo("")
     click.echo("\n".join(decision.table_lines()))
     click.echo("\nBudget view (from today's fleet over the horizon):")
-    click.echo(summary_table(results).rstrip())
+    click.echo(summary_table(results, width=width).rstrip())
     if discounted:
-        click.echo(f"({discounted[0].upper()}{discounted[1:]}.)")
+        click.echo(paragraphs([f"({discounted[0].upper()}{discounted[1:]}.)"], width))
     click.echo(f"\nReport: {paths.html}")
-    click.echo(f"\n{SAFETY_CAUTION}")
+    click.echo("\n" + paragraphs([SAFETY_CAUTION], width))
     _note(quiet, f"{sum(len(r.replications) for r in results)} replications in "
                  f"{sum(r.elapsed_s for r in results):.1f} s (budget view)")
 

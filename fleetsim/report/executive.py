@@ -33,6 +33,13 @@ def _est(h: Headline | None, unit: str = "") -> str:
     return fmt.estimate(h.mean, h.ci_low, h.ci_high, share=h.is_share, unit=unit)
 
 
+def _today(label: str) -> str:
+    """``today's practice (label)``, without repeating a label that already says so."""
+    return "today's practice" if label.strip().lower() == "today's practice" else (
+        f"today's practice ({label})"
+    )
+
+
 def _saving_sentences(
     first: StudyResult, best: StudyResult, first_label: str, best_label: str, currency: str
 ) -> list[str]:
@@ -103,7 +110,7 @@ def default_executive_summary(
     elif best == 0:
         others = [k for k in range(1, len(results)) if "cost_per_year" in results[k].replications]
         out.append(
-            f"Keep today's practice ({labels[0]}): it has the lowest expected cost of the "
+            f"Keep {_today(labels[0])}: it has the lowest expected cost of the "
             f"{len(results)} variants studied, {_est(_find(r0, 'cost_per_year'), per_year)}."
         )
         if others:
@@ -117,7 +124,7 @@ def default_executive_summary(
         out.append(
             f"Recommended: {labels[best]}. It has the lowest expected cost of the {len(results)} "
             f"variants studied, {_est(_find(rb, 'cost_per_year'), per_year)}, against "
-            f"{_est(_find(r0, 'cost_per_year'), per_year)} for today's practice ({labels[0]})."
+            f"{_est(_find(r0, 'cost_per_year'), per_year)} for {_today(labels[0])}."
         )
         out += _saving_sentences(r0, rb, labels[0], labels[best], currency)
     details = []
@@ -130,7 +137,7 @@ def default_executive_summary(
             text = f"{words} {_est(h)}"
             h0 = _find(r0, figure)
             if best != 0 and h0 is not None:
-                text += f" (today: {fmt.percent(h0.mean) if h0.is_share else fmt.number(h0.mean)})"
+                text += f" (today: {fmt.percent(h0.mean) if h0.is_share else fmt.number(h0.mean, sig=2)})"
             details.append(text)
     if details:
         out.append(f"With {labels[best]}: " + "; ".join(details) + ".")
@@ -142,7 +149,7 @@ def default_executive_summary(
         )
     if recommended_stock:
         stock = ", ".join(f"{b}: {fmt.number(float(v))}" for b, v in recommended_stock.items())
-        out.append(f"Recommended stock levels (units on hand): {stock}.")
+        out.append(f"Recommended base stock S (on hand plus on order): {stock}.")
     rates = {r.scenario.costs.discount_rate_per_year for r in results}
     if any(rate > 0 for rate in rates):
         text = ", ".join(fmt.with_unit(fmt.number(100 * rate, sig=2), "%") for rate in sorted(rates))

@@ -27,6 +27,7 @@ formula injection through CSV files (OWASP, from memory).
 
 from __future__ import annotations
 
+import textwrap
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -117,20 +118,90 @@ def _cell(h: Headline) -> str:
     return fmt.estimate(h.mean, h.ci_low, h.ci_high, share=h.is_share, style="brackets")
 
 
-def summary_table(results: Sequence[StudyResult], labels: Sequence[str] | None = None) -> str:
+#: Width of the terminal table when none is given (characters).
+DEFAULT_WIDTH = 100
+GAP = "  "
+
+
+def _runs_lines(results: Sequence[StudyResult], labels: Sequence[str], width: int) -> list[str]:
+    """How the variants were run: one line when they share the settings, else one per variant."""
+
+    def settings(r: StudyResult) -> str:
+        return (
+            f"{fmt.number(r.horizon_years)} years, {fmt.plural(len(r.replications), 'replication')}, "
+            f"seed {r.seed}, engine {r.engine}"
+        )
+
+    first = results[0]
+    if all(settings(r) == settings(first) for r in results):
+        text = f"Study {first.scenario.study.name!r}: {settings(first)}"
+        if len(results) > 1:
+            text += f", {fmt.plural(len(results), 'variant')} on common random numbers"
+        return textwrap.wrap(text + ".", width) or [""]
+    return [
+        line
+        for r, label in zip(results, labels, strict=True)
+        for line in textwrap.wrap(f"{label}: {settings(r)}.", width, subsequent_indent="  ")
+    ]
+
+
+def _layout(header: list[str], body: list[list[str]], width: int) -> list[str]:
+    """The table, its variant columns split into blocks that fit ``width`` characters.
+
+    Column headings wrap onto several lines within their column; the first
+    column (the figure names) repeats in every block.
+    """
+    name_w = max(len(row[0]) for row in [header, *body])
+    cell_w = [max(len(row[c]) for row in body) for c in range(1, len(header))]
+    # a heading may wrap to its column's width, but no narrower than its longest word
+    col_w = [
+        max(w, max((len(word) for word in header[c + 1].split()), default=0))
+        for c, w in enumerate(cell_w)
+    ]
+    blocks: list[list[int]] = [[]]
+    used = name_w
+    for c, w in enumerate(col_w):
+        if blocks[-1] and used + len(GAP) + w > width:
+            blocks.append([])
+            used = name_w
+        blocks[-1].append(c)
+        used += len(GAP) + w
+    lines: list[str] = []
+    for b, cols in enumerate(blocks):
+        if b:
+            lines.append("")
+        heads = [textwrap.wrap(header[c + 1], col_w[c]) or [""] for c in cols]
+        depth = max(len(h) for h in heads)
+        for i in range(depth):
+            first = header[0] if i == depth - 1 else ""
+            parts = [first.ljust(name_w)]
+            parts += [(h[i - depth + len(h)] if i >= depth - len(h) else "").ljust(col_w[c])
+                      for h, c in zip(heads, cols, strict=True)]
+            lines.append(GAP.join(parts).rstrip())
+        lines.append(GAP.join(["-" * name_w] + ["-" * col_w[c] for c in cols]))
+        for row in body:
+            parts = [row[0].ljust(name_w)] + [row[c + 1].ljust(col_w[c]) for c in cols]
+            lines.append(GAP.join(parts).rstrip())
+    return lines
+
+
+def summary_table(
+    results: Sequence[StudyResult],
+    labels: Sequence[str] | None = None,
+    *,
+    width: int | None = None,
+) -> str:
     """A compact plain-text table of the headline figures, for the terminal.
 
-    One column per variant; each cell is ``mean [95 % CI low, high]``; shares
-    are in percent. Lines end without trailing spaces; the text ends with a
-    newline.
+    One column per variant; each cell is ``mean [95 % CI low, high]`` with
+    the digits the interval supports; shares are in percent. The table fits
+    ``width`` characters (default :data:`DEFAULT_WIDTH`): variant columns
+    that do not fit go to a further block below, which repeats the figure
+    names. Lines end without trailing spaces; the text ends with a newline.
     """
     labels = _labels(results, labels)
-    lines = []
-    for r, label in zip(results, labels, strict=True):
-        lines.append(
-            f"{label}: study {r.scenario.study.name!r}, {r.horizon_years:.3g} years, "
-            f"{len(r.replications)} replications, seed {r.seed}, engine {r.engine}"
-        )
+    width = DEFAULT_WIDTH if width is None else max(40, int(width))
+    lines = _runs_lines(results, labels, width)
     order: list[str] = []
     names: dict[str, str] = {}
     cells: dict[tuple[str, int], str] = {}
@@ -142,13 +213,7 @@ def summary_table(results: Sequence[StudyResult], labels: Sequence[str] | None =
             cells[(h.figure, k)] = _cell(h)
     header = ["mean [95 % CI]", *labels]
     body = [[names[f]] + [cells.get((f, k), "-") for k in range(len(results))] for f in order]
-    widths = [max(len(row[c]) for row in [header, *body]) for c in range(len(header))]
-
-    def fmt(row: list[str]) -> str:
-        return "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
-
-    lines += ["", fmt(header), "  ".join("-" * w for w in widths)]
-    lines += [fmt(row) for row in body]
+    lines += [""] + _layout(header, body, width)
     return "\n".join(lines) + "\n"
 
 
