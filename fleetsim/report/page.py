@@ -288,7 +288,8 @@ def render_page(
         for k, (r, lab) in enumerate(zip(results, labels, strict=True))
     ]
     summary = summary or {}
-    rec = summary.get("recommended") if isinstance(summary.get("recommended"), Mapping) else {}
+    found = summary.get("recommended")
+    rec: Mapping[str, Any] = found if isinstance(found, Mapping) else {}
     decision = {
         "variant": labels[recommended],
         "baseline": str(summary.get("baseline") or labels[0]),
