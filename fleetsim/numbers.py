@@ -9,7 +9,7 @@ through this module, so one rule holds everywhere:
 * a mean shown with its confidence interval gets the digits the interval's
   width supports: the last digit shown is the second significant digit of the
   width (``0.402 [0.374, 0.430]``, ``10,020 [9,720, 10,320]``), the same for
-  the mean and both ends;
+  the mean and both ends (shares near 100 % are not capped, up to four decimals);
 * a share is shown in percent and never rounds to 0 % or 100 % unless it is
   exactly that (``99.97 %``);
 * a count of things takes the singular or plural (``1 machine type``).
@@ -140,7 +140,11 @@ def estimate_parts(
     if not math.isfinite(m):
         return "n/a", None, None
     big = max(abs(m), abs(lo) if math.isfinite(lo) else 0.0, abs(hi) if math.isfinite(hi) else 0.0)
-    d = interval_decimals(lo, hi, m)
+    # A share near 100 % needs all the digits its interval supports (99.9915 against 99.9750),
+    # so only other numbers are capped at four significant digits.
+    d = interval_decimals(lo, hi, None if share else m)
+    if share and d is not None:
+        d = min(d, 4)
     if d is None or big >= LARGE:
         text = percent(m / 100.0, sign=False) if share else number(m)
         if math.isfinite(lo) and math.isfinite(hi):

@@ -10,7 +10,7 @@ person before it was stored, and checked for what a user needs from it:
 * money has thousands separators and no scientific notation; every mean and
   its interval carry the same digits, set by the interval's width (e.g.
   ``0.110 [0.062, 0.158]``, ``10,500 [9,900, 11,200]``); shares near 100 %
-  are not rounded to 100 (``99.98``);
+  keep the digits their interval supports and are not rounded to 100 (``99.9925``);
 * stock advice names S as stock on hand plus on order;
 * the safety caution closes the output.
 
