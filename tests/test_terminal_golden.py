@@ -3,15 +3,18 @@
 The stored text, ``tests/golden/pump_run_columns100.txt``, was read by a
 person before it was stored, and checked for what a user needs from it:
 
-* the recommendation and its saving come first, before any table, and say
-  what they are measured against;
+* the recommendation (policy view), its saving and the variants that cannot
+  be told apart from it come first, before any table, and say what they are
+  measured against (the baseline);
 * no line is longer than 100 characters (the table's variant columns go to a
   second block that repeats the figure names, headings wrap in their column);
 * money has thousands separators and no scientific notation; every mean and
   its interval carry the same digits, set by the interval's width (e.g.
   ``0.110 [0.062, 0.158]``, ``10,500 [9,900, 11,200]``); shares near 100 %
   keep the digits their interval supports and are not rounded to 100 (``99.9925``);
-* stock advice names S as stock on hand plus on order;
+* stock advice gives the reorder point s and order-up-to level S to set;
+* the policy/budget table's notes that would pass 100 characters continue on
+  an indented line;
 * the safety caution closes the output.
 
 The numbers come from the simulation with a fixed seed and 20 replications,

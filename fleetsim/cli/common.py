@@ -49,6 +49,26 @@ def paragraphs(texts: Sequence[str], width: int, indent: str = "") -> str:
     return "\n".join(out)
 
 
+def fit_lines(lines: Sequence[str], width: int, indent: str = "    ") -> list[str]:
+    """Table lines cut to ``width``: what runs past it goes, after its last gap of two or more
+    spaces, onto a continuation line (indented), wrapped in turn."""
+    import re
+    import textwrap
+
+    out: list[str] = []
+    for line in lines:
+        line = line.rstrip()
+        if len(line) <= width:
+            out.append(line)
+            continue
+        gaps = [m.end() for m in re.finditer(r" {2,}", line[: width + 1])]
+        cut = gaps[-1] if gaps else width
+        out.append(line[:cut].rstrip())
+        out += textwrap.wrap(line[cut:].strip(), width, initial_indent=indent,
+                             subsequent_indent=indent) or []
+    return out
+
+
 def fail(message: str, code: int = EXIT_INPUT) -> int:
     """Print one error line to standard error and return the exit code."""
     click.echo(f"fleetsim: error: {message}", err=True)

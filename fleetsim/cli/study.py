@@ -12,7 +12,7 @@ import click
 
 from fleetsim import SAFETY_CAUTION
 from fleetsim.bounds import MAX_REPLICATIONS
-from fleetsim.cli.common import echo_json, paragraphs, slug, terminal_width
+from fleetsim.cli.common import echo_json, fit_lines, paragraphs, slug, terminal_width
 from fleetsim.errors import InputError
 from fleetsim.seed import check_seed
 
@@ -187,7 +187,7 @@ def _finish(results: list[StudyResult], decision: Decision, out_dir: Path, ck_di
     width = terminal_width()
     click.echo(paragraphs([*decision.lines(), *evidence], width))
     click.echo("")
-    click.echo("\n".join(decision.table_lines()))
+    click.echo("\n".join(fit_lines(decision.table_lines(), width)))
     click.echo("\nBudget view (from today's fleet over the horizon):")
     click.echo(summary_table(results, width=width).rstrip())
     if discounted:
