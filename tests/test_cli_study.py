@@ -203,8 +203,8 @@ def test_an_inspection_sweep_draws_its_cost_curve_and_names_only_what_varies(
     sweep = json.loads(capsys.readouterr().out)
     # The file's base case (age replacement, no inspections) is simulated beside the grid.
     assert sweep["baseline"] == "Today's practice"
-    assert sweep["extra"]["best_variant"] in ("policy.inspection_every=1 weeks",
-                                              "policy.inspection_every=4 weeks",
+    assert sweep["extra"]["best_variant"] in ("inspect every 1\u00a0weeks",
+                                              "inspect every 4\u00a0weeks",
                                               "Today's practice")
     assert (out / "figures" / "cost_rate_sweep.png").exists()
     assert "Cost rate against inspection interval" in (out / "report.html").read_text()
@@ -222,7 +222,7 @@ def test_the_pump_demo_sweep_decides_on_the_policy_view_against_the_base_case(
     assert code == 0
     doc = json.loads(capsys.readouterr().out)
     # The file's base case (30,000 h) is the baseline, found among the swept values.
-    assert doc["baseline"] == "policy.interval=30000 h (the file's base case)"
+    assert doc["baseline"] == "replace at 30,000\u00a0h (the file's base case)"  # in words
     rec = doc["recommended"]
     assert rec["view"] == "policy" and rec["objective"] == "cost"
     assert rec["variant"] in [v["variant"] for v in doc["variants"]]

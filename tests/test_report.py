@@ -319,7 +319,7 @@ def test_report_writes_every_file_and_every_image_decodes(full) -> None:
         "life",
         "cost_per_year",
         "cost_rate_sweep",
-        "availability",
+        "downtime_by_machine",
         "downtime_by_cause",
         "spares",
         "system_reliability",
@@ -463,7 +463,7 @@ def test_user_strings_are_escaped_in_the_html(tmp_path) -> None:
     assert set(paths.figures) == {
         "life",
         "cost_per_year",
-        "availability",
+        "downtime_by_machine",
         "downtime_by_cause",
         "spares",
         "system_reliability",

@@ -44,7 +44,7 @@ def _commands(demo: str, out: Path) -> dict[str, list[str]]:
     scenario, vary = DEMOS[demo]
     scenario = str(ROOT / scenario)
     return {
-        "run": ["run", scenario, "-n", "4", "--out", str(out / "run"), "--quiet"],
+        "run": ["run", scenario, "-n", "4", "--out", str(out / "run"), "--quiet", "--pdf"],
         "sweep": ["sweep", scenario, "--vary", vary, "-n", "4", "--out", str(out / "sweep"),
                   "--quiet"],
         "size": ["size", "--scenario", scenario, "--reliability", "0.9", "--life", "5 years",
@@ -69,6 +69,8 @@ def test_demo_reports_render_and_print(demo: str, browser: None, tmp_path: Path,
     for kind, argv in commands.items():
         assert main(argv) == 0, f"{demo} {kind}: {capsys.readouterr().err}"
     capsys.readouterr()
+    # --pdf printed the run's report with the same browser
+    assert (tmp_path / "run" / "report.pdf").read_bytes()[:5] == b"%PDF-"
     problems = []
     for kind in commands:
         report = tmp_path / kind

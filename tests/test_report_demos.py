@@ -28,11 +28,10 @@ class _Images(HTMLParser):
     "demo, figures",
     [
         ("scenarios/pump_stations.toml",
-         {"life", "cost_per_year", "availability", "downtime_by_cause", "spares",
-          "system_reliability", "inspections"}),
+         {"life", "cost_per_year", "downtime_by_machine", "downtime_by_cause", "spares",
+          "inspections"}),
         ("scenarios/conveyor.toml",
-         {"life", "cost_per_year", "availability", "downtime_by_cause", "spares",
-          "system_reliability"}),
+         {"life", "cost_per_year", "downtime_by_machine", "downtime_by_cause", "spares"}),
     ],
 )
 def test_demo_report_is_complete(demo: str, figures: set[str], tmp_path: Path, capsys) -> None:

@@ -314,6 +314,8 @@ def _catalogue_factors(
               help="With --scenario: report directory (default: reports/<study>-retrofit).")
 @click.option("--quiet", "-q", is_flag=True, help="No progress notes on standard error.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object.")
+@click.option("--pdf", is_flag=True,
+              help="With --scenario: also print the report to report.pdf (needs Chromium).")
 def size(
     bearing_type: str | None,
     load: str | None,
@@ -331,6 +333,7 @@ def size(
     out: str | None,
     quiet: bool,
     as_json: bool,
+    pdf: bool,
 ) -> None:
     """Dynamic rating a position needs for a life at a reliability.
 
@@ -349,8 +352,12 @@ def size(
             raise InputError("--catalog", "--scenario needs a bearing catalogue to choose from")
         bore_choice = _bore_choice(bore, scenario=True)
         assert bore_choice is not None
+        if pdf:
+            from fleetsim.cli.study import _check_pdf
+
+            _check_pdf(pdf)
         size_scenario(scenario, catalog, life_, reliability, machines, replications, out, quiet,
-                      as_json, bore_choice, allocation)
+                      as_json, bore_choice, allocation, pdf)
         return
     for opt, value in (("--type", bearing_type), ("--load", load), ("--speed", speed)):
         if value is None:

@@ -9,17 +9,19 @@ from typing import Any
 import click
 
 from fleetsim import SAFETY_CAUTION
-from fleetsim.cli.common import echo_json, fmt, quantity, slug
+from fleetsim.cli.common import echo_json, fmt, quantity, slug, terminal_width
 from fleetsim.errors import InputError
 
 
 def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
                   machines: tuple[str, ...], replications: int | None, out: str | None,
                   quiet: bool, as_json: bool, bore: str | float = "keep",
-                  allocation: str = "equal") -> None:
+                  allocation: str = "equal", pdf: bool = False) -> None:
     """Plan the retrofit, simulate both selections, print and write the report."""
+    from fleetsim import numbers
     from fleetsim.life import read_catalogue
     from fleetsim.report import summary_table, write_report
+    from fleetsim.report.retrofit_table import retrofit_table
     from fleetsim.scenario import build_scenario
     from fleetsim.study import compare, paired_table
     from fleetsim.study.retrofit import machine_reliability, plan_retrofit
@@ -67,10 +69,15 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
         for m in rel_now if not machines or m in machines
     }
     diffs = paired_table(results)
-    paths = write_report(results, out_dir, title=f"{today.study.name}: retrofit for "
-                         f"{target:.4g} over {years:.3g} years",
+    table = retrofit_table(today, new, plan.choices, period_h, target)
+    paths = write_report(results, out_dir, title=f"{today.study.name}: bearings for "
+                         f"{numbers.percent(target)} machine reliability over "
+                         f"{numbers.number(years)} years",
+                         subtitle="Today's bearings against a selection sized for the target, "
+                         "simulated on the same random lives",
                          extra={"target": target, "period_h": period_h, "positions": rows,
-                                "machine_reliability": machines_out}, decision=decision)
+                                "machine_reliability": machines_out},
+                         decision=decision, decisions=[table], pdf=pdf)
     if as_json:
         obj: dict[str, Any] = {
             "target": target, "period_h": period_h, "positions": rows,
@@ -105,5 +112,5 @@ def size_scenario(scenario_path: str, catalog: str, life: str, target: float,
         click.echo(f"{c.machine + '/' + c.position:<{w}}  {c.current_bearing:<10} "
                    f"{need:>9}  {c.selected or '—':<10} {c.note}")
     click.echo("")
-    click.echo(summary_table(results).rstrip())
+    click.echo(summary_table(results, width=terminal_width()).rstrip())
     click.echo(f"\nReport: {paths.html}\n\n{SAFETY_CAUTION}")

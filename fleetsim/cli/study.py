@@ -78,6 +78,8 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
         click.option("--baseline", default=None,
                      help="Variant that savings are measured against (default: the file's "
                           "base case, simulated on the same seed)."),
+        click.option("--pdf", is_flag=True,
+                     help="Also print the report to report.pdf (needs Chromium installed)."),
     ]
     for opt in reversed(options):
         fn = opt(fn)
@@ -105,6 +107,16 @@ def _check_options(replications: int | None, seed: int | None, workers: int,
 
 def _max_workers() -> int:
     return max(64, 4 * (os.cpu_count() or 1))
+
+
+def _check_pdf(pdf: bool) -> None:
+    """With --pdf, a browser to print with must be there before any work is done."""
+    if pdf:
+        from fleetsim.report.pdf import find_browser
+
+        if find_browser() is None:
+            raise InputError("--pdf", "expected Chromium to be installed (e.g. apt-get install "
+                             "chromium) to print the report")
 
 
 def _workers(n: int) -> int:
@@ -206,9 +218,11 @@ def _finish(results: list[StudyResult], decision: Decision, out_dir: Path, ck_di
                    "replications under each, on common random numbers.")  # fmt: skip
 def run(scenario: str, replications: int | None, seed: int | None, out: str | None, engine: str,
         workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool,
-        objective: str, baseline: str | None, param_draws: int | None = None) -> None:
+        objective: str, baseline: str | None, param_draws: int | None = None,
+        pdf: bool = False) -> None:
     """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
     _check_options(replications, seed, workers, cluster, out)
+    _check_pdf(pdf)
     from fleetsim.scenario.loader import text_digest
     from fleetsim.study import choose_engine
     from fleetsim.study.variants import file_variants, read_document, with_baseline
@@ -240,7 +254,7 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
     described = {v.name: v.description for v in variants if v.description}
     if described:
         extra["variant_descriptions"] = described
-    _finish(results, decision, out_dir, ck, base.study.name, as_json, quiet, extra)
+    _finish(results, decision, out_dir, ck, base.study.name, as_json, quiet, extra, pdf=pdf)
 
 
 def _parse_vary(items: tuple[str, ...]) -> list[tuple[str, list[Any]]]:
@@ -271,14 +285,24 @@ SWEEP_AXES = {"policy.interval": "Replacement interval",
 def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: int | None,
           seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
           resume: bool, quiet: bool, as_json: bool, baseline: str | None,
-          param_draws: int | None = None) -> None:
+          param_draws: int | None = None, pdf: bool = False) -> None:
     """Run every combination of --vary values on common random numbers, beside the base case.
 
     Sweeping a cost or price input is a sensitivity study: no recommendation.
     """
     _check_options(replications, seed, workers, cluster, out)
+    _check_pdf(pdf)
+    import dataclasses
+
     import pandas as pd
 
+    from fleetsim import numbers
+    from fleetsim.report.settings_words import (
+        sweep_title,
+        user_unit,
+        value_words,
+        variant_words,
+    )
     from fleetsim.scenario.loader import text_digest
     from fleetsim.study.advice import analytic_cost_curve
     from fleetsim.study.decision import is_cost_input
@@ -292,6 +316,10 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     points = grid_variants(document, varies, scenario, digest)
     if len(points) > 200:
         raise InputError("--vary", f"the grid has {len(points)} variants; expected at most 200")
+    # Variants named in words ("replace at 40,000 h"), by the keys that take several values.
+    many = {k for k, vals in varies if len(vals) > 1}
+    points = [dataclasses.replace(v, name=variant_words(
+        [(k, x) for k, x in v.overrides if k in many] or list(v.overrides))) for v in points]
     variants, base_index = with_baseline(document, points, scenario, digest, baseline)
     offset = len(variants) - len(points)  # 1 when the base case was added in front
     base = variants[base_index].scenario
@@ -315,7 +343,7 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
                       replications=replications, seed=seed, engine=engine,
                       workers=_workers(workers), cluster=cluster)  # fmt: skip
         return
-    out_dir = Path(out) if out else Path("reports") / (slug(base.study.name) + "-sweep")
+    out_dir = Path(out) if out else Path("reports") / sweep_folder(base.study.name, vary)
     from fleetsim.study.cluster import study_cluster
 
     with study_cluster(cluster, _workers(workers), "--cluster") as dask:  # one for the study
@@ -363,6 +391,10 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     best_at_edge = (best is not None and len(points) > 2
                     and best - offset in (0, len(points) - 1))
     extra["best_at_edge_of_range"] = best_at_edge
+    title = sweep_title(base.study.name, swept)
+    if sweep_table is not None:
+        sweep_table["interval"] = [value_words(v) for v in swept[0][1]]
+    unit = user_unit(swept[0][1]) if len(swept) == 1 else None
     evidence = []
     if best_at_edge:
         evidence.append("It is at the edge of the swept range: the optimum may lie beyond it; "
@@ -370,9 +402,27 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     if "analytic_optimum_interval_h" in extra:
         edge = (" — at the edge of the range, so it may lie beyond"
                 if extra["analytic_optimum_at_edge"] else "")
+        t_h = extra["analytic_optimum_interval_h"]
+        at = numbers.hours(t_h)
+        if unit is not None and unit not in ("h", "hour", "hours"):
+            per = parse_quantity(f"1 {unit}", "time", f"--vary {swept[0][0]}")
+            at = f"{numbers.with_unit(numbers.number(t_h / per), unit)} ({at})"
         evidence.append(f"Closed-form optimum interval (long-run quick estimate, no waiting for "
-                        f"spares or crews): {extra['analytic_optimum_interval_h']:,.0f} h at "
-                        f"{extra['analytic_optimum_cost_per_year']:,.0f} per year{edge}")
-    _finish(results, decision, out_dir, ck, f"{base.study.name}: sweep", as_json, quiet, extra,
+                        f"spares or crews): {at} at "
+                        f"{numbers.money(extra['analytic_optimum_cost_per_year'], base.costs.currency)}"
+                        f" per year{edge}.")
+    _finish(results, decision, out_dir, ck, title, as_json, quiet, extra,
             evidence=evidence, sweep=sweep_table, sweep_analytic=analytic,
-            sweep_parameter=axis or "Interval")
+            sweep_parameter=axis or "Interval", pdf=pdf,
+            subtitle=f"Sweep of {base.study.name!r}; each variant on the same random lives")
+
+
+def sweep_folder(study: str, vary: Sequence[str]) -> str:
+    """A report folder of its own for each sweep: the study and what was varied, in the name."""
+    import hashlib
+
+    what = slug("-".join(vary))
+    if len(what) > 60:
+        digest = hashlib.sha256("\n".join(vary).encode("utf-8", "surrogatepass")).hexdigest()[:8]
+        what = what[:50].rstrip("-._") + "-" + digest
+    return f"{slug(study)}-sweep-{what}"

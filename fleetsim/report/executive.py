@@ -166,8 +166,6 @@ def default_executive_summary(
             float(row.get("ci_high", math.nan)),
             unit=per_year,
         )
-        out.append(
-            "Over the intervals swept, the lowest simulated cost rate is at "
-            f"{fmt.hours(float(row['interval_h']))}: {cost}."
-        )
+        at = str(row["interval"]) if "interval" in sweep.columns else fmt.hours(float(row["interval_h"]))
+        out.append(f"Over the intervals swept, the lowest simulated cost rate is at {at}: {cost}.")
     return out

@@ -23,7 +23,14 @@ from fleetsim import numbers as fmt
 from fleetsim.errors import InputError
 from fleetsim.life import LifeDistribution
 from fleetsim.report.headline import mean_ci, recommended_index
-from fleetsim.report.palette import COLOURS, OTHER, RECOMMENDED, report_style, series_colour
+from fleetsim.report.palette import (
+    COLOURS,
+    OTHER,
+    RECOMMENDED,
+    SERIES,
+    report_style,
+    series_colour,
+)
 from fleetsim.report.text import mpl_text, variant_labels
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
 from fleetsim.study.result import StudyResult, survival_curve
@@ -53,6 +60,46 @@ def thousands(axis: Axis) -> None:
     axis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{v:,.0f}"))
 
 
+#: Line styles that follow the colours once the palette's colours are used up.
+LINE_STYLES = ("-", "-.", ":")
+
+
+def hour_ticks(axis: object, log_axis: bool = False) -> None:
+    """At most about six tick labels with thousands separators (``100,000``), never run together.
+
+    On a log axis, the labels are at 1, 2 and 5 times the powers of ten.
+    """
+    from matplotlib.ticker import FuncFormatter, LogLocator, MaxNLocator, NullFormatter
+
+    label = FuncFormatter(lambda v, _pos: fmt.number(v))
+    if log_axis:
+        axis.set_major_locator(LogLocator(base=10, subs=(1.0, 2.0, 5.0)))  # type: ignore[attr-defined]
+        axis.set_minor_formatter(NullFormatter())  # type: ignore[attr-defined]
+    else:
+        axis.set_major_locator(MaxNLocator(nbins=6, steps=[1, 2, 2.5, 5, 10]))  # type: ignore[attr-defined]
+    axis.set_major_formatter(label)  # type: ignore[attr-defined]
+
+
+def life_range(
+    lives: Sequence[LifeDistribution], factors: Sequence[float] = ()
+) -> tuple[float, float, bool]:
+    """Operating hours over which the life figure is drawn: (start, end, log axis).
+
+    The range runs to the longest life at 50 % reliability (half the
+    bearings have a defect by then; what lies beyond does not change a
+    maintenance decision), extended to any catalogue life drawn beside a field
+    life. When the L10 lives of the curves differ by more than a factor of 4 a
+    linear axis would squeeze the short ones against zero, so the axis is
+    logarithmic from a fifth of the shortest L10.
+    """
+    stretch = [1.0 / min(f, 1.0) for f in factors] or [1.0] * len(lives)
+    l10 = [float(life.life_at_reliability(0.9)) for life in lives]
+    end = max(float(life.life_at_reliability(0.5)) * s for life, s in zip(lives, stretch, strict=False))
+    log_axis = max(l10) > 4.0 * min(l10)
+    start = min(l10) / 5.0 if log_axis else 0.0
+    return start, end, log_axis
+
+
 def life_label(reliability: float) -> str:
     """Name of the life at a reliability, e.g. ``"L5"`` for R = 0.95."""
     return f"L{round(100.0 * (1.0 - reliability), 6):g}"
@@ -64,6 +111,7 @@ def plot_life_distributions(
     *,
     reliability: float = DEFAULT_MARKED_RELIABILITY,
     max_curves: int = 10,
+    span: tuple[float, float, bool] | None = None,
 ) -> Axes:
     """Reliability against operating hours of each bearing position.
 
@@ -83,6 +131,9 @@ def plot_life_distributions(
         The second reliability to mark, strictly between 0 and 1.
     max_curves
         Most curves drawn; the rest are counted in a note.
+    span
+        Hours drawn ``(start, end, log axis)``, to give several figures one
+        range (default: :func:`life_range` of the curves drawn).
 
     Returns
     -------
@@ -106,18 +157,19 @@ def plot_life_distributions(
         if not shown:
             ax.text(0.5, 0.5, "no bearing positions", ha="center", transform=ax.transAxes)
             return ax
-        t_max = max(
-            float(life.life_at_reliability(0.2)) / min(factor, 1.0) for life, _, factor in shown
+        t_min, t_max, log_axis = span or life_range(
+            [life for life, _, _ in shown], [factor for _, _, factor in shown]
         )
-        t = np.linspace(0.0, t_max, 400)
+        t = np.geomspace(t_min, t_max, 400) if log_axis else np.linspace(0.0, t_max, 400)
         any_field = False
         for i, (life, names, factor) in enumerate(shown):
             colour = series_colour(i)
+            style = LINE_STYLES[(i // len(SERIES)) % len(LINE_STYLES)]
             l10 = float(life.life_at_reliability(0.9))
             lr = float(life.life_at_reliability(reliability))
             more = f" and {len(names) - 1} more" if len(names) > 1 else ""
             label = f"{names[0]}{more}: L10 = {fmt.number(l10)} h"
-            ax.plot(t, life.reliability(t), color=colour, label=mpl_text(label))
+            ax.plot(t, life.reliability(t), color=colour, linestyle=style, label=mpl_text(label))
             if factor != 1.0:
                 # the catalogue life this position would have without its field factor
                 any_field = True
@@ -151,10 +203,14 @@ def plot_life_distributions(
                 fontsize=8,
                 color=OTHER,
             )
-        ax.set_xlim(0.0, t_max)
+        if log_axis:
+            ax.set_xscale("log")
+            ax.set_xlim(t_min, t_max)
+        else:
+            ax.set_xlim(0.0, t_max)
         ax.set_ylim(0.0, 1.02)
-        thousands(ax.xaxis)
-        ax.set_xlabel("Operating hours (h)")
+        hour_ticks(ax.xaxis, log_axis)
+        ax.set_xlabel("Operating hours (h)" + (", log scale" if log_axis else ""))
         ax.set_ylabel("Reliability R(t) (share surviving)")
         ax.set_title("Life of each bearing position")
         ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=7.5)
@@ -362,6 +418,20 @@ def reliability_curves(result: StudyResult, points: int = 101) -> dict[str, pd.D
     return out
 
 
+#: A no-down-event curve that never falls below this carries no information worth a figure.
+INFORMATIVE_BELOW = 0.995
+
+
+def reliability_informative(result: StudyResult) -> bool:
+    """True when some group's (or the fleet's) chance of no down event falls visibly below 1.
+
+    With no down event in any replication the curves are flat lines at 1;
+    the headline table already gives that probability with its interval.
+    """
+    curves = reliability_curves(result)
+    return any(float(c["reliability"].min()) < INFORMATIVE_BELOW for c in curves.values())
+
+
 def plot_system_reliability(
     result: StudyResult,
     ax: Axes | None = None,
@@ -425,6 +495,8 @@ def plot_system_reliability(
         ax.set_xlabel("Calendar time (years)")
         ax.set_ylabel("Probability of no down event (share)")
         ax.set_title("System reliability (95 % band)")
-        if names:
+        if len(names) > 4:
+            ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=7.5)
+        elif names:
             ax.legend(loc="lower left")
     return ax

@@ -101,6 +101,76 @@ def plot_availability(
     return ax
 
 
+#: Most variants drawn side by side in the per-machine figure; beyond, the baseline and the best.
+MAX_VARIANTS_PER_MACHINE = 4
+
+
+def shown_variants(n: int, recommended: int) -> list[int]:
+    """Variants drawn per machine: all of a few, else the baseline (first) and the recommended."""
+    if n <= MAX_VARIANTS_PER_MACHINE:
+        return list(range(n))
+    return sorted({0, recommended})
+
+
+def plot_downtime_by_machine(
+    results: Sequence[StudyResult],
+    ax: Axes | None = None,
+    *,
+    labels: Sequence[str] | None = None,
+    variants: Sequence[int] | None = None,
+) -> Axes:
+    """Hours down per year of each machine type, per variant, with 95 % intervals.
+
+    Downtime hours read at a glance where availabilities near 1 do not
+    (99.97 % against 99.99 % is 2.6 against 0.9 hours a year).
+
+    Parameters
+    ----------
+    results
+        One study per variant.
+    ax
+        Axes to draw on (new axes when None).
+    labels
+        Variant names (default: :func:`~fleetsim.report.text.variant_labels`).
+    variants
+        Indices of the variants to draw (default: all).
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+    """
+    labels = _labels(results, labels)
+    chosen = list(range(len(results))) if variants is None else list(variants)
+    machines = union_keys([results[k] for k in chosen], "downtime_h")
+    n = len(chosen)
+    step = 0.8 / max(n, 1)
+    with report_style():
+        ax = new_axes(ax, (7.5, 1.3 + 0.22 * len(machines) * max(n, 1.5)))
+        for j, k in enumerate(chosen):
+            r = results[k]
+            ys, vals = [], []
+            for i, m in enumerate(machines):
+                est = per_year(r, f"downtime_h:{m}")
+                if est is None:
+                    continue
+                ys.append(i - 0.4 + step * (j + 0.5))
+                vals.append((est.mean, est.ci_low, est.ci_high))
+            if not vals:
+                continue
+            ax.barh(ys, [v[0] for v in vals], height=step * 0.9, color=series_colour(j),
+                    label=mpl_text(labels[k]))
+            ax.errorbar([v[0] for v in vals], ys, xerr=error_bars(vals), fmt="none",
+                        ecolor=COLOURS["ink"], capsize=2.5, lw=0.9)
+        ax.set_yticks(np.arange(len(machines)), [mpl_text(m) for m in machines])
+        ax.invert_yaxis()
+        ax.set_xlim(left=0.0)
+        ax.set_xlabel("Downtime (machine-unit hours per year)")
+        ax.set_title("Downtime by machine (95 % CI)")
+        ax.grid(axis="y", visible=False)
+        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    return ax
+
+
 def plot_downtime_by_cause(
     results: Sequence[StudyResult],
     ax: Axes | None = None,

@@ -235,6 +235,7 @@ def render_page(
     summary: Mapping[str, Any] | None = None,
     recommended_stock: Mapping[str, float] | None = None,
     subtitle: str = "",
+    decisions: Sequence[Any] = (),
 ) -> str:
     """The report page as HTML text.
 
@@ -268,6 +269,9 @@ def render_page(
         Recommended base stock by bearing (used when the summary has no advice).
     subtitle
         A line under the title (what was swept, what was sized).
+    decisions
+        Tables shown in the executive summary
+        (:class:`~fleetsim.report.retrofit_table.DecisionTable`: a retrofit's before and after).
     """
     template = _template()
     first = results[0].scenario
@@ -300,6 +304,7 @@ def render_page(
     return template.render(
         title=title,
         subtitle=subtitle,
+        decisions=list(decisions),
         caution=fleetsim.SAFETY_CAUTION,
         version=fleetsim.__version__,
         generated=generated,

@@ -3,6 +3,7 @@
 A report directory holds::
 
     report.html          one self-contained page (figures embedded, inline CSS)
+    report.pdf           the page printed by headless Chromium (only with ``pdf=True``)
     summary.json         seed, versions, scenario digest, headline figures with CIs
     replications.csv     one row per variant and replication
     summary.csv          mean, spread and CI of every figure, per variant
@@ -38,6 +39,7 @@ import shutil
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
+from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -56,9 +58,11 @@ from fleetsim.study.result import StudyResult
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
 
+    from fleetsim.scenario.model import Scenario
     from fleetsim.study.decision import Decision
 
 HTML_NAME = "report.html"
+PDF_NAME = "report.pdf"
 SUMMARY_NAME = "summary.json"
 FIGURES_DIR = "figures"
 MANIFEST_NAME = ".fleetsim-manifest.json"
@@ -135,18 +139,27 @@ def _figure_plans(
     n = len(results)
     r_best = results[best]
     currency = results[0].scenario.costs.currency
+    life_caption = (
+        "Share of bearings still free of a detectable defect against operating hours, for each "
+        "bearing position (positions with the same life share a curve). Dots mark L10, the life "
+        f"at 90 % reliability; diamonds mark the life at {100 * life_reliability:g} % reliability."
+    )
+    # Today's lives, and the recommended variant's when its bearings differ (a retrofit):
+    # both on the same axis range, so that they compare at a glance.
+    lives = [0] + ([best] if best != 0 and _bearings(results[best]) != _bearings(results[0]) else [])
+    span = figures.life_range(
+        [p.life for k in lives for m in results[k].scenario.machines for p in m.positions],
+        [p.field_factor for k in lives for m in results[k].scenario.machines for p in m.positions],
+    )
     plans = [
         _Plan(
-            "life",
-            "Life of each bearing position",
-            "Share of bearings still free of a detectable defect against operating hours, for each "
-            "bearing position (positions with the same life share a curve). Dots mark L10, the life "
-            f"at 90 % reliability; diamonds mark the life at {100 * life_reliability:g} % reliability.",
-            lambda ax: figures.plot_life_distributions(
-                results[0].scenario, ax, reliability=life_reliability
-            ),
+            "life" if j == 0 else f"life_{labels[k]}".replace(" ", "_")[:40],
+            "Life of each bearing position" + (f" ({labels[k]})" if len(lives) > 1 else ""),
+            life_caption,
+            partial(_draw_life, results[k].scenario, reliability=life_reliability, span=span),
             (WIDTH_IN, 4.2),
-        ),
+        )
+        for j, k in enumerate(lives)
     ]
     if all("cost_per_year" in r.replications for r in results):
         plans.append(
@@ -178,16 +191,20 @@ def _figure_plans(
                 (WIDTH_IN, 4.0),
             )
         )
-    machines = len(fleet_figures.union_keys(results, "availability")) + 1
-    if any("availability" in r.replications for r in results):
+    machines = len(fleet_figures.union_keys(results, "downtime_h"))
+    shown = fleet_figures.shown_variants(n, best)
+    if machines:
         plans.append(
             _Plan(
-                "availability",
-                "Availability by machine type",
-                "Share of calendar time the machines are up, for the whole fleet and each machine type, "
-                "with 95 % confidence intervals, for each variant.",
-                lambda ax: fleet_figures.plot_availability(results, ax, labels=labels),
-                (WIDTH_IN, 1.4 + 0.3 * machines * max(n, 1.5)),
+                "downtime_by_machine",
+                "Downtime by machine",
+                "Hours each machine is down per year, with 95 % confidence intervals, for "
+                + ("each variant." if len(shown) == n else "the baseline and the recommended variant.")
+                + " Availability is one minus these hours over the hours of a year.",
+                lambda ax: fleet_figures.plot_downtime_by_machine(
+                    results, ax, labels=labels, variants=shown
+                ),
+                (WIDTH_IN, 1.3 + 0.22 * machines * max(len(shown), 1.5)),
             )
         )
     if any(c in r.replications for r in results for c, _ in CAUSES):
@@ -219,7 +236,7 @@ def _figure_plans(
                 (WIDTH_IN, 4.0),
             )
         )
-    if figures.reliability_curves(r_best):
+    if figures.reliability_informative(r_best):
         plans.append(
             _Plan(
                 "system_reliability",
@@ -242,6 +259,16 @@ def _figure_plans(
             )
         )
     return plans
+
+
+def _draw_life(
+    scenario: Scenario, ax: Axes, *, reliability: float, span: tuple[float, float, bool]
+) -> Axes:
+    return figures.plot_life_distributions(scenario, ax, reliability=reliability, span=span)
+
+
+def _bearings(result: StudyResult) -> list[tuple[str, str, str]]:
+    return [(m.id, p.id, p.bearing_id) for m in result.scenario.machines for p in m.positions]
 
 
 def _is_report_dir(path: Path) -> bool:
@@ -395,6 +422,8 @@ def write_report(
     dpi: int = DEFAULT_DPI,
     decision: Decision | None = None,
     subtitle: str = "",
+    decisions: Sequence[Any] = (),
+    pdf: bool = False,
 ) -> ReportPaths:
     """Write the report of one or more study variants into ``out_dir``, atomically.
 
@@ -432,6 +461,11 @@ def write_report(
         sentences, and adds its JSON contract to ``summary.json``.
     subtitle
         A line under the title (what was swept, what was sized).
+    decisions
+        Tables for the executive summary (a retrofit's before and after).
+    pdf
+        Also print the page to ``report.pdf`` with headless Chromium
+        (:func:`~fleetsim.report.pdf.print_pdf`; an error when none is installed).
 
     Returns
     -------
@@ -498,6 +532,8 @@ def write_report(
         (work / SUMMARY_NAME).write_bytes(summary_json.dumps(doc).encode("utf-8"))
         files = [SUMMARY_NAME, *(p.name for p in table_paths.values())]
         files += [f"{FIGURES_DIR}/{im.name}.png" for im in images]
+        if pdf:
+            files.append(PDF_NAME)
         page = render_page(
             results,
             labels,
@@ -511,8 +547,13 @@ def write_report(
             summary=doc,
             recommended_stock=recommended_stock,
             subtitle=subtitle,
+            decisions=decisions,
         )
         (work / HTML_NAME).write_bytes(page.encode("utf-8"))
+        if pdf:
+            from fleetsim.report.pdf import print_pdf
+
+            print_pdf(work / HTML_NAME, work / PDF_NAME)
         manifest = {"files": sorted([HTML_NAME, *files])}
         (work / MANIFEST_NAME).write_text(json.dumps(manifest, indent=1), encoding="utf-8")
         _carry_over(out_dir, work)
