@@ -236,6 +236,7 @@ def render_page(
     recommended_stock: Mapping[str, float] | None = None,
     subtitle: str = "",
     decisions: Sequence[Any] = (),
+    year_tables: Sequence[Any] = (),
 ) -> str:
     """The report page as HTML text.
 
@@ -272,6 +273,8 @@ def render_page(
     decisions
         Tables shown in the executive summary
         (:class:`~fleetsim.report.retrofit_table.DecisionTable`: a retrofit's before and after).
+    year_tables
+        Year-by-year plans shown with the results (:mod:`fleetsim.report.year_table`).
     """
     template = _template()
     first = results[0].scenario
@@ -305,6 +308,7 @@ def render_page(
         title=title,
         subtitle=subtitle,
         decisions=list(decisions),
+        year_tables=list(year_tables),
         caution=fleetsim.SAFETY_CAUTION,
         version=fleetsim.__version__,
         generated=generated,

@@ -46,7 +46,7 @@ from typing import TYPE_CHECKING, Any
 import pandas as pd
 
 from fleetsim.errors import InputError
-from fleetsim.report import figures, fleet_figures, summary_json, tables
+from fleetsim.report import figures, fleet_figures, summary_json, tables, year_table
 from fleetsim.report.executive import default_executive_summary
 from fleetsim.report.figures import DEFAULT_MARKED_RELIABILITY
 from fleetsim.report.headline import CAUSES, has_inspections, recommended_index
@@ -54,6 +54,7 @@ from fleetsim.report.page import FigureImage, render_page
 from fleetsim.report.palette import report_style
 from fleetsim.report.text import variant_labels
 from fleetsim.study.result import StudyResult
+from fleetsim.study.year_plan import year_plan
 
 if TYPE_CHECKING:
     from matplotlib.axes import Axes
@@ -216,6 +217,19 @@ def _figure_plans(
                 "unplanned repair and planned work; the whisker is the 95 % interval of the total.",
                 lambda ax: fleet_figures.plot_downtime_by_cause(results, ax, labels=labels),
                 (WIDTH_IN, 1.7 + 0.5 * n),
+            )
+        )
+    if any(not year_plan(r).empty for r in results):
+        plans.append(
+            _Plan(
+                "cost_by_year",
+                "Cost by year",
+                "What the plant spends in each calendar year from today's fleet (budget view): the "
+                "mean over the replications and the band from P10 to P90, for "
+                + ("the baseline and the recommended variant." if best != 0 else "the baseline."),
+                partial(year_table.plot_cost_by_year, results, labels=labels,
+                        variants=sorted({0, best})),
+                (WIDTH_IN, 3.6),
             )
         )
     if any(r.keys("spares_per_year") for r in results):
@@ -548,6 +562,7 @@ def write_report(
             recommended_stock=recommended_stock,
             subtitle=subtitle,
             decisions=decisions,
+            year_tables=[t for t in [year_table.year_table(results[best], labels[best])] if t],
         )
         (work / HTML_NAME).write_bytes(page.encode("utf-8"))
         if pdf:
