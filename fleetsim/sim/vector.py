@@ -23,7 +23,7 @@ seed both engines give the same figures (``tests/test_engine_identity.py``).
 When every position of a machine type is run-to-failure or age-replaced
 without opportunistic changes, each position is an ordinary renewal process on
 its unit's operating clock (a stop freezes the clock, whatever its duration),
-and the whole-cycle path :func:`_renewal_lanes` draws the cycles directly,
+and the whole-cycle path :func:`fleetsim.sim.cycles.renewal_cycles` draws the cycles directly,
 merges each unit's events into stops and places the stops on the calendar
 with a segmented cumulative sum: repairs, planned work and several positions
 per unit stay in arrays.
@@ -35,10 +35,11 @@ import math
 
 import numpy as np
 
-from fleetsim.life import LifeDistribution
-from fleetsim.scenario.model import Duration, Machine, Scenario
+from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
+from fleetsim.sim.cycles import renewal_cycles, renewal_exact
 from fleetsim.sim.discount import discount_for
+from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan, inspections_to_detect
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
 from fleetsim.sim.tally import (
@@ -50,114 +51,11 @@ from fleetsim.sim.tally import (
     GroupTally,
     MachineTally,
     Tally,
-    issued_key,
 )
 from fleetsim.sim.years import YearBook
 
 _EPS = 1e-9
 INF = math.inf
-
-
-class _Sums:
-    """What one machine type adds to the replication's tally."""
-
-    def __init__(self, machine: Machine, keep_intervals: bool, book: YearBook) -> None:
-        self.keep_intervals = keep_intervals
-        self.book = book
-        self.bearing = [p.bearing_id for p in machine.positions]
-        #: positions fitted with each bearing kind
-        self.columns: dict[str, list[int]] = {}
-        for j, b in enumerate(self.bearing):
-            self.columns.setdefault(b, []).append(j)
-        self.first_stop_h = INF
-        self.failures = np.zeros(machine.count)
-        self.planned = 0.0
-        self.opportunistic = 0.0
-        self.inspections = 0.0
-        self.detections = 0.0
-        self.missed_defects = 0.0
-        self.failures_after_detection = 0.0
-        self.down_repair_h = 0.0
-        self.down_planned_h = 0.0
-        self.issued = np.zeros(len(machine.positions))
-        self.intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []  # (unit, start, end)
-
-    def issue(self, positions: np.ndarray, t_h: np.ndarray) -> None:
-        """Spares issued (and, from unlimited supply, bought) for ``positions`` at ``t_h``."""
-        if positions.size == 0:
-            return
-        np.add.at(self.issued, positions, 1.0)
-        kinds = set(self.bearing)
-        for bearing in kinds:
-            at = t_h if len(kinds) == 1 else t_h[np.isin(positions, self.columns[bearing])]
-            self.book.at_many(issued_key(bearing), at)
-
-    def stopped(self, units: np.ndarray, start_h: np.ndarray, end_h: np.ndarray) -> None:
-        """Units ``units`` were down over [start_h, end_h) (kept for groups)."""
-        if start_h.size:
-            self.first_stop_h = min(self.first_stop_h, float(start_h.min()))
-            if self.keep_intervals:
-                self.intervals.append((units, start_h.copy(), end_h.copy()))
-
-
-_FAMILIES: dict[int, tuple[Machine, dict[LifeDistribution, list[int]],
-                            dict[Duration | None, list[int]]]] = {}
-
-
-def _families(machine: Machine) -> tuple[dict[LifeDistribution, list[int]],
-                                         dict[Duration | None, list[int]]]:
-    """Positions of ``machine`` by distinct life and by distinct P-F interval (cached)."""
-    hit = _FAMILIES.get(id(machine))
-    if hit is not None and hit[0] is machine:
-        return hit[1], hit[2]
-    lives: dict[LifeDistribution, list[int]] = {}
-    pfs: dict[Duration | None, list[int]] = {}
-    for j, p in enumerate(machine.positions):
-        lives.setdefault(p.life, []).append(j)
-        pfs.setdefault(p.pf_interval, []).append(j)
-    if len(_FAMILIES) > 256:
-        _FAMILIES.clear()
-    _FAMILIES[id(machine)] = (machine, lives, pfs)
-    return lives, pfs
-
-
-def _lives(machine: Machine, u: np.ndarray, pos: np.ndarray, age: np.ndarray | float = 0.0
-           ) -> np.ndarray:
-    """Remaining lives to P (hours beyond ``age``) of positions ``pos``, from uniforms ``u``.
-
-    One call of the life's inverse transform per distinct life of the machine type
-    (usually one), not per position.
-    """
-    groups = _families(machine)[0]
-    if len(groups) == 1:
-        return next(iter(groups)).lives_from_uniform(u, age)
-    out = np.empty(u.shape)
-    a = np.broadcast_to(np.asarray(age, dtype=float), u.shape)
-    for dist, cols in groups.items():
-        sel = np.isin(pos, cols)
-        if sel.any():
-            out[sel] = dist.lives_from_uniform(u[sel], a[sel])
-    return out
-
-
-def _pf(machine: Machine, u: np.ndarray | None, pos: np.ndarray) -> np.ndarray | float:
-    """P-F intervals in operating hours of positions ``pos`` (0 where none is given)."""
-    if u is None:
-        return 0.0
-    groups = _families(machine)[1]
-    if len(groups) == 1:
-        d = next(iter(groups))
-        return d.quantiles(u) if d is not None else 0.0
-    out = np.zeros(u.shape)
-    for dur, cols in groups.items():
-        if dur is not None:
-            sel = np.isin(pos, cols)
-            out[sel] = dur.quantiles(u[sel])
-    return out
-
-
-def _stop_hours(d: Duration, u: np.ndarray) -> np.ndarray:
-    return np.full(u.shape, d.value_h) if d.kind == "fixed" else d.quantiles(u)
 
 
 class _Lanes:
@@ -179,7 +77,7 @@ class _Lanes:
         self.T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
         self.T_stop = streams.table(index, U, P, STOP) if random_stops else None
         self.T_det = streams.table(index, U, P, DETECTION) if plan.rounds else None
-        self.sums = _Sums(machine, keep_intervals, book)
+        self.sums = LaneSums(machine, keep_intervals, book)
         self.t = np.zeros(U)
         age0 = machine.ages_h()
         self.age = age0.copy()
@@ -206,10 +104,10 @@ class _Lanes:
             return
         k = self.k[u, p]
         m = self.m
-        defect = np.asarray(age) + _lives(m, self.T_life.take(k, u, p), p, age)
+        defect = np.asarray(age) + draw_lives(m, self.T_life.take(k, u, p), p, age)
         self.defect_age[u, p] = defect
         pf_u = self.T_pf.take(k, u, p) if self.T_pf is not None else None
-        self.fail_age[u, p] = defect + _pf(m, pf_u, p)
+        self.fail_age[u, p] = defect + draw_pf(m, pf_u, p)
         if self.T_stop is not None:
             self.stop_u[u, p] = self.T_stop.take(k, u, p)
         if self.T_det is not None:
@@ -352,10 +250,10 @@ class _Lanes:
         lead = np.where(n_fail > 0, np.argmax(fu, axis=1), np.argmax(pend, axis=1))
         su = self.stop_u[u, lead]
         if failed.any():
-            d = np.where(n_fail > 0, _stop_hours(self.crews.unplanned_repair, su),
-                         _stop_hours(self.crews.planned_repair, su))
+            d = np.where(n_fail > 0, stop_hours(self.crews.unplanned_repair, su),
+                         stop_hours(self.crews.planned_repair, su))
         else:
-            d = _stop_hours(self.crews.planned_repair, su)
+            d = stop_hours(self.crews.planned_repair, su)
         end = t0 + d
         shown = np.minimum(end, self.H)
         held = shown - t0
@@ -411,149 +309,9 @@ class _Lanes:
         self.t[gone] = self.H
 
 
-def _renewal_lanes(machine: Machine, index: int, scenario: Scenario, streams: Streams,
-                   horizon_h: float, book: YearBook, keep_intervals: bool,
-                   budget: EventBudget | None = None) -> _Sums:
-    """Whole-cycle path: run-to-failure and age replacement, any stop durations.
-
-    A stop freezes the ageing of every position of its unit, so on the unit's
-    *operating* clock each position is an ordinary renewal process (cycle =
-    min(life to F, T)) whatever the stops. The path draws every position's
-    cycles on that clock in rounds (round k uses row k of the tables), merges
-    the events of a unit's positions by operating clock (events at the same
-    clock value are one stop, as in the discrete-event engine: a failure's stop
-    if any position failed), and only then places the stops on the calendar:
-    stop j of a unit starts at c_j / share + the durations of the stops before
-    it (a segmented cumulative sum). Nothing is stepped event by event.
-    """
-    U, P = machine.count, len(machine.positions)
-    n = U * P
-    plan = compile_plan(machine)
-    share = machine.operating_share
-    crews = scenario.crews
-    random_stops = crews.unplanned_repair.kind != "fixed" or crews.planned_repair.kind != "fixed"
-    T_life = streams.table(index, U, P, LIFE)
-    T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
-    T_stop = streams.table(index, U, P, STOP) if random_stops else None
-    s = _Sums(machine, keep_intervals, book)
-    H = horizon_h
-    c_max = share * H  # no unit runs more operating hours than this within the horizon
-    d_fail, d_plan = crews.unplanned_repair, crews.planned_repair
-    instant = not random_stops and d_fail.value_h == 0.0 and d_plan.value_h == 0.0
-    # With one position a unit, or stops of no duration, a stop delays nothing but its own
-    # position: its calendar time follows round by round, and no merging is needed.
-    alone = P == 1 or instant
-    idx = np.arange(n)
-    pos = np.tile(np.arange(P), U)
-    cut0 = plan.age_due_h[pos]
-    a0 = machine.ages_h().reshape(-1)
-    clock = np.zeros(n)  # operating clock at the current fitting of each position
-    delay = np.zeros(n)  # hours the position's own earlier stops took (when alone)
-    parts: list[tuple[np.ndarray, ...]] = []  # idx, clock, failed, stop quantile, duration, start
-    k = 0
-    while idx.size:
-        if budget is not None:
-            budget.spend(max(idx.size, ROUND_EVENTS))
-        p = pos[idx]
-        age = a0[idx] if k == 0 else 0.0
-        life = _lives(machine, T_life.row(k).reshape(-1)[idx], p, age)
-        if T_pf is not None:
-            life = life + _pf(machine, T_pf.row(k).reshape(-1)[idx], p)
-        cut = np.maximum(cut0[idx] - age, 0.0) if k == 0 else cut0[idx]
-        failed = life <= cut  # a failure at the due age is a failure, as in the DES
-        c = clock + np.minimum(life, cut)
-        if alone:
-            with np.errstate(divide="ignore", invalid="ignore"):
-                t0 = (c / share if share > 0 else np.zeros_like(c)) + delay
-            if instant:
-                d = np.zeros(idx.size)
-            elif T_stop is not None:
-                su = T_stop.row(k).reshape(-1)[idx]
-                d = np.where(failed, _stop_hours(d_fail, su), _stop_hours(d_plan, su))
-            else:
-                d = np.where(failed, d_fail.value_h, d_plan.value_h)
-            inside = t0 < H
-            keep = inside & (t0 + d < H)  # renewed within the horizon: it goes on
-            parts.append((idx[inside], c[inside], failed[inside], d[inside], t0[inside]))
-            idx, clock, delay = idx[keep], c[keep], (delay + d)[keep]
-        else:
-            inside = (c < c_max) | (c <= 0.0)  # (a position due at the start stops at once)
-            su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else np.zeros(idx.size)
-            parts.append((idx[inside], c[inside], failed[inside], su[inside]))
-            idx, clock = idx[inside], c[inside]
-        k += 1
-    if sum(x[0].size for x in parts) == 0:
-        return s
-    e_idx = np.concatenate([x[0] for x in parts])
-    e_fail = np.concatenate([x[2] for x in parts])
-    e_unit, e_pos = e_idx // P, e_idx % P
-    if alone:
-        # every event is its own stop
-        d = np.concatenate([x[3] for x in parts])
-        t0 = np.concatenate([x[4] for x in parts])
-        st_unit, st_fail, stop_of = e_unit, e_fail, None
-    else:
-        e_clock = np.concatenate([x[1] for x in parts])
-        e_u = np.concatenate([x[3] for x in parts])
-        # one stop per (unit, clock value); inside a stop its lead first: the first failed
-        # position in position order, else the first position (the DES's stop_u choice)
-        order = np.lexsort((e_pos, ~e_fail, e_clock, e_unit))
-        e_unit, e_pos, e_clock, e_fail, e_u = (a[order]
-                                               for a in (e_unit, e_pos, e_clock, e_fail, e_u))
-        new = np.ones(e_unit.size, dtype=bool)
-        new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
-        starts = np.flatnonzero(new)
-        stop_of = np.cumsum(new) - 1  # stop index of every event
-        st_unit, st_clock = e_unit[starts], e_clock[starts]
-        st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
-        d = np.where(st_fail, _stop_hours(d_fail, e_u[starts]), _stop_hours(d_plan, e_u[starts]))
-        # calendar start of each stop: operating clock / share + earlier stops of its unit
-        before = np.cumsum(d) - d
-        first = np.ones(starts.size, dtype=bool)
-        first[1:] = st_unit[1:] != st_unit[:-1]
-        unit_base = np.maximum.accumulate(np.where(first, before, -np.inf))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
-        t0 = run_h + (before - unit_base)
-    end = t0 + d
-    live = t0 < H  # stops the horizon reaches (and every event in them)
-    done = end < H  # stops whose changes are made within the horizon
-    if stop_of is None:
-        ev_live, ev_done, ev_t0, ev_end = live, done, t0, end
-    else:
-        ev_live, ev_done, ev_t0, ev_end = live[stop_of], done[stop_of], t0[stop_of], end[stop_of]
-    # counts and the year book, with the DES's conventions
-    failed_ev = e_fail & ev_live
-    np.add.at(s.failures, e_unit[failed_ev], 1.0)
-    book.at_many(FAILURES, ev_t0[failed_ev])
-    s.issue(e_pos[ev_live], ev_t0[ev_live])  # asked for at the failure or the due age
-    planned_ev = ~e_fail & ev_done
-    s.planned += float(planned_ev.sum())
-    book.at_many(CHANGES, ev_end[planned_ev])
-    if not instant:
-        shown = np.minimum(end, H)
-        held = np.where(live, shown - t0, 0.0)
-        s.down_repair_h += float(held[st_fail].sum())
-        s.down_planned_h += float(held[~st_fail].sum())
-        book.down_many(t0[live], shown[live], share)
-        book.over_many(LABOUR_H, t0[done], end[done])
-        s.stopped(st_unit[live], t0[live], shown[live])
-    else:
-        s.stopped(st_unit[live], t0[live], t0[live])
-    return s
-
-
-def _renewal_exact(machine: Machine, scenario: Scenario) -> bool:
-    """True when every position is run-to-failure or age-replaced without opportunistic
-    changes: each is then a renewal process on its unit's operating clock."""
-    if not {p.policy.kind for p in machine.positions} <= {"run-to-failure", "age"}:
-        return False
-    return all(p.policy.opportunistic_share is None for p in machine.positions)
-
-
 def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: Streams,
                      horizon_h: float, book: YearBook, keep_intervals: bool | None = None,
-                     budget: EventBudget | None = None) -> _Sums:
+                     budget: EventBudget | None = None) -> LaneSums:
     """Simulate all units of one machine type for one replication.
 
     ``keep_intervals``: keep every unit's stops (unit, start, end), by default when
@@ -562,8 +320,8 @@ def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: 
     renewal round, at least ``ROUND_EVENTS`` a step); see :mod:`fleetsim.sim.budget`.
     """
     keep = bool(scenario.groups) if keep_intervals is None else keep_intervals
-    if _renewal_exact(machine, scenario):
-        return _renewal_lanes(machine, index, scenario, streams, horizon_h, book, keep, budget)
+    if renewal_exact(machine, scenario):
+        return renewal_cycles(machine, index, scenario, streams, horizon_h, book, keep, budget)
     lanes = _Lanes(machine, index, scenario, streams, horizon_h, book, keep)
     while lanes.step():
         if budget is not None:

@@ -1,0 +1,163 @@
+"""The vectorised engine's whole-cycle path: run-to-failure and age replacement.
+
+A stop freezes the ageing of every position of its unit, so on the unit's
+operating clock each position is an ordinary renewal process whatever the
+stop durations; :func:`renewal_cycles` draws the cycles on that clock and only
+then places the stops on the calendar (see its docstring).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from fleetsim.scenario.model import Machine, Scenario
+from fleetsim.sim.budget import ROUND_EVENTS, EventBudget
+from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
+from fleetsim.sim.schedule import compile_plan
+from fleetsim.sim.streams import LIFE, PF, STOP, Streams
+from fleetsim.sim.tally import CHANGES, FAILURES, LABOUR_H
+from fleetsim.sim.years import YearBook
+
+INF = math.inf
+
+
+def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: Streams,
+                   horizon_h: float, book: YearBook, keep_intervals: bool,
+                   budget: EventBudget | None = None) -> LaneSums:
+    """Whole-cycle path: run-to-failure and age replacement, any stop durations.
+
+    A stop freezes the ageing of every position of its unit, so on the unit's
+    *operating* clock each position is an ordinary renewal process (cycle =
+    min(life to F, T)) whatever the stops. The path draws every position's
+    cycles on that clock in rounds (round k uses row k of the tables), merges
+    the events of a unit's positions by operating clock (events at the same
+    clock value are one stop, as in the discrete-event engine: a failure's stop
+    if any position failed), and only then places the stops on the calendar:
+    stop j of a unit starts at c_j / share + the durations of the stops before
+    it (a segmented cumulative sum). Nothing is stepped event by event.
+    """
+    U, P = machine.count, len(machine.positions)
+    n = U * P
+    plan = compile_plan(machine)
+    share = machine.operating_share
+    crews = scenario.crews
+    random_stops = crews.unplanned_repair.kind != "fixed" or crews.planned_repair.kind != "fixed"
+    T_life = streams.table(index, U, P, LIFE)
+    T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
+    T_stop = streams.table(index, U, P, STOP) if random_stops else None
+    s = LaneSums(machine, keep_intervals, book)
+    H = horizon_h
+    c_max = share * H  # no unit runs more operating hours than this within the horizon
+    d_fail, d_plan = crews.unplanned_repair, crews.planned_repair
+    instant = not random_stops and d_fail.value_h == 0.0 and d_plan.value_h == 0.0
+    # With one position a unit, or stops of no duration, a stop delays nothing but its own
+    # position: its calendar time follows round by round, and no merging is needed.
+    alone = P == 1 or instant
+    idx = np.arange(n)
+    pos = np.tile(np.arange(P), U)
+    cut0 = plan.age_due_h[pos]
+    a0 = machine.ages_h().reshape(-1)
+    clock = np.zeros(n)  # operating clock at the current fitting of each position
+    delay = np.zeros(n)  # hours the position's own earlier stops took (when alone)
+    parts: list[tuple[np.ndarray, ...]] = []  # idx, clock, failed, stop quantile, duration, start
+    k = 0
+    while idx.size:
+        if budget is not None:
+            budget.spend(max(idx.size, ROUND_EVENTS))
+        p = pos[idx]
+        age = a0[idx] if k == 0 else 0.0
+        life = draw_lives(machine, T_life.row(k).reshape(-1)[idx], p, age)
+        if T_pf is not None:
+            life = life + draw_pf(machine, T_pf.row(k).reshape(-1)[idx], p)
+        cut = np.maximum(cut0[idx] - age, 0.0) if k == 0 else cut0[idx]
+        failed = life <= cut  # a failure at the due age is a failure, as in the DES
+        c = clock + np.minimum(life, cut)
+        if alone:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                t0 = (c / share if share > 0 else np.zeros_like(c)) + delay
+            if instant:
+                d = np.zeros(idx.size)
+            elif T_stop is not None:
+                su = T_stop.row(k).reshape(-1)[idx]
+                d = np.where(failed, stop_hours(d_fail, su), stop_hours(d_plan, su))
+            else:
+                d = np.where(failed, d_fail.value_h, d_plan.value_h)
+            inside = t0 < H
+            keep = inside & (t0 + d < H)  # renewed within the horizon: it goes on
+            parts.append((idx[inside], c[inside], failed[inside], d[inside], t0[inside]))
+            idx, clock, delay = idx[keep], c[keep], (delay + d)[keep]
+        else:
+            inside = (c < c_max) | (c <= 0.0)  # (a position due at the start stops at once)
+            su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else np.zeros(idx.size)
+            parts.append((idx[inside], c[inside], failed[inside], su[inside]))
+            idx, clock = idx[inside], c[inside]
+        k += 1
+    if sum(x[0].size for x in parts) == 0:
+        return s
+    e_idx = np.concatenate([x[0] for x in parts])
+    e_fail = np.concatenate([x[2] for x in parts])
+    e_unit, e_pos = e_idx // P, e_idx % P
+    if alone:
+        # every event is its own stop
+        d = np.concatenate([x[3] for x in parts])
+        t0 = np.concatenate([x[4] for x in parts])
+        st_unit, st_fail, stop_of = e_unit, e_fail, None
+    else:
+        e_clock = np.concatenate([x[1] for x in parts])
+        e_u = np.concatenate([x[3] for x in parts])
+        # one stop per (unit, clock value); inside a stop its lead first: the first failed
+        # position in position order, else the first position (the DES's stop_u choice)
+        order = np.lexsort((e_pos, ~e_fail, e_clock, e_unit))
+        e_unit, e_pos, e_clock, e_fail, e_u = (a[order]
+                                               for a in (e_unit, e_pos, e_clock, e_fail, e_u))
+        new = np.ones(e_unit.size, dtype=bool)
+        new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
+        starts = np.flatnonzero(new)
+        stop_of = np.cumsum(new) - 1  # stop index of every event
+        st_unit, st_clock = e_unit[starts], e_clock[starts]
+        st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
+        d = np.where(st_fail, stop_hours(d_fail, e_u[starts]), stop_hours(d_plan, e_u[starts]))
+        # calendar start of each stop: operating clock / share + earlier stops of its unit
+        before = np.cumsum(d) - d
+        first = np.ones(starts.size, dtype=bool)
+        first[1:] = st_unit[1:] != st_unit[:-1]
+        unit_base = np.maximum.accumulate(np.where(first, before, -np.inf))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
+        t0 = run_h + (before - unit_base)
+    end = t0 + d
+    live = t0 < H  # stops the horizon reaches (and every event in them)
+    done = end < H  # stops whose changes are made within the horizon
+    if stop_of is None:
+        ev_live, ev_done, ev_t0, ev_end = live, done, t0, end
+    else:
+        ev_live, ev_done, ev_t0, ev_end = live[stop_of], done[stop_of], t0[stop_of], end[stop_of]
+    # counts and the year book, with the DES's conventions
+    failed_ev = e_fail & ev_live
+    np.add.at(s.failures, e_unit[failed_ev], 1.0)
+    book.at_many(FAILURES, ev_t0[failed_ev])
+    s.issue(e_pos[ev_live], ev_t0[ev_live])  # asked for at the failure or the due age
+    planned_ev = ~e_fail & ev_done
+    s.planned += float(planned_ev.sum())
+    book.at_many(CHANGES, ev_end[planned_ev])
+    if not instant:
+        shown = np.minimum(end, H)
+        held = np.where(live, shown - t0, 0.0)
+        s.down_repair_h += float(held[st_fail].sum())
+        s.down_planned_h += float(held[~st_fail].sum())
+        book.down_many(t0[live], shown[live], share)
+        book.over_many(LABOUR_H, t0[done], end[done])
+        s.stopped(st_unit[live], t0[live], shown[live])
+    else:
+        s.stopped(st_unit[live], t0[live], t0[live])
+    return s
+
+
+def renewal_exact(machine: Machine, scenario: Scenario) -> bool:
+    """True when every position is run-to-failure or age-replaced without opportunistic
+    changes: each is then a renewal process on its unit's operating clock."""
+    if not {p.policy.kind for p in machine.positions} <= {"run-to-failure", "age"}:
+        return False
+    return all(p.policy.opportunistic_share is None for p in machine.positions)
