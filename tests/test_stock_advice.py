@@ -88,3 +88,20 @@ def test_block_replaced_fleet_with_batch_demand() -> None:
 
 def test_age_replaced_fleet() -> None:
     _check(age_fleet())
+
+
+def test_a_fill_rate_with_every_demand_met_has_an_interval_of_nonzero_width() -> None:
+    """No stockout in 40 demands: the interval is the exact binomial one for 40 of 40,
+    lower bound 0.025^(1/40) = 0.912 (Clopper & Pearson 1934), not [1, 1]."""
+    import pandas as pd
+
+    from fleetsim.study.result import StudyResult
+
+    sc = block_fleet()
+    bearing = next(iter(sc.bearings))
+    reps = pd.DataFrame({"replication": range(4),
+                         f"spares_issued:{bearing}": [10.0, 10.0, 10.0, 10.0],
+                         f"fill_rate:{bearing}": [1.0, 1.0, 1.0, 1.0]})
+    est = pooled_fill_rate(StudyResult(sc, reps, seed=0, engine="des"), bearing)
+    assert est.mean == 1.0 and est.high == 1.0
+    assert abs(est.low - 0.025 ** (1 / 40)) < 1e-12 and 0.90 < est.low < 0.92

@@ -125,7 +125,8 @@ def pooled_fill_rate(result: StudyResult, bearing: str, confidence: float = 0.95
 
     Ratio estimator Σ f_r·d_r / Σ d_r with d_r the spares issued in
     replication r and f_r its fill rate; interval from the delta-method
-    standard error (module docstring). No demand at all gives 1 with no interval.
+    standard error (module docstring); when every demand was met, the exact
+    binomial bound instead. No demand at all gives 1 with no interval.
     """
     d = result.figure(f"spares_issued:{bearing}").to_numpy(dtype=float)
     met = result.figure(f"fill_rate:{bearing}").to_numpy(dtype=float) * d
@@ -134,6 +135,13 @@ def pooled_fill_rate(result: StudyResult, bearing: str, confidence: float = 0.95
     if total <= 0:
         return Estimate(1.0, math.nan, math.nan, math.nan, n)
     ratio = float(met.sum() / total)
+    if met.sum() >= total:
+        # Every demand met: the delta-method interval has zero width. Give the exact
+        # binomial bound for N demands all met instead, ((1 − c)/2)^(1/N) (Clopper &
+        # Pearson 1934), counting demands as independent trials; batch demand makes
+        # them less so, so this lower bound is, if anything, optimistic.
+        low = float(((1.0 - confidence) / 2.0) ** (1.0 / total))
+        return Estimate(1.0, low, 1.0, math.nan, n)
     if n < 2:
         return Estimate(ratio, math.nan, math.nan, math.nan, n)
     resid = met - ratio * d
