@@ -161,3 +161,37 @@ def test_the_report_writes_the_year_plan_csv(tmp_path) -> None:
     cost = plan[plan["quantity"] == "cost"]
     assert cost["mean"].sum() == pytest.approx(res.summary.loc["cost_total", "mean"], rel=1e-9)
     assert set(plan.columns) >= {"variant", "year", "quantity", "bearing", "p10", "p50", "p90"}
+
+
+def test_journal_and_queued_arrays_book_what_at_and_down_book() -> None:
+    """The hot paths' deferred bookings give the immediate bookings' sums: counts exactly,
+    present values to rounding; the journal is settled in fixed blocks (bounded memory)."""
+    import fleetsim.sim.years as years
+
+    rng = np.random.default_rng(4)
+    t = np.sort(rng.uniform(0.0, 3.5 * Y, 5_000))
+    d = Discount(0.05)
+    now, later = YearBook(3.5 * Y, d), YearBook(3.5 * Y, d)
+    for x in t:
+        now.at("e", float(x))
+        now.down(float(x), float(x) + 7.0, 0.6)
+    journal = later.journal("e")
+    old_block = years.JOURNAL_BLOCK
+    years.JOURNAL_BLOCK = 1024
+    try:
+        for x in t:
+            journal.append(float(x))
+            if len(journal) >= 1024:
+                later.settle_full_blocks()
+                assert len(journal) < 1024  # settled as it goes
+        later.down_later(t[:2_500], t[:2_500] + 7.0, 0.6)
+        later.down_later(t[2_500:], t[2_500:] + 7.0, 0.6)
+    finally:
+        years.JOURNAL_BLOCK = old_block
+    assert later.years("e", False).tolist() == now.years("e", False).tolist()
+    assert later.years("e", False).sum() == 5_000.0
+    np.testing.assert_allclose(later.years("e"), now.years("e"), rtol=1e-12)
+    for key in ("down_h", "lost_operating_h"):
+        np.testing.assert_allclose(later.years(key, False), now.years(key, False), rtol=1e-12)
+        np.testing.assert_allclose(later.years(key), now.years(key), rtol=1e-12)
+    assert later == later and not journal  # reading settled everything

@@ -11,14 +11,18 @@ events (1,000 events per bearing position and simulated year, and at least
 1,000,000), far above any real plant (a weekly inspection is 52 a year); past
 it the replication stops with an :class:`EventBudgetExceeded`, an
 :class:`~fleetsim.errors.InputError` naming the scenario and the likely cause.
-The discrete-event engine counts SimPy events (:class:`BudgetedEnvironment`),
+The discrete-event engine counts SimPy events (:func:`run_within_budget`),
 the vectorised engine the position-events of its rounds, each round at least
 :data:`ROUND_EVENTS` (its fixed cost, whatever the number of lanes).
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import simpy
+from simpy.core import StopSimulation
+from simpy.events import URGENT
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
@@ -69,18 +73,44 @@ def exceeded(limit: int, source: str) -> EventBudgetExceeded:
     )
 
 
-class BudgetedEnvironment(simpy.Environment):
-    """A SimPy environment that stops after ``limit`` events with :class:`EventBudgetExceeded`."""
+#: Events stepped between two calls of ``every`` in :func:`run_within_budget`.
+CHUNK_EVENTS = 1 << 16
 
-    def __init__(self, limit: int, source: str = "scenario") -> None:
-        super().__init__()
-        self._events_left = limit
-        self._limit = limit
-        self._source = source
 
-    def step(self) -> None:
-        """Process the next event (counted against the budget)."""
-        self._events_left -= 1
-        if self._events_left < 0:
-            raise exceeded(self._limit, self._source)
-        simpy.Environment.step(self)
+def run_within_budget(
+    env: simpy.Environment,
+    horizon_h: float,
+    limit: int,
+    source: str = "scenario",
+    every: Callable[[], None] | None = None,
+) -> None:
+    """``env.run(until=horizon_h)``, stopping with :class:`EventBudgetExceeded` after ``limit`` events.
+
+    The same loop as SimPy's own ``run`` (the stop at the horizon is scheduled
+    before all regular events at that time, exactly as ``run(until=...)``
+    does), but it steps at most ``limit`` events: the budget is the loop's own
+    count, so an event costs nothing extra, and a storm of events at one
+    instant is stopped as surely as one spread over the horizon. ``every`` is
+    called after each :data:`CHUNK_EVENTS` events (the year book settles its
+    journal there, so memory stays bounded).
+    """
+    if not horizon_h > env.now:
+        raise ValueError(f"horizon ({horizon_h}) must be after the current time ({env.now})")
+    stop = simpy.Event(env)
+    stop._ok = True  # a triggered event with no value, as ``run(until=...)`` makes it
+    stop._value = None
+    env.schedule(stop, URGENT, horizon_h - env.now)
+    stop.callbacks.append(StopSimulation.callback)
+    step = env.step
+    left = limit
+    try:
+        while left > 0:
+            chunk = CHUNK_EVENTS if left > CHUNK_EVENTS else left
+            for _ in range(chunk):
+                step()
+            left -= chunk
+            if every is not None:
+                every()
+    except StopSimulation:
+        return
+    raise exceeded(limit, source)

@@ -91,8 +91,10 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         else:
             inside = (c < c_max) | (c <= 0.0)  # (a position due at the start stops at once)
             su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else np.zeros(idx.size)
-            parts.append((idx[inside], c[inside], failed[inside], su[inside]))
-            idx, clock = idx[inside], c[inside]
+            if not inside.all():
+                idx, c, failed, su = idx[inside], c[inside], failed[inside], su[inside]
+            parts.append((idx, c, failed, su))
+            clock = c
         k += 1
     if sum(x[0].size for x in parts) == 0:
         return s
@@ -109,7 +111,7 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         e_u = np.concatenate([x[3] for x in parts])
         # one stop per (unit, clock value); inside a stop its lead first: the first failed
         # position in position order, else the first position (the DES's stop_u choice)
-        order = np.lexsort((e_pos, ~e_fail, e_clock, e_unit))
+        order = _stop_order(e_unit, e_clock, e_fail, e_pos, P)
         e_unit, e_pos, e_clock, e_fail, e_u = (a[order]
                                                for a in (e_unit, e_pos, e_clock, e_fail, e_u))
         new = np.ones(e_unit.size, dtype=bool)
@@ -153,6 +155,21 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
     else:
         s.stopped(st_unit[live], t0[live], t0[live])
     return s
+
+
+def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np.ndarray,
+                P: int) -> np.ndarray:
+    """The order of ``np.lexsort((pos, ~failed, clock, unit))``, by one integer key.
+
+    The clock values are replaced by their ranks among the distinct values
+    (ties stay ties), so (unit, clock rank, failed first, position) packs
+    exactly into one int64 and a single stable argsort gives the same order
+    as the four-key lexsort, in about a third of the time.
+    """
+    values, rank = np.unique(clock, return_inverse=True)
+    tie = np.where(failed, 0, P) + pos
+    key = (unit.astype(np.int64) * values.size + rank) * (2 * P) + tie
+    return np.argsort(key, kind="stable")
 
 
 def renewal_exact(machine: Machine, scenario: Scenario) -> bool:

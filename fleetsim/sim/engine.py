@@ -16,10 +16,11 @@ import math
 from typing import Any
 
 import numpy as np
+import simpy
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
-from fleetsim.sim.budget import BudgetedEnvironment, event_budget
+from fleetsim.sim.budget import event_budget, run_within_budget
 from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import discount_for
 from fleetsim.sim.gcpause import gc_paused
@@ -111,7 +112,7 @@ def _run(
     life_sampler: LifeSampler | None,
 ) -> ReplicationResult:
     streams = Streams(root)
-    env = BudgetedEnvironment(event_budget(scenario, horizon), scenario.source)
+    env = simpy.Environment()
     discount = discount_for(scenario.costs.discount_rate_per_year)
     book = YearBook(horizon, discount)
     recorder = Recorder(keep_events, book)
@@ -155,7 +156,8 @@ def _run(
                 env.process(unit.run())
                 start_calendar_policies(env, unit, setup.plan)
 
-    env.run(until=horizon)
+    run_within_budget(env, horizon, event_budget(scenario, horizon), scenario.source,
+                      every=book.settle_full_blocks)
     return _result(scenario, root, horizon, recorder, units, stores, groups, ctx.crews.busy_h)
 
 

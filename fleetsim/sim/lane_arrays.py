@@ -32,6 +32,7 @@ class LaneSums:
         self.columns: dict[str, list[int]] = {}
         for j, b in enumerate(self.bearing):
             self.columns.setdefault(b, []).append(j)
+        self._issued_keys = {b: issued_key(b) for b in self.columns}
         self.first_stop_h = INF
         self.failures = np.zeros(machine.count)
         self.planned = 0.0
@@ -49,11 +50,11 @@ class LaneSums:
         """Spares issued (and, from unlimited supply, bought) for ``positions`` at ``t_h``."""
         if positions.size == 0:
             return
-        np.add.at(self.issued, positions, 1.0)
-        kinds = set(self.bearing)
-        for bearing in kinds:
-            at = t_h if len(kinds) == 1 else t_h[np.isin(positions, self.columns[bearing])]
-            self.book.at_many(issued_key(bearing), at)
+        self.issued += np.bincount(positions, minlength=self.issued.size)
+        keys = self._issued_keys
+        for bearing, key in keys.items():
+            at = t_h if len(keys) == 1 else t_h[np.isin(positions, self.columns[bearing])]
+            self.book.at_later(key, at)
 
     def stopped(self, units: np.ndarray, start_h: np.ndarray, end_h: np.ndarray) -> None:
         """Units ``units`` were down over [start_h, end_h) (kept for groups)."""

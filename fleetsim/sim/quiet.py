@@ -20,16 +20,14 @@ units.
 from __future__ import annotations
 
 from collections.abc import Generator
-from typing import TYPE_CHECKING, Any, cast
+from typing import TYPE_CHECKING, Any
 
 import simpy
 
 from fleetsim.sim.setup import INF, scan
-from fleetsim.sim.tally import CHANGES, FAILURES
 from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
 
 if TYPE_CHECKING:
-    from fleetsim.sim.stores import UnlimitedSupply  # a quiet unit's stores are all unlimited
     from fleetsim.sim.unit import UnitRunner
 
 
@@ -50,12 +48,19 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
     opportunistic = u.opportunistic
     book = u.book
     timeout = env.timeout
+    failure_times = u.failure_times
+    change_times = u.change_times
+    # fixed stop durations need no quantile per stop
+    unplanned_h = unplanned.value_h if unplanned.kind == "fixed" else None
+    planned_h = planned.value_h if planned.kind == "fixed" else None
+    # The one scan of both processes; a quiet position's defect is its failure.
+    heap = u.heap  # a unit with many positions scans its heap of next events
+    failed, due, _defects, nxt = (scan(positions, u.clock_op) if heap is None
+                                  else heap.scan(u.clock_op))
     while True:
         # Running, with the operating-hour clock synchronised to now.
         now = env.now
         clock = u.clock_op
-        # The one scan of both processes; a quiet position's defect is its failure.
-        failed, due, _defects, nxt = scan(positions, clock)
         if due is not None:
             for p in due:
                 p.pending = True
@@ -67,6 +72,8 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
             u.t_sync = env.now
             ran = clock + share * delay
             u.clock_op = ran if ran > nxt else nxt  # land on the target despite rounding
+            failed, due, _defects, nxt = (scan(positions, u.clock_op) if heap is None
+                                          else heap.scan(u.clock_op))
             continue
 
         # Stop: a failure (repair) or due ages (planned work), crews and spares at hand.
@@ -82,22 +89,24 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 p.failed = True
                 p.defects += 1
                 p.failures += 1
-                cast("UnlimitedSupply", p.store).issue(now)
+                p.store.issue(now)  # type: ignore[union-attr]  # quiet: unlimited
                 if log is not None:
                     log(now, uid, p.id, "failure")
             counts["defects"] += len(failed)
             counts["failures"] += len(failed)
             u.failures += len(failed)
             for _ in failed:  # one booking per failure, as the general process does
-                book.at(FAILURES, now)
+                failure_times.append(now)
             if log is not None:
                 log(now, uid, "", "work")
-            duration = unplanned.quantile(failed[0].stop_u)
+            duration = (unplanned_h if unplanned_h is not None
+                        else unplanned.quantile(failed[0].stop_u))
         else:
             u.phase = PLANNED_WORK
             if log is not None:
                 log(now, uid, "", "stop")
-            duration = planned.quantile(due[0].stop_u)  # type: ignore[index]
+            duration = (planned_h if planned_h is not None
+                        else planned.quantile(due[0].stop_u))  # type: ignore[index]
         # The positions changed in this stop: failed, then due (pending) and opportunistic
         # ones in position order; a changed position neither failed nor pending is an
         # opportunistic change.
@@ -108,11 +117,11 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 if p.failed:
                     continue
                 if p.pending:
-                    cast("UnlimitedSupply", p.store).issue(now)
+                    p.store.issue(now)  # type: ignore[union-attr]  # quiet: unlimited
                     work.append(p)
                     continue
                 if p.opp_age_h < INF and p.opportunity_due(clock, now):
-                    cast("UnlimitedSupply", p.store).issue(now)
+                    p.store.issue(now)  # type: ignore[union-attr]  # quiet: unlimited
                     work.append(p)
         if duration > 0.0:
             yield timeout(duration)
@@ -129,7 +138,7 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 p.opportunistic += 1
                 counts["opportunistic"] += 1
             if kind != "corrective":
-                book.at(CHANGES, now)
+                change_times.append(now)
             if log is not None:
                 log(now, uid, p.id, kind)
             # A new bearing, by the one install rule (PositionState.fit).
@@ -140,7 +149,29 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[u.phase] += now - u.phase_t
         u.phase = RUNNING
         u.phase_t = now
-        book.down(u.down_since, now, share, worked=True)  # a quiet unit never waits
+        if now > u.down_since:
+            book.down(u.down_since, now, share, worked=True)  # a quiet unit never waits
         up(now)
         if log is not None:
             log(now, uid, "", "up")
+        # The next event: after a stop for failures alone, the scan's own answer
+        # over the positions not changed, and the new bearings' (the same minimum
+        # as a new scan, without one); otherwise a new scan.
+        if work is failed:  # failures alone: no due ages, no opportunistic changes
+            for p in work:
+                d = p.defect_op
+                f = p.fail_op
+                a = p.due_op
+                if d <= clock or f <= clock or a <= clock:
+                    break  # a new bearing already at its end: let the scan say what happens
+                if d < nxt:
+                    nxt = d
+                if f < nxt:
+                    nxt = f
+                if a < nxt:
+                    nxt = a
+            else:
+                failed = None
+                continue
+        failed, due, _defects, nxt = (scan(positions, clock) if heap is None
+                                      else heap.scan(clock))

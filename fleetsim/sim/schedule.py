@@ -88,8 +88,30 @@ class MaintenancePlan:
         return out
 
 
+#: Plans compiled, by id of their machine (with the machine, so a reused id is not a hit).
+_PLANS: dict[int, tuple[Machine, MaintenancePlan]] = {}
+
+
 def compile_plan(machine: Machine) -> MaintenancePlan:
-    """The :class:`MaintenancePlan` of ``machine`` (its policies are already validated)."""
+    """The :class:`MaintenancePlan` of ``machine`` (its policies are already validated).
+
+    Compiled once per machine and kept (a frozen machine has one plan): every
+    replication of a study asks again. The plan's arrays are read-only.
+    """
+    hit = _PLANS.get(id(machine))
+    if hit is not None and hit[0] is machine:
+        return hit[1]
+    plan = _compile(machine)
+    for a in (plan.age_due_h, plan.block_every_h, plan.skip_younger_h, plan.opportunistic_age_h,
+              plan.opportunistic_calendar, plan.inspected, plan.detection, plan.respond_h):
+        a.flags.writeable = False
+    if len(_PLANS) > 256:
+        _PLANS.clear()
+    _PLANS[id(machine)] = (machine, plan)
+    return plan
+
+
+def _compile(machine: Machine) -> MaintenancePlan:
     pols = [p.policy for p in machine.positions]
     n = len(pols)
     age_due = np.full(n, INF)

@@ -13,6 +13,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 import simpy
@@ -26,6 +27,10 @@ from fleetsim.sim.records import Recorder
 from fleetsim.sim.schedule import MaintenancePlan, compile_plan, inspections_to_detect
 from fleetsim.sim.stores import Claim, SpareStore, UnlimitedSupply
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams, UniformTable
+from fleetsim.sim.tally import CHANGES, FAILURES, INSPECTIONS
+
+if TYPE_CHECKING:
+    from fleetsim.sim.scan_heap import PositionHeap
 
 INF = math.inf
 
@@ -63,7 +68,7 @@ class MachineSetup:
     __slots__ = ("machine", "index", "plan", "start_ages_h", "start_cal_h", "stores",
                  "life_table", "pf_table", "stop_table", "det_table", "random_stops",
                  "opportunistic", "quiet", "first_defect_h", "first_fail_h", "first_stop_u",
-                 "first_looks")
+                 "first_looks", "slots", "journals")
 
     def __init__(self, ctx: SimContext, machine: Machine, machine_index: int) -> None:
         specs = machine.positions
@@ -122,6 +127,16 @@ class MachineSetup:
         self.first_looks: list[list[float]] | None = (
             looks_needed(plan, self.det_table, 0).tolist() if self.det_table is not None else None
         )
+        #: the plan's rules of each position as Python values, [position]: (age due h,
+        #: opportunistic age h, opportunistic on the calendar, skip younger than h,
+        #: detection probability, inspected)
+        book = ctx.recorder.book
+        #: the year book's journals of failures, changes and inspections (one append each)
+        self.journals = (book.journal(FAILURES), book.journal(CHANGES), book.journal(INSPECTIONS))
+        self.slots: list[tuple[float, float, bool, float, float, bool]] = list(zip(
+            plan.age_due_h.tolist(), plan.opportunistic_age_h.tolist(),
+            [bool(x) for x in plan.opportunistic_calendar.tolist()], plan.skip_younger_h.tolist(),
+            plan.detection.tolist(), [bool(x) for x in plan.inspected.tolist()], strict=True))
 
 
 def start_calendar_ages(ages_h: np.ndarray, operating_share: float) -> np.ndarray:
@@ -159,6 +174,9 @@ def scan(
 ) -> tuple[list[PositionState] | None, list[PositionState] | None, list[PositionState] | None,
            float]:
     """The one scan of a unit's positions at operating clock ``clock_op`` (both processes).
+
+    A unit with many positions asks its :class:`~fleetsim.sim.scan_heap.PositionHeap`
+    instead (the same answer without a pass over every position).
 
     Returns ``(failed, due, defects, next_op)``: the positions whose failure has come,
     those whose age replacement fell due (their ``due_op`` is cleared: asked once),
@@ -210,25 +228,21 @@ class PositionState:
         "k", "stop_u", "installed_op", "installed_cal", "defect_op", "fail_op", "due_op",
         "looks", "looks_needed", "defect_seen", "detected", "failed", "pending", "in_stop",
         "start_at", "claim", "failures", "planned", "opportunistic", "defects", "detections",
+        "heap", "ver",
     )  # fmt: skip
 
     def __init__(
         self, spec: Position, setup: MachineSetup, streams: Streams, unit_no: int, slot: int
     ) -> None:
         """The position with the bearing fitted at the start (drawn by ``setup``)."""
-        plan = setup.plan
         self.id = spec.id
         self.bearing_id = spec.bearing_id
         self.policy = spec.policy
         self.life = spec.life
         self.pf = spec.pf_interval
         self.store = setup.stores[slot]
-        self.age_due_h = float(plan.age_due_h[slot])
-        self.opp_age_h = float(plan.opportunistic_age_h[slot])
-        self.opp_calendar = bool(plan.opportunistic_calendar[slot])
-        self.skip_younger_h = float(plan.skip_younger_h[slot])
-        self.detection = float(plan.detection[slot])
-        self.is_condition = bool(plan.inspected[slot])
+        (self.age_due_h, self.opp_age_h, self.opp_calendar, self.skip_younger_h,
+         self.detection, self.is_condition) = setup.slots[slot]
         self.machine_no = setup.index
         self.unit_no = unit_no
         self.slot = slot
@@ -251,6 +265,9 @@ class PositionState:
         self.start_at = INF
         self.claim: Claim | None = None
         self.failures = self.planned = self.opportunistic = self.defects = self.detections = 0
+        #: the unit's heap of next events when it has many positions (scan_heap.py)
+        self.heap: PositionHeap | None = None
+        self.ver = 0
 
     def fit(self, clock_op: float, now_h: float, life_h: float | None = None) -> None:
         """Fit the next bearing (its k-th life, k >= 1) at operating clock ``clock_op``.
@@ -280,6 +297,8 @@ class PositionState:
         self.defect_seen = self.detected = self.failed = self.pending = self.in_stop = False
         self.start_at = INF
         self.claim = None
+        if self.heap is not None:
+            self.heap.push(self)
 
     def opportunity_due(self, clock_op: float, now_h: float) -> bool:
         """True when the position's age has reached its opportunistic threshold.

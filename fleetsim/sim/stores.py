@@ -97,7 +97,8 @@ class UnlimitedSupply:
         self.stats = StoreStats()
         self.env = env
         self.book = book if env is not None else None
-        self._issued_key = issued_key(bearing_id)
+        # the year book's journal of issues (one append per spare)
+        self._issued = self.book.journal(issued_key(bearing_id)) if self.book is not None else None
 
     def demand(
         self, unit: str, position: str, notify: Callable[[], None] | None, failure: bool = False
@@ -111,9 +112,9 @@ class UnlimitedSupply:
         directly; :meth:`demand` and :meth:`try_issue` go through it)."""
         self.stats.demands += 1
         self.stats.issued += 1
-        book = self.book
-        if book is not None:  # (what it buys is what it issues: see ordered_key)
-            book.at(self._issued_key, now)
+        issued = self._issued
+        if issued is not None:  # (what it buys is what it issues: see ordered_key)
+            issued.append(now)
 
     def expedite(self, claim: Claim, unit: str, position: str) -> bool:
         """Never needed: claims are always filled."""

@@ -46,13 +46,16 @@ class UniformTable:
     rows were ever drawn.
     """
 
-    __slots__ = ("rng", "shape", "data", "_rows")
+    __slots__ = ("rng", "shape", "data", "_rows", "_lists")
 
     def __init__(self, rng: np.random.Generator, units: int, positions: int) -> None:
         self.rng = rng
         self.shape = (units, positions)
         self.data = rng.random((BLOCK_ROWS, units, positions))
         self._rows = BLOCK_ROWS
+        #: rows as nested Python lists, made on first use by :meth:`get` (a list index
+        #: is several times cheaper than a numpy scalar)
+        self._lists: list[list[list[float]] | None] = [None] * BLOCK_ROWS
 
     def _grow(self, rows: int) -> None:
         if rows <= self._rows:
@@ -63,13 +66,17 @@ class UniformTable:
         target = -(-target // BLOCK_ROWS) * BLOCK_ROWS
         more = self.rng.random((target - self._rows, *self.shape))
         self.data = np.concatenate([self.data, more])
+        self._lists.extend([None] * (target - self._rows))
         self._rows = target
 
     def get(self, k: int, unit: int, position: int) -> float:
         """U[k, unit, position] as a float."""
         if k >= self._rows:
             self._grow(k + 1)
-        return float(self.data[k, unit, position])
+        row = self._lists[k]
+        if row is None:
+            row = self._lists[k] = self.data[k].tolist()
+        return row[unit][position]
 
     def take(self, k: np.ndarray, unit: np.ndarray, position: np.ndarray) -> np.ndarray:
         """U[k, unit, position] for arrays of indexes."""

@@ -45,9 +45,10 @@ from typing import Any
 import simpy
 from simpy.resources.resource import PriorityRequest
 
+from fleetsim.sim import scan_heap
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
 from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext, scan
-from fleetsim.sim.tally import CHANGES, FAILURES, INSPECTIONS, LABOUR_H
+from fleetsim.sim.tally import LABOUR_H
 
 _FAILURE, _PLANNED = 0, 1
 # Phases of a unit, in the order of ReplicationResult.units' columns.
@@ -91,6 +92,9 @@ class UnitRunner:
         self.positions = [
             PositionState(p, setup, streams, unit_number, j) for j, p in enumerate(machine.positions)
         ]
+        #: the scan of a unit with many positions (None: the linear scan)
+        self.heap = (scan_heap.PositionHeap(self.positions)
+                     if len(self.positions) > scan_heap.HEAP_SCAN_MIN else None)
         self.clock_op = 0.0
         self.t_sync = 0.0
         self.running = True
@@ -110,6 +114,8 @@ class UnitRunner:
         self.down_since = 0.0
         self.discount = ctx.discount
         self.book = ctx.recorder.book
+        # the year book's journals of single events (one append each)
+        self.failure_times, self.change_times, self.inspection_times = setup.journals
         self.random_stops = setup.random_stops
         self.opportunistic = setup.opportunistic
         self.holds = ctx.groups.holds(unit_index)
@@ -200,7 +206,7 @@ class UnitRunner:
         self.failures += 1
         counts = self.counts
         counts["failures"] += 1
-        self.book.at(FAILURES, self.env.now)
+        self.failure_times.append(self.env.now)
         if p.is_condition:
             counts["failures_after_detection" if p.detected else "missed_defects"] += 1
         if self.log is not None:
@@ -247,7 +253,7 @@ class UnitRunner:
         self._sync()
         now = self.env.now
         self.counts["inspections"] += 1
-        self.book.at(INSPECTIONS, now)
+        self.inspection_times.append(now)
         if self.log is not None:
             self.log(now, self.id, "", "inspection")
         clock = self.clock_op
@@ -289,7 +295,8 @@ class UnitRunner:
                 self.clock_op += share * (now - self.t_sync)
             self.t_sync = now
             clock = self.clock_op
-            failed, due, defects, nxt = scan(positions, clock)
+            failed, due, defects, nxt = (scan(positions, clock) if self.heap is None
+                                         else self.heap.scan(clock))
             if defects is not None:
                 for p in defects:
                     self._defect(p)
@@ -437,7 +444,7 @@ class UnitRunner:
                 p.opportunistic += 1
                 counts["opportunistic"] += 1
             if kind != "corrective":
-                self.book.at(CHANGES, now)
+                self.change_times.append(now)
             if self.log is not None:
                 self.log(now, self.id, p.id, kind)
             self.install(p)

@@ -94,8 +94,16 @@ class _Lanes:
         self.start_at = np.full((U, P), INF)
         self.next_block = np.array([[j.every_h for j in plan.blocks]] * U).reshape(U, -1)
         self.next_insp = np.array([[r.every_h for r in plan.rounds]] * U).reshape(U, -1)
+        self.has_age = bool(np.isfinite(plan.age_due_h).any())
+        self.round_cols = [self._columns(r.positions) for r in plan.rounds]
+        self.block_cols = [self._columns(j.positions) for j in plan.blocks]
         uu, pp = np.indices((U, P))
         self._draw(uu.ravel(), pp.ravel(), age0.ravel())
+
+    def _columns(self, positions: tuple[int, ...]) -> np.ndarray:
+        cols = np.zeros(self.P, dtype=bool)
+        cols[list(positions)] = True
+        return cols
 
     # --- draws -------------------------------------------------------------------------
     def _draw(self, u: np.ndarray, p: np.ndarray, age: np.ndarray | float = 0.0) -> None:
@@ -118,11 +126,14 @@ class _Lanes:
     def _request(self, mask: np.ndarray, at: np.ndarray, asked: np.ndarray | None = None) -> None:
         """Ask, at ``asked`` (default: now), for planned changes of ``mask`` to start at ``at``.
 
-        ``at`` and ``asked`` are per lane; the spare is issued when it is asked for.
+        ``at`` is per lane (units,) or per position (units, positions); ``asked``
+        per lane. The spare is issued when it is asked for.
         """
+        if not mask.any():
+            return
         new = mask & ~self.pending
-        start = np.broadcast_to(at[:, None], mask.shape)
-        self.start_at = np.where(mask, np.minimum(self.start_at, start), self.start_at)
+        start = at[:, None] if at.ndim == 1 else at
+        np.copyto(self.start_at, np.minimum(self.start_at, start), where=mask)
         if new.any():
             self.pending |= new
             u, p = np.nonzero(new)
@@ -142,15 +153,18 @@ class _Lanes:
         with np.errstate(divide="ignore", invalid="ignore"):
             t_fail = (t[:, None] + (self.fail_age - self.age) / share).min(axis=1) if share > 0 \
                 else np.full(self.U, INF)
-            if share > 0 and np.isfinite(plan.age_due_h).any():
+            if share > 0 and self.has_age:
                 due = np.where(self.pending, INF, plan.age_due_h[None, :] - self.age)
                 t_age = (t[:, None] + due / share).min(axis=1)
             else:
                 t_age = np.full(self.U, INF)
-        t_block = self.next_block.min(axis=1, initial=INF)
-        t_insp = self.next_insp.min(axis=1, initial=INF)
+        t_next = np.minimum(t_fail, t_age)
+        if plan.blocks:
+            np.minimum(t_next, self.next_block.min(axis=1), out=t_next)
+        if plan.rounds:
+            np.minimum(t_next, self.next_insp.min(axis=1), out=t_next)
         t_plan = self.start_at.min(axis=1)
-        t_next = np.minimum.reduce([t_fail, t_age, t_block, t_insp, t_plan])
+        np.minimum(t_next, t_plan, out=t_next)
         t_next = np.where(active, np.maximum(t_next, t), t)
         live = active & (t_next < H)
         new_t = np.where(live, t_next, np.where(active, H, t))
@@ -161,8 +175,9 @@ class _Lanes:
         now = self.t
         L = live[:, None]
         failed = L & (self.fail_age <= self.age + _EPS)
+        is_fail = np.asarray(failed.any(axis=1), dtype=bool)
         # age dues become requests for now
-        if np.isfinite(plan.age_due_h).any():
+        if self.has_age:
             self._request(L & ~failed & (self.age >= plan.age_due_h[None, :] - _EPS), now)
         # block dates: request the positions of each due job that are old enough
         for j, job in enumerate(plan.blocks):
@@ -174,33 +189,30 @@ class _Lanes:
                                                  self.next_block[:, j])
         # inspection rounds of running units
         for r, job in enumerate(plan.rounds):
-            lanes = live & (self.next_insp[:, r] <= now + _EPS) & ~failed.any(axis=1)
+            lanes = live & (self.next_insp[:, r] <= now + _EPS) & ~is_fail
             if lanes.any():
-                self._inspect(lanes, job.positions)
+                self._inspect(lanes, r)
             due = live & (self.next_insp[:, r] <= now + _EPS)
             self.next_insp[:, r] = np.where(due, self.next_insp[:, r] + job.every_h,
                                             self.next_insp[:, r])
-        is_fail = np.asarray(failed.any(axis=1), dtype=bool)
+        # (the requests of this step may have moved start dates earlier)
         is_plan = live & ~is_fail & (self.start_at.min(axis=1) <= now + _EPS)
-        if is_fail.any():
-            self._stop(is_fail, failed)
-        if is_plan.any():
-            self._stop(is_plan, None)
+        stops = is_fail | is_plan
+        if stops.any():  # failures (repair) and planned work, lane by lane, in one pass
+            self._stop(stops, failed)
         return True
 
     def _block_date(self, lanes: np.ndarray, j: int, positions: tuple[int, ...],
                     date: np.ndarray, allowed: np.ndarray) -> None:
-        cols = np.zeros(self.P, dtype=bool)
-        cols[list(positions)] = True
+        cols = self.block_cols[j]
         old = (date[:, None] - self.fitted_cal) >= self.plan.skip_younger_h[None, :]
         self._request(lanes[:, None] & cols[None, :] & old & allowed, date, date)
 
-    def _inspect(self, lanes: np.ndarray, positions: tuple[int, ...]) -> None:
+    def _inspect(self, lanes: np.ndarray, r: int) -> None:
         s = self.sums
         s.inspections += float(lanes.sum())
-        self.book.at_many(INSPECTIONS, self.t[lanes])
-        cols = np.zeros(self.P, dtype=bool)
-        cols[list(positions)] = True
+        self.book.at_later(INSPECTIONS, self.t[lanes])
+        cols = self.round_cols[r]
         window = (lanes[:, None] & cols[None, :] & ~self.detected
                   & (self.defect_age <= self.age) & (self.fail_age > self.age))
         if not window.any():
@@ -210,12 +222,8 @@ class _Lanes:
         if found.any():
             self.detected |= found
             s.detections += float(found.sum())
-            at = self.t[:, None] + self.plan.respond_h[None, :]
             # each found position asks to start at its own response time
-            for j in np.unique(np.nonzero(found)[1]):
-                col = np.zeros_like(found)
-                col[:, j] = found[:, j]
-                self._request(col, at[:, j])
+            self._request(found, self.t[:, None] + self.plan.respond_h[None, :])
 
     def _stop(self, lanes: np.ndarray, failed: np.ndarray | None) -> None:
         """The units ``lanes`` stop: repair of ``failed`` (None: planned work) and what joins."""
@@ -229,7 +237,7 @@ class _Lanes:
         n_fail = fu.sum(axis=1)
         if n_fail.any():
             s.failures[u] += n_fail
-            self.book.at_many(FAILURES, t0, n_fail)
+            self.book.at_later(FAILURES, np.repeat(t0, n_fail))
             cond = plan.inspected[None, :]
             s.missed_defects += float((fu & cond & ~self.detected[u]).sum())
             s.failures_after_detection += float((fu & cond & self.detected[u]).sum())
@@ -259,14 +267,14 @@ class _Lanes:
         held = shown - t0
         s.down_repair_h += float(held[n_fail > 0].sum())
         s.down_planned_h += float(held[n_fail == 0].sum())
-        self.book.down_many(t0, shown, self.share)
+        self.book.down_later(t0, shown, self.share)
         s.stopped(u, t0, shown)
         done = end < self.H  # the changes count when the stop ends inside the horizon
         n_changes = (pend | opp).sum(axis=1)
         s.planned += float((pend.sum(axis=1))[done].sum())
         s.opportunistic += float(opp.sum(axis=1)[done].sum())
-        self.book.at_many(CHANGES, end[done], n_changes[done])
-        self.book.over_many(LABOUR_H, t0[done], end[done])
+        self.book.at_later(CHANGES, np.repeat(end[done], n_changes[done]))
+        self.book.over_later(LABOUR_H, t0[done], end[done])
         # calendar jobs that fell inside the stop: block dates ask for what is not being
         # changed; inspections of a stopped unit are skipped
         whole = np.zeros((self.U, self.P), dtype=bool)

@@ -10,8 +10,12 @@ happens; an amount accrued over an interval (downtime, spares on the shelf, a
 group being down, crew work) is split at the year boundaries.
 
 The discrete-event engine books each event as it happens (:meth:`at`,
-:meth:`over`); the vectorised engine books arrays of events at once
-(:meth:`at_many`, :meth:`over_many`). Totals are sums over the years, so the
+:meth:`over`), or, on its hot paths, appends the time of a single event to the
+key's *journal* (:meth:`journal`: a plain list, one C-level append per event),
+which the book settles with :meth:`at_many` in fixed blocks of
+:data:`JOURNAL_BLOCK` entries and before anything is read, so the sums depend
+only on the sequence of events, not on when they are settled; the vectorised
+engine books arrays of events at once (:meth:`at_many`, :meth:`over_many`). Totals are sums over the years, so the
 year-by-year plan adds up to the horizon totals by construction.
 """
 
@@ -26,6 +30,8 @@ from fleetsim.sim.discount import Discount
 
 #: The keys :meth:`YearBook.down` books (the same as :mod:`fleetsim.sim.tally`'s).
 DOWN_KEY, LOST_KEY, LABOUR_KEY = "down_h", "lost_operating_h", "labour_h"
+#: Journal entries settled at a time (:meth:`YearBook.settle_full_blocks`), by key.
+JOURNAL_BLOCK = 1 << 16
 
 
 def year_count(horizon_h: float) -> int:
@@ -47,16 +53,110 @@ class YearBook:
         The study's discount (rate 0: the identity).
     """
 
-    __slots__ = ("discount", "n", "amount", "pv", "_plain")
+    __slots__ = ("discount", "n", "_amount", "_pv", "_plain", "_journal", "_later", "_later_n")
 
     def __init__(self, horizon_h: float, discount: Discount) -> None:
         self.discount = discount
         self.n = year_count(horizon_h)
-        #: plain amounts per year, by key
-        self.amount: dict[str, list[float]] = {}
-        #: present values per year, by key (the same list as the amount at rate 0)
-        self.pv: dict[str, list[float]] = {}
+        self._amount: dict[str, list[float]] = {}
+        self._pv: dict[str, list[float]] = {}
         self._plain = discount.delta_h == 0.0
+        #: times of single events not booked yet, by key (see :meth:`journal`)
+        self._journal: dict[str, list[float]] = {}
+        #: arrays not booked yet (see :meth:`at_later`): (what, key, arrays...)
+        self._later: list[tuple[str, str, np.ndarray, np.ndarray | None, float]] = []
+        self._later_n = 0
+
+    @property
+    def amount(self) -> dict[str, list[float]]:
+        """Plain amounts per year, by key (the journal settled first)."""
+        self.settle()
+        return self._amount
+
+    @property
+    def pv(self) -> dict[str, list[float]]:
+        """Present values per year, by key (the same list as the amount at rate 0)."""
+        self.settle()
+        return self._pv
+
+    def journal(self, key: str) -> list[float]:
+        """The list to append the calendar hour of each single event of ``key`` to.
+
+        Appending ``t_h`` books what ``at(key, t_h)`` books, later: the journal is
+        settled in blocks of :data:`JOURNAL_BLOCK` (:meth:`settle_full_blocks`)
+        and in full before any sum is read. Hold the list, never replace it.
+        """
+        j = self._journal.get(key)
+        if j is None:
+            j = self._journal[key] = []
+        return j
+
+    def settle_full_blocks(self) -> None:
+        """Book the full blocks of :data:`JOURNAL_BLOCK` entries of every journal
+        (keeps memory bounded during a long run; the rest stays journaled)."""
+        for key, times in self._journal.items():
+            full = len(times) - len(times) % JOURNAL_BLOCK
+            if full:
+                for start in range(0, full, JOURNAL_BLOCK):
+                    self.at_many(key, np.array(times[start:start + JOURNAL_BLOCK]))
+                del times[:full]
+
+    def at_later(self, key: str, t_h: np.ndarray) -> None:
+        """:meth:`at_many` of single events at ``t_h``, booked with others of ``key`` later.
+
+        The vectorised engine's steps each give a few events of a key; one
+        :meth:`at_many` per key at the end costs less than one per step.
+        """
+        if t_h.size:
+            self._queue(("at", key, t_h, None, 0.0))
+
+    def over_later(self, key: str, start_h: np.ndarray, end_h: np.ndarray) -> None:
+        """:meth:`over_many` with weight 1, booked with others of ``key`` later."""
+        if start_h.size:
+            self._queue(("over", key, start_h, end_h, 0.0))
+
+    def down_later(self, start_h: np.ndarray, end_h: np.ndarray, share: float) -> None:
+        """:meth:`down_many`, booked with other stops of the same ``share`` later."""
+        if start_h.size:
+            self._queue(("down", "", start_h, end_h, share))
+
+    def _queue(self, item: tuple[str, str, np.ndarray, np.ndarray | None, float]) -> None:
+        self._later.append(item)
+        self._later_n += item[2].size
+        if self._later_n > JOURNAL_BLOCK * 16:  # bounded memory in long runs
+            self._settle_later()
+
+    def _settle_later(self) -> None:
+        """Book what :meth:`at_later`, :meth:`over_later` and :meth:`down_later` queued:
+        one array call per kind and key, in the order queued."""
+        groups: dict[tuple[str, str, float], list[tuple[np.ndarray, np.ndarray | None]]] = {}
+        for what, key, a, b, share in self._later:
+            groups.setdefault((what, key, share), []).append((a, b))
+        self._later.clear()
+        self._later_n = 0
+        for (what, key, share), parts in groups.items():
+            first = np.concatenate([a for a, _ in parts])
+            if what == "at":
+                self.at_many(key, first)
+                continue
+            second = np.concatenate([b for _, b in parts])
+            if what == "over":
+                self.over_many(key, first, second)
+            else:
+                self.down_many(first, second, share)
+
+    def settle(self) -> None:
+        """Book every journaled or queued event (journals in blocks, as
+        :meth:`settle_full_blocks`)."""
+        if self._later:
+            self._settle_later()
+        if not any(self._journal.values()):
+            return
+        self.settle_full_blocks()
+        for key, times in self._journal.items():
+            if times:
+                self.at_many(key, np.array(times))
+                times.clear()
 
     def __eq__(self, other: object) -> bool:
         if not isinstance(other, YearBook):
@@ -66,16 +166,16 @@ class YearBook:
     __hash__ = None  # type: ignore[assignment]  # mutable
 
     def _rows(self, key: str) -> tuple[list[float], list[float]]:
-        a = self.amount.get(key)
+        a = self._amount.get(key)
         if a is None:
-            a = self.amount[key] = [0.0] * self.n
+            a = self._amount[key] = [0.0] * self.n
             # at rate 0 the present value *is* the amount: one list, booked once
-            self.pv[key] = a if self._plain else [0.0] * self.n
-        return a, self.pv[key]
+            self._pv[key] = a if self._plain else [0.0] * self.n
+        return a, self._pv[key]
 
     def at(self, key: str, t_h: float, n: float = 1.0) -> None:
         """Book ``n`` events of ``key`` at calendar hour ``t_h``."""
-        a = self.amount.get(key)
+        a = self._amount.get(key)
         if a is None:
             a = self._rows(key)[0]
         y = int(t_h / HOURS_PER_YEAR)
@@ -83,7 +183,7 @@ class YearBook:
             y = self.n - 1
         a[y] += n
         if not self._plain:
-            self.pv[key][y] += n * self.discount.factor(t_h)
+            self._pv[key][y] += n * self.discount.factor(t_h)
 
     def over(self, key: str, start_h: float, end_h: float, weight: float = 1.0) -> None:
         """Book ``weight`` × hours of ``key`` over [start_h, end_h), split by year."""
@@ -118,15 +218,15 @@ class YearBook:
             # inside one year (nearly every stop): book both without splitting
             y = int(start_h / HOURS_PER_YEAR)
             hours = end_h - start_h
-            down, lost = self.amount.get(DOWN_KEY), self.amount.get(LOST_KEY)
+            down, lost = self._amount.get(DOWN_KEY), self._amount.get(LOST_KEY)
             if down is None or lost is None:
                 down, lost = self._rows(DOWN_KEY)[0], self._rows(LOST_KEY)[0]
             down[y] += hours
             lost[y] += share * hours
             if not self._plain:
                 v = self.discount.integral(start_h, end_h)
-                self.pv[DOWN_KEY][y] += v
-                self.pv[LOST_KEY][y] += share * v
+                self._pv[DOWN_KEY][y] += v
+                self._pv[LOST_KEY][y] += share * v
             return
         self.over(DOWN_KEY, start_h, end_h)
         self.over(LOST_KEY, start_h, end_h, share)
@@ -136,17 +236,7 @@ class YearBook:
         s = np.asarray(start_h, dtype=float)
         if s.size == 0:
             return
-        e = np.asarray(end_h, dtype=float)
-        n = self.n
-        y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), n - 1)
-        y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), n - 1)
-        if not (y0 == y1).all():
-            self.over_many(DOWN_KEY, s, e)
-            self.over_many(LOST_KEY, s, e, share)
-            return
-        plain = np.bincount(y0, weights=np.maximum(e - s, 0.0), minlength=n)
-        present = None if self._plain else np.bincount(
-            y0, weights=self.discount.integrals(s, e), minlength=n)
+        plain, present = self._spread(s, np.asarray(end_h, dtype=float), 1.0)
         self._add(DOWN_KEY, plain, present)
         self._add(LOST_KEY, plain * share, None if present is None else present * share)
 
@@ -181,7 +271,12 @@ class YearBook:
         s = np.asarray(start_h, dtype=float)
         if s.size == 0:
             return
-        e = np.asarray(end_h, dtype=float)
+        self._add(key, *self._spread(s, np.asarray(end_h, dtype=float), weight))
+
+    def _spread(self, s: np.ndarray, e: np.ndarray, weight: np.ndarray | float
+                ) -> tuple[np.ndarray, np.ndarray | None]:
+        """Per-year sums of ``weight`` × hours of the intervals [s, e), and their present
+        values (None at rate 0), each interval split at the year ends."""
         w = np.broadcast_to(np.asarray(weight, dtype=float), s.shape)
         scalar = np.ndim(weight) == 0
         n = self.n
@@ -190,8 +285,8 @@ class YearBook:
         y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), n - 1)
         y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), n - 1)
         one = y0 == y1  # most intervals lie inside one year: no splitting
-        if one.any():
-            every = bool(one.all())
+        every = bool(one.all())
+        if every or one.any():
             so, eo, yo = (s, e, y0) if every else (s[one], e[one], y0[one])
             span = np.maximum(eo - so, 0.0)
             wo = w if every else w[one]
@@ -202,9 +297,9 @@ class YearBook:
             if present is not None:
                 v = self.discount.integrals(so, eo)
                 present += np.bincount(yo, weights=wo * v, minlength=n)
-            if not every:
-                s, e, w, y0, y1 = s[~one], e[~one], w[~one], y0[~one], y1[~one]
-        if not bool(one.all()):
+        if not every:
+            across = ~one  # the few intervals across a year end, year by year
+            s, e, w, y0, y1 = s[across], e[across], w[across], y0[across], y1[across]
             for y in range(int(y0.min()), int(y1.max()) + 1):
                 lo = np.maximum(s, y * HOURS_PER_YEAR)
                 hi = e if y == n - 1 else np.minimum(e, (y + 1) * HOURS_PER_YEAR)
@@ -213,7 +308,7 @@ class YearBook:
                     plain[y] += float((w * (hi - lo))[inside].sum())
                     if present is not None:
                         present[y] += float((w * self.discount.integrals(lo, hi))[inside].sum())
-        self._add(key, plain, present)
+        return plain, present
 
     def total(self, key: str, present: bool = True) -> float:
         """Sum over the years of ``key`` (present value by default; 0 for a key never booked)."""
