@@ -237,3 +237,87 @@ def test_the_budget_leaves_ordinary_studies_alone() -> None:
     # 1,000 events per position-year, at least a million
     assert event_budget(pumps, pumps.study.horizon_h) == max(
         1_000_000, int(1000 * positions * pumps.study.horizon_h / 8766))
+
+
+# --- more cases of issue 17 ------------------------------------------------------------
+MORE_17 = {
+    "application-factor-inf-toml": (
+        _check(('  speed = "1480 rpm"\n', '  speed = "1480 rpm"\n  application_factor = inf\n')),
+        "position[0].application_factor"),
+    "viscosity-ratio-inf-toml": (
+        _check(('  speed = "1480 rpm"\n',
+                '  speed = "1480 rpm"\n  viscosity_ratio = inf\n  contamination = 0.5\n')),
+        "position[0].viscosity_ratio"),
+    "size-application-factor-huge": (
+        lambda tmp: ["size", "--type", "ball", "--load", "4 kN", "--speed", "1480 rpm", "--life",
+                     "25000 h", "--reliability", "0.9", "--application-factor", "1e300"],
+        "--application-factor"),
+    "load-below-a-millinewton": (_life("--radial-load", "1e-100 N"), "--radial-load"),
+    "horizon-under-an-hour": (_check(('horizon = "2 years"', 'horizon = "30 min"')),
+                              "study.horizon"),
+    "lognormal-lead-time-spread": (
+        _run(('lead_time = "5 d"',
+              'lead_time = { kind = "lognormal", median = "1 h", p90 = "2000 h" }'),
+             extra='\n[stores.B1]\nreorder_point = 0\norder_up_to = 1\n'),
+        "lead_time.p90"),
+    "rating-life-below-a-second": (
+        _check(('dynamic_rating = "30 kN"', 'dynamic_rating = "0.001 N"'),
+               ('radial_load = "3 kN"', 'radial_load = "1e9 N"')),
+        "machine[0].position[0]: the loads and speed give a rating life"),
+    "group-downtime-cost-huge": (
+        _check(extra='\n[[group]]\nid = "g"\nmachines = ["pump"]\nneed = 1\n'
+                     'downtime_per_hour = 1e308\n'),
+        "group[0].downtime_per_hour"),
+}
+
+
+@pytest.mark.parametrize("case", sorted(MORE_17))
+def test_more_issue_17_cases(tmp_path: Path, case: str) -> None:
+    build, words = MORE_17[case]
+    message = expect_one_line_error(build(tmp_path), cwd=tmp_path)
+    assert words in message, message
+
+
+def test_check_shows_a_variants_description(tmp_path: Path) -> None:
+    path = tiny(tmp_path, extra='\n[[variant]]\nname = "longer"\ndescription = "replace later"\n'
+                                'set = { "policy.interval" = "30000 h" }\n')
+    code, out, err = run_cli(["check", str(path)], cwd=tmp_path)
+    assert code == 0, err
+    assert "longer — replace later" in out
+
+
+# --- legal extreme values: a bounded run, never a bare numpy warning ----------------------
+_LOADS = '  radial_load = "3 kN"\n  speed = "1480 rpm"\n'
+EXTREMES = {
+    # the ends of the bounds of fleetsim/bounds.py, alone and together
+    "rating life beyond any horizon": [
+        ('dynamic_rating = "30 kN"', 'dynamic_rating = "1e9 N"'),
+        (_LOADS, '  radial_load = "0.001 N"\n  speed = "0.01 rpm"\n  field_factor = 1000\n')],
+    "steep life far out, aged 1000 years": [
+        (_LOADS, '  life = { shape = 20, scale = "1 s", location = "1000 years" }\n'),
+        ('operating_hours_per_year = "6000 h"',
+         'operating_hours_per_year = "6000 h"\nstarting_age = "1000 years"')],
+    "shallow life of 1000 years": [
+        (_LOADS, '  life = { shape = 0.1, scale = "1000 years" }\n')],
+    "wide lognormal life": [
+        (_LOADS, '  life = { family = "lognormal", shape = 10, scale = "1000 years" }\n')],
+    "fastest shaft, heaviest shocks": [
+        (_LOADS, '  radial_load = "30 N"\n  speed = "1000000 rpm"\n  application_factor = 10\n'
+                 '  rotation_factor = 10\n')],
+    "largest money, a horizon of an hour": [
+        ("failure = 1000", "failure = 1e12\ndiscount_rate = 0.999\nholding_rate = 1"),
+        ('horizon = "2 years"', 'horizon = "1 h"')],
+}
+
+
+@pytest.mark.parametrize("engine", ["des", "vector"])
+@pytest.mark.parametrize("case", sorted(EXTREMES))
+def test_legal_extremes_run_without_bare_numpy_warnings(tmp_path: Path, case: str,
+                                                       engine: str) -> None:
+    path = tiny(tmp_path, EXTREMES[case])
+    code, _, err = run_cli(["run", str(path), "--quiet", "--engine", engine,
+                            "--out", str(tmp_path / "r")], cwd=tmp_path)
+    assert code == 0, err
+    assert "RuntimeWarning" not in err and "encountered" not in err, err
+    for line in err.splitlines():  # every warning names the file and the key it comes from
+        assert line.startswith(f"fleetsim: warning: {path}: machine[0].position[0]"), err

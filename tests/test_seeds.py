@@ -50,6 +50,9 @@ def test_library_entry_points_refuse_a_bad_seed(seed) -> None:
 
 def test_a_scenario_built_in_python_gets_the_same_check() -> None:
     scenario = load_scenario(DEMO)
-    bad = dataclasses.replace(scenario, study=dataclasses.replace(scenario.study, seed=-4))
+    # the frozen Study checks it on construction (fleetsim.bounds, issue 17) ...
+    with pytest.raises(InputError, match=r"^Study.seed: expected a seed .*got -4$"):
+        dataclasses.replace(scenario.study, seed=-4)
+    # ... and run_study checks a seed given to it
     with pytest.raises(InputError, match=r"^seed: expected a seed .*got -4$"):
-        run_study(bad, replications=1, keep_events=False)
+        run_study(scenario, replications=1, seed=-4, keep_events=False)

@@ -300,7 +300,7 @@ def test_two_out_of_three_first_down_event_is_the_binomial_sum() -> None:
     n_groups, reps, horizon = 150, 4, 1_000.0
     sc = make([Machine(f"M{g}", 3, 1.0, 0.0, positions(1, life)) for g in range(n_groups)],
               groups=[Group(f"G{g}", (f"M{g}",), 2) for g in range(n_groups)],
-              crews=Crews(None, Duration.fixed(0.0), Duration.fixed(1e9)), horizon=horizon)
+              crews=Crews(None, Duration.fixed(0.0), Duration.fixed(8_766_000.0)), horizon=horizon)  # 1,000 years
     first = []
     for s in seeds(reps, 71):
         g = simulate(sc, s, keep_events=False).groups.drop(index="fleet")

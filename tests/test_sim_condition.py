@@ -126,7 +126,7 @@ def test_run_to_failure_is_the_limit_of_blind_or_absent_inspection() -> None:
     rtf = fleet(Policy("run-to-failure"), units=3, positions=4, horizon=horizon, pf=pf)
     blind = fleet(Policy("condition", inspection_every_h=200.0, detection=0.0),
                   units=3, positions=4, horizon=horizon, pf=pf)
-    never = fleet(Policy("condition", inspection_every_h=1e9, detection=0.9),
+    never = fleet(Policy("condition", inspection_every_h=8_766_000.0, detection=0.9),
                   units=3, positions=4, horizon=horizon, pf=pf)
     seed = np.random.SeedSequence(99)
     base = simulate(rtf, seed)

@@ -54,6 +54,14 @@ def _hours(v: float) -> str:
     return f"{v:,.0f} h" if abs(v) >= 100 else f"{v:.3g} h"
 
 
+def _life_dict(dist: Any) -> dict[str, Any] | None:
+    """The fitted life as fleetsim's life model, or None when its shape is outside its bounds."""
+    try:
+        return dict(dist.to_life_distribution().as_dict())
+    except InputError:
+        return None
+
+
 def _bounds(lo: float, hi: float, hours: bool) -> str:
     if not (math.isfinite(lo) and math.isfinite(hi)):
         return "[no bounds]"
@@ -252,7 +260,7 @@ def _json(
         "choice_rule": choice.rule,
         "location_test": choice.location.as_dict() if choice.location is not None else None,
         "best_weibull": bw.model if bw else None,
-        "life_distribution": bw.distribution.to_life_distribution().as_dict() if bw else None,
+        "life_distribution": _life_dict(bw.distribution) if bw else None,
         "candidates": cands,
         "not_fitted": [{"model": m, "reason": r} for m, r in result.not_fitted],
         "location_profile": None

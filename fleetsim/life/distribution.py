@@ -25,6 +25,7 @@ A life in these units is multiplied by L10 in hours to give hours.
 from __future__ import annotations
 
 import math
+import numbers
 import warnings
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -33,7 +34,16 @@ from typing import Any
 import numpy as np
 from scipy import special, stats
 
+from fleetsim.bounds import LOGNORMAL_SIGMA, WEIBULL_SHAPE
 from fleetsim.errors import InputError, LifeModelWarning
+
+
+def _positive(value: float, where: str, what: str, zero: bool = False) -> None:
+    """A finite number > 0 (>= 0 with ``zero``), else an :class:`InputError`."""
+    ok = (not isinstance(value, bool) and isinstance(value, numbers.Real)
+          and math.isfinite(value) and (value >= 0 if zero else value > 0))
+    if not ok:
+        raise InputError(where, f"expected {what}, got {value!r}")
 
 
 @dataclass(frozen=True)
@@ -58,12 +68,10 @@ class WeibullShape:
     name: str = "custom"
 
     def __post_init__(self) -> None:
-        if not (self.shape > 0 and math.isfinite(self.shape)):
-            raise InputError("life.shape", f"expected a Weibull shape > 0, got {self.shape}")
-        if not (self.scale > 0 and math.isfinite(self.scale)):
-            raise InputError("life.scale", f"expected a scale > 0, got {self.scale}")
-        if not (self.location >= 0 and math.isfinite(self.location)):
-            raise InputError("life.location", f"expected a location >= 0, got {self.location}")
+        WEIBULL_SHAPE.check(self.shape, "WeibullShape.shape")
+        _positive(self.scale, "WeibullShape.scale", "a scale (in units of L10) > 0")
+        _positive(self.location, "WeibullShape.location", "a location (in units of L10) >= 0",
+                  zero=True)
 
     def life_ratio(self, reliability: float | np.ndarray) -> float | np.ndarray:
         """Life at reliability R as a multiple of L10 (the reliability factor a1)."""
@@ -189,6 +197,14 @@ class LifeDistribution:
         Location (failure-free life) x0 in hours.
     family
         ``"weibull"`` (default) or ``"lognormal"``.
+
+    Raises
+    ------
+    InputError
+        On construction, naming the field (``LifeDistribution.shape``): a
+        Weibull shape outside 0.1–20 or a lognormal σ outside 0.01–10
+        (:mod:`fleetsim.bounds`), a scale not finite and > 0, a location not
+        finite and >= 0.
     """
 
     shape: float
@@ -199,17 +215,14 @@ class LifeDistribution:
     def __post_init__(self) -> None:
         # a plain attribute, not a field: the engines ask it at every draw
         object.__setattr__(self, "_weibull", self.family == "weibull")
-        if self.family == "weibull":
-            WeibullShape(self.shape, self.location_h, self.scale_h)  # validates
-            return
-        if self.family != "lognormal":
-            raise InputError("life.family", f"expected 'weibull' or 'lognormal', got {self.family!r}")
-        for name, value, low in (("shape", self.shape, "> 0"), ("scale", self.scale_h, "> 0 h"),
-                                 ("location", self.location_h, ">= 0 h")):
-            ok = math.isfinite(value) and (value >= 0 if name == "location" else value > 0)
-            if not ok:
-                raise InputError(f"life.{name}", f"expected a finite lognormal {name} {low}, "
-                                                 f"got {value}")
+        if self.family not in ("weibull", "lognormal"):
+            raise InputError("LifeDistribution.family",
+                             f"expected 'weibull' or 'lognormal', got {self.family!r}")
+        shape = WEIBULL_SHAPE if self.family == "weibull" else LOGNORMAL_SIGMA
+        shape.check(self.shape, "LifeDistribution.shape")
+        _positive(self.scale_h, "LifeDistribution.scale_h", "a finite scale > 0 h")
+        _positive(self.location_h, "LifeDistribution.location_h", "a finite location >= 0 h",
+                  zero=True)
 
     @property
     def is_weibull(self) -> bool:

@@ -78,5 +78,8 @@ def life_modification_factor(
         power = -9.3
     if inner <= 0.0:
         return A_ISO_MAX
-    value = 0.1 * inner**power
+    try:
+        value = 0.1 * inner**power
+    except OverflowError:  # inner just above 0: a_ISO is at its cap
+        return A_ISO_MAX
     return float(min(value, A_ISO_MAX)) if math.isfinite(value) else A_ISO_MAX

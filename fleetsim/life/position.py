@@ -35,6 +35,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
+from fleetsim.bounds import check_force
 from fleetsim.errors import InputError, LifeModelWarning
 from fleetsim.life.arrangement import Arrangement, bearing_loads, series_rating_life
 from fleetsim.life.distribution import LifeDistribution, WeibullShape, life_shape
@@ -77,12 +78,12 @@ class BearingRating:
     factors: LoadFactors | None = None
 
     def __post_init__(self) -> None:
-        if not (self.dynamic_rating_N > 0 and math.isfinite(self.dynamic_rating_N)):
-            raise InputError("dynamic rating", f"expected C > 0, got {self.dynamic_rating_N} N")
-        if self.static_rating_N is not None and not self.static_rating_N > 0:
-            raise InputError("static rating", f"expected C0 > 0, got {self.static_rating_N} N")
-        if self.fatigue_limit_N is not None and not self.fatigue_limit_N > 0:
-            raise InputError("fatigue limit", f"expected Cu > 0, got {self.fatigue_limit_N} N")
+        # the force bounds of fleetsim.bounds (1 mN to 1e9 N): L10 = (C/P)^p stays finite
+        check_force(self.dynamic_rating_N, "dynamic rating", positive=True)
+        if self.static_rating_N is not None:
+            check_force(self.static_rating_N, "static rating", positive=True)
+        if self.fatigue_limit_N is not None:
+            check_force(self.fatigue_limit_N, "fatigue limit", positive=True)
 
 
 @dataclass(frozen=True)

@@ -24,7 +24,13 @@ def rating_life_Mrev(dynamic_rating_N: float, load_N: float, life_exponent: floa
         raise InputError("dynamic rating", f"expected C > 0, got {dynamic_rating_N:g} N")
     if load_N <= 0:
         raise InputError("equivalent load", f"expected P > 0, got {load_N:g} N")
-    return (dynamic_rating_N / load_N) ** life_exponent
+    try:
+        return (dynamic_rating_N / load_N) ** life_exponent
+    except OverflowError:
+        raise InputError(
+            "equivalent load",
+            f"C/P = {dynamic_rating_N:g} N / {load_N:g} N gives a rating life beyond any float",
+        ) from None
 
 
 def revolutions_to_hours(life_Mrev: float, speed_rpm: float) -> float:
@@ -123,7 +129,12 @@ def duty_cycle(
         )
         loads.append(eq)
         revs = st.speed_rpm * st.share
-        num += eq.load_N**p * revs
+        try:
+            num += eq.load_N**p * revs
+        except OverflowError:
+            raise InputError(
+                f"duty[{i}].radial_load", f"the equivalent load {eq.load_N:g} N is out of range"
+            ) from None
         den += revs
         time += st.share
     return DutyResult(load_N=(num / den) ** (1.0 / p), speed_rpm=den / time, steps=tuple(loads))

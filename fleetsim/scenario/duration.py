@@ -8,12 +8,20 @@ from typing import Literal
 
 import numpy as np
 
+from fleetsim.bounds import MAX_LOGNORMAL_SPREAD, WEIBULL_SHAPE, check_time
+from fleetsim.errors import InputError
+
 DurationKind = Literal["fixed", "exponential", "lognormal", "weibull"]
 
 
 @dataclass(frozen=True)
 class Duration:
     """A random (or fixed) duration in hours: repair times, lead times, P-F intervals.
+
+    Every value is checked on construction against :mod:`fleetsim.bounds`
+    (times 0 or 1 s to 1,000 years, a lognormal p90 at most 1,000 × its
+    median, a Weibull shape from 0.1 to 20): an :class:`~fleetsim.errors.InputError`
+    names the field (``Duration.shape``).
 
     Attributes
     ----------
@@ -33,6 +41,27 @@ class Duration:
     value_h: float
     p90_h: float | None = None
     shape: float | None = None
+
+    def __post_init__(self) -> None:
+        kinds = ("fixed", "exponential", "lognormal", "weibull")
+        if self.kind not in kinds:
+            raise InputError("Duration.kind", f"expected one of {', '.join(kinds)}, got {self.kind!r}")
+        check_time(self.value_h, "Duration.value_h", positive=self.kind != "fixed")
+        if self.kind == "lognormal":
+            if self.p90_h is None:
+                raise InputError("Duration.p90_h", "a lognormal duration needs its p90, got None")
+            p90 = check_time(self.p90_h, "Duration.p90_h", positive=True)
+            if not p90 > self.value_h:
+                raise InputError("Duration.p90_h",
+                                 f"expected p90 > median ({self.value_h:g} h), got {p90:g} h")
+            if p90 > MAX_LOGNORMAL_SPREAD * self.value_h:
+                raise InputError("Duration.p90_h",
+                                 f"expected p90 at most {MAX_LOGNORMAL_SPREAD:g} × the median "
+                                 f"({self.value_h:g} h), got {p90:g} h")
+        if self.kind == "weibull":
+            if self.shape is None:
+                raise InputError("Duration.shape", "a Weibull duration needs its shape, got None")
+            WEIBULL_SHAPE.check(self.shape, "Duration.shape")
 
     @classmethod
     def fixed(cls, hours: float) -> Duration:

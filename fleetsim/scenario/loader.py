@@ -44,7 +44,6 @@ from typing import Any
 
 from fleetsim.bounds import (
     MAX_REPLICATIONS,
-    MIN_HORIZON_H,
     MONEY,
     VISCOSITY_RATIO,
     WEIBULL_SHAPE,
@@ -282,21 +281,22 @@ def _study(t: Table | None, source: str) -> Study:
     stem = Path(source).stem if not source.startswith("<") else "scenario"
     name = t.text("name", stem or "scenario")
     horizon = t.quantity("horizon", "time", positive=True)
-    if horizon < MIN_HORIZON_H:
-        raise t.error("horizon", f"expected a horizon of at least {MIN_HORIZON_H:g} h, "
-                                 f"got {show(t.raw('horizon'))}")
     reps = t.integer(
         "replications", 100, minimum=1, maximum=MAX_REPLICATIONS, what="a number of replications"
     )
     seed = check_seed(t.raw("seed", 0, SEED_EXPECTED), where=t.where("seed"))
-    return Study(name=name, horizon_h=horizon, replications=reps, seed=seed)
+    return t.build(Study, {"horizon_h": "horizon", "replications": "replications", "seed": "seed"},
+                   name=name, horizon_h=horizon, replications=reps, seed=seed)
 
 
 def _costs(t: Table | None) -> Costs:
     if t is None:
         return Costs()
     money: NumberOptions = {"within": MONEY}
-    return Costs(
+    keys = {"holding_rate_per_year": "holding_rate", "discount_rate_per_year": "discount_rate"}
+    return t.build(
+        Costs,
+        {k: k for k in COSTS_KEYS} | keys,
         currency=t.text("currency", "EUR"),
         planned_replacement=t.number("planned_replacement", 0.0, **money),
         failure=t.number("failure", 0.0, **money),
@@ -383,7 +383,10 @@ def _bearings(
                         f"apply only to angular-contact-ball and tapered-roller bearings; a "
                         f"{kind.value} bearing takes them from the ISO tables",
                     )
-        bearings[bid] = Bearing(
+        bearings[bid] = t.build(
+            Bearing,
+            {"dynamic_rating_N": "dynamic_rating", "static_rating_N": "static_rating",
+             "fatigue_limit_N": "fatigue_limit", "price": "price", "bore_mm": "bore_mm"},
             id=bid,
             bearing_type=kind,
             dynamic_rating_N=t.quantity("dynamic_rating", "force", positive=True),
@@ -445,9 +448,11 @@ def _groups(tables: list[Table], machines: tuple[Machine, ...]) -> tuple[Group, 
         hold = t.raw("hold_planned_work", False, what="true or false")
         if not isinstance(hold, bool):
             raise t.error("hold_planned_work", f"expected true or false, got {show(hold)}")
-        groups.append(Group(id=gid, machines=tuple(members), need=need, hold_planned_work=hold,
-                            downtime_per_hour=t.number("downtime_per_hour", 0.0, minimum=0.0,
-                                                       what="a cost per hour the group is down")))
+        groups.append(t.build(
+            Group, {"need": "need", "downtime_per_hour": "downtime_per_hour"},
+            id=gid, machines=tuple(members), need=need, hold_planned_work=hold,
+            downtime_per_hour=t.number("downtime_per_hour", 0.0,
+                                       what="a cost per hour the group is down")))
     return tuple(groups)
 
 
@@ -486,7 +491,9 @@ def _stores(root: Table, bearings: dict[str, Bearing], lead: dict[str, Any]) -> 
         premium = t.number("emergency_premium", 0.0, within=MONEY)
         if emergency is None and t.has("emergency_premium"):
             raise t.error("emergency_premium", "an emergency premium needs emergency_lead_time")
-        stores[bid] = Stock(
+        stores[bid] = t.build(
+            Stock,
+            {k: k for k in STOCK_KEYS},
             initial=initial,
             reorder_point=s,
             order_up_to=big_s,
@@ -500,7 +507,9 @@ def _stores(root: Table, bearings: dict[str, Bearing], lead: dict[str, Any]) -> 
 def _crews(t: Table | None) -> Crews:
     if t is None:
         return Crews()
-    return Crews(
+    return t.build(
+        Crews,
+        {k: k for k in CREW_KEYS},
         count=t.integer("count", None, minimum=1, what="a number of crews"),
         planned_repair=t.duration("planned_repair", Crews().planned_repair),
         unplanned_repair=t.duration("unplanned_repair", Crews().unplanned_repair),

@@ -15,10 +15,10 @@ from dataclasses import dataclass, field
 from fleetsim.bounds import (
     APPLICATION_FACTOR,
     FIELD_FACTOR,
-    LOGNORMAL_SIGMA,
+    MAX_COUNT,
+    MIN_TIME_H,
     ROTATION_FACTOR,
     VISCOSITY_RATIO,
-    WEIBULL_SHAPE,
 )
 from fleetsim.errors import InputError
 from fleetsim.life import (
@@ -34,9 +34,6 @@ from fleetsim.life import (
 from fleetsim.scenario.model import HOURS_PER_YEAR, Bearing, Duration, Machine, Policy, Position
 from fleetsim.scenario.policies import read_policy
 from fleetsim.scenario.reader import Table, join, show, suggest
-
-#: Upper limit on ``count`` of machines and positions (a guard against typos).
-MAX_COUNT = 100_000
 
 MACHINE_KEYS = ("id", "count", "operating_hours_per_year", "starting_age", "ages", "position")
 POSITION_KEYS = (
@@ -132,7 +129,10 @@ def read_machines(
                 pos_seen[pos.id] = p.path
                 positions.append(pos)
         machines.append(
-            Machine(
+            t.build(
+                Machine,
+                {"count": "count", "operating_share": "operating_hours_per_year",
+                 "starting_age_h": "starting_age", "positions": "position"},
                 id=mid,
                 count=count,
                 operating_share=min(hours / HOURS_PER_YEAR, 1.0),
@@ -205,8 +205,11 @@ def _positions(
 
 def _field_life(t: Table) -> LifeDistribution:
     family = t.text("family", "weibull", choices=("weibull", "lognormal"))
-    return LifeDistribution(
-        shape=t.number("shape", within=WEIBULL_SHAPE if family == "weibull" else LOGNORMAL_SIGMA),
+    return t.build(
+        LifeDistribution,
+        {"shape": "shape", "scale_h": "scale", "location_h": "location"},
+        shape=t.number("shape", what="a Weibull shape" if family == "weibull" else
+                       "a lognormal σ of ln(life − location)"),
         scale_h=t.quantity("scale", "time", positive=True),
         location_h=t.quantity("location", "time", 0.0),
         family=family,
@@ -325,6 +328,13 @@ def _derive(t: Table, bearing: Bearing, bearing_path: str, defaults: LifeDefault
     if not (math.isfinite(result.rating_life_h) and result.rating_life_h > 0):
         raise t.error(
             None, f"the rating life is not a positive number ({result.rating_life_h:g} h)"
+        )
+    if result.distribution.scale_h < MIN_TIME_H:
+        # lives far below a second: an event storm at best, and their powers overflow
+        raise t.error(
+            None,
+            f"the loads and speed give a rating life of {result.rating_life_h:.3g} h, below "
+            "1 s; check the loads, speed and the bearing's dynamic_rating",
         )
     return result
 

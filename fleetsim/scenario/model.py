@@ -29,6 +29,19 @@ from typing import Literal
 
 import numpy as np
 
+from fleetsim.bounds import (
+    FIELD_FACTOR,
+    MAX_COUNT,
+    MAX_REPLICATIONS,
+    MONEY,
+    PROBABILITY,
+    SHARE,
+    Range,
+    check_count,
+    check_force,
+    check_horizon,
+    check_time,
+)
 from fleetsim.errors import InputError
 from fleetsim.life import BearingType, LifeDistribution, LoadFactors, PositionLife
 from fleetsim.scenario.duration import Duration
@@ -47,12 +60,12 @@ class Study:
     seed: int
 
     def __post_init__(self) -> None:
-        if not (self.horizon_h > 0 and math.isfinite(self.horizon_h)):
-            raise InputError("study.horizon", f"expected a finite horizon > 0 h, got {self.horizon_h}")
-        if isinstance(self.replications, bool) or not isinstance(self.replications, int | np.integer) \
-                or self.replications < 1:
-            raise InputError("study.replications",
-                             f"expected a whole number of replications >= 1, got {self.replications!r}")
+        from fleetsim.seed import check_seed
+
+        check_horizon(self.horizon_h, "Study.horizon_h")
+        check_count(self.replications, "Study.replications", 1, MAX_REPLICATIONS,
+                    "a number of replications")
+        check_seed(self.seed, "Study.seed")
 
 
 @dataclass(frozen=True)
@@ -86,6 +99,17 @@ class Costs:
     holding_rate_per_year: float = 0.0
     discount_rate_per_year: float = 0.0
 
+    def __post_init__(self) -> None:
+        for name in ("planned_replacement", "failure", "downtime_per_hour", "inspection"):
+            MONEY.check(getattr(self, name), f"Costs.{name}")
+        Range(0.0, 1.0, "a share of part value per year").check(
+            self.holding_rate_per_year, "Costs.holding_rate_per_year")
+        rate = Range(0.0, 1.0, "a discount rate per year").check(
+            self.discount_rate_per_year, "Costs.discount_rate_per_year")
+        if rate >= 1.0:
+            raise InputError("Costs.discount_rate_per_year",
+                             f"expected a discount rate per year below 1, got {rate:g}")
+
 
 @dataclass(frozen=True)
 class Bearing:
@@ -115,6 +139,13 @@ class Bearing:
     price: float = 0.0
     factors: LoadFactors | None = None
     bore_mm: float | None = None
+
+    def __post_init__(self) -> None:
+        check_force(self.dynamic_rating_N, "Bearing.dynamic_rating_N", positive=True)
+        for name in ("static_rating_N", "fatigue_limit_N"):
+            if getattr(self, name) is not None:
+                check_force(getattr(self, name), f"Bearing.{name}", positive=True)
+        MONEY.check(self.price, "Bearing.price")
 
 
 @dataclass(frozen=True)
@@ -174,36 +205,28 @@ class Policy:
     def __post_init__(self) -> None:
         kinds = ("run-to-failure", "age", "block", "condition")
         if self.kind not in kinds:
-            raise InputError("policy.kind", f"expected one of {', '.join(kinds)}, got {self.kind!r}")
+            raise InputError("Policy.kind", f"expected one of {', '.join(kinds)}, got {self.kind!r}")
         if self.kind in ("age", "block"):
-            if self.interval_h is None or not (self.interval_h > 0 and math.isfinite(self.interval_h)):
-                raise InputError("policy.interval",
-                                 f"a {self.kind} policy needs a finite interval > 0 h, "
-                                 f"got {self.interval_h}")
+            if self.interval_h is None:
+                raise InputError("Policy.interval_h",
+                                 f"a {self.kind} policy needs an interval > 0 h, got None")
+            check_time(self.interval_h, "Policy.interval_h", positive=True)
         if self.block_scope not in ("machine", "position"):
-            raise InputError("policy.block_scope",
+            raise InputError("Policy.block_scope",
                              f"expected 'machine' or 'position', got {self.block_scope!r}")
         if self.kind == "condition":
-            every = self.inspection_every_h
-            if every is None or not (every > 0 and math.isfinite(every)):
-                raise InputError("policy.inspection_every",
-                                 f"a condition policy needs a finite inspection interval > 0 h, "
-                                 f"got {every}")
-        if not 0.0 <= self.detection <= 1.0:
-            raise InputError("policy.detection",
-                             f"expected a probability between 0 and 1, got {self.detection}")
-        if not (self.respond_within_h >= 0 and math.isfinite(self.respond_within_h)):
-            raise InputError("policy.respond_within",
-                             f"expected a finite response time >= 0 h, got {self.respond_within_h}")
+            if self.inspection_every_h is None:
+                raise InputError("Policy.inspection_every_h",
+                                 "a condition policy needs an inspection interval > 0 h, got None")
+            check_time(self.inspection_every_h, "Policy.inspection_every_h", positive=True)
+        PROBABILITY.check(self.detection, "Policy.detection")
+        check_time(self.respond_within_h, "Policy.respond_within_h")
         share = self.opportunistic_share
-        if share is not None and not (share >= 0.0 and math.isfinite(share)):
-            raise InputError("policy.opportunistic_share",
-                             f"expected a finite share of the interval >= 0, got {share}")
-        skip = self.skip_younger_than_h
-        if not (skip >= 0 and math.isfinite(skip)):
-            raise InputError("policy.skip_younger_than", f"expected a finite age >= 0 h, got {skip}")
+        if share is not None:
+            SHARE.check(share, "Policy.opportunistic_share")
+        skip = check_time(self.skip_younger_than_h, "Policy.skip_younger_than_h")
         if skip > 0 and self.kind != "block":
-            raise InputError("policy.skip_younger_than",
+            raise InputError("Policy.skip_younger_than_h",
                              f"applies to block policies only, not {self.kind!r}")
 
     @property
@@ -252,6 +275,17 @@ class Position:
     field_factor: float = 1.0
     pf_interval: Duration | None = None
 
+    def __post_init__(self) -> None:
+        where = f"Position {self.id!r}"
+        if not isinstance(self.life, LifeDistribution):
+            raise InputError(f"{where}.life", f"expected a LifeDistribution, got {self.life!r}")
+        if not isinstance(self.policy, Policy):
+            raise InputError(f"{where}.policy", f"expected a Policy, got {self.policy!r}")
+        FIELD_FACTOR.check(self.field_factor, f"{where}.field_factor")
+        if self.pf_interval is not None and not isinstance(self.pf_interval, Duration):
+            raise InputError(f"{where}.pf_interval",
+                             f"expected a Duration or None, got {self.pf_interval!r}")
+
 
 @dataclass(frozen=True)
 class Machine:
@@ -288,30 +322,30 @@ class Machine:
     ages_source: str | None = None
 
     def __post_init__(self) -> None:
-        where = f"machine {self.id!r}"
-        if isinstance(self.count, bool) or not isinstance(self.count, int | np.integer) or self.count < 1:
-            raise InputError(f"{where}.count", f"expected at least 1 unit, got {self.count!r}")
-        if not 0.0 <= self.operating_share <= 1.0:
-            raise InputError(f"{where}.operating_hours_per_year",
-                             f"expected an operating share between 0 and 1, got {self.operating_share}")
-        if not (self.starting_age_h >= 0 and math.isfinite(self.starting_age_h)):
-            raise InputError(f"{where}.starting_age",
-                             f"expected a finite age >= 0 h, got {self.starting_age_h}")
+        where = f"Machine {self.id!r}"
+        check_count(self.count, f"{where}.count", 1, MAX_COUNT, "a number of units")
+        SHARE.check(self.operating_share, f"{where}.operating_share")
+        check_time(self.starting_age_h, f"{where}.starting_age_h")
         if not self.positions:
-            raise InputError(f"{where}.position", "expected at least one bearing position")
+            raise InputError(f"{where}.positions", "expected at least one bearing position")
         ages = self.position_ages_h
         if ages is None:
             return
         n_pos = len(self.positions)
         if len(ages) != self.count or any(len(row) != n_pos for row in ages):
             raise InputError(
-                f"machine {self.id!r}.position_ages_h",
+                f"{where}.position_ages_h",
                 f"expected {self.count} rows (units) of {n_pos} ages (positions)",
             )
-        if not all(math.isfinite(a) and a >= 0 for row in ages for a in row):
-            raise InputError(
-                f"machine {self.id!r}.position_ages_h", "expected finite ages >= 0 h"
-            )
+        # finite and >= 0 only: the stationary ages of the policy view
+        # (fleetsim.study.policy_view) may lie beyond 1,000 years
+        a = np.array(ages, dtype=float).reshape(self.count, n_pos)
+        with np.errstate(invalid="ignore"):
+            ok = np.isfinite(a) & (a >= 0)
+        if not ok.all():
+            u, k = np.argwhere(~ok)[0]
+            raise InputError(f"{where}.position_ages_h[{u}][{k}]",
+                             f"expected a finite age >= 0 h, got {a[u, k]:g} h")
 
     def unit_ids(self) -> list[str]:
         """Names of the machine's units."""
@@ -357,11 +391,9 @@ class Group:
     downtime_per_hour: float = 0.0
 
     def __post_init__(self) -> None:
-        if isinstance(self.need, bool) or not isinstance(self.need, int | np.integer) or self.need < 1:
-            raise InputError(f"group {self.id!r}.need", f"expected at least 1 unit, got {self.need!r}")
-        if not (self.downtime_per_hour >= 0 and math.isfinite(self.downtime_per_hour)):
-            raise InputError(f"group {self.id!r}.downtime_per_hour",
-                             f"expected a finite cost >= 0 per hour, got {self.downtime_per_hour}")
+        check_count(self.need, f"Group {self.id!r}.need", 1, MAX_COUNT * 1000,
+                    "a number of units")
+        MONEY.check(self.downtime_per_hour, f"Group {self.id!r}.downtime_per_hour")
 
 
 @dataclass(frozen=True)
@@ -394,10 +426,19 @@ class Stock:
     emergency_premium: float = 0.0
 
     def __post_init__(self) -> None:
-        if not (-1 <= self.reorder_point < self.order_up_to) or self.initial < 0:
-            raise InputError("stores",
-                             "expected initial >= 0 and -1 <= reorder point < order-up-to, got "
-                             f"{self.initial}, {self.reorder_point}, {self.order_up_to}")
+        most = 1_000_000_000
+        check_count(self.initial, "Stock.initial", 0, most, "a number of bearings")
+        check_count(self.reorder_point, "Stock.reorder_point", -1, most, "a number of bearings")
+        check_count(self.order_up_to, "Stock.order_up_to", 0, most, "a number of bearings")
+        if not self.reorder_point < self.order_up_to:
+            raise InputError("Stock.reorder_point",
+                             f"expected reorder point s < order-up-to S, got s = "
+                             f"{self.reorder_point} and S = {self.order_up_to}")
+        for name in ("lead_time", "emergency_lead_time"):
+            value = getattr(self, name)
+            if not isinstance(value, Duration) and not (value is None and name != "lead_time"):
+                raise InputError(f"Stock.{name}", f"expected a Duration, got {value!r}")
+        MONEY.check(self.emergency_premium, "Stock.emergency_premium")
 
 
 @dataclass(frozen=True)
@@ -409,9 +450,12 @@ class Crews:
     unplanned_repair: Duration = field(default_factory=lambda: Duration.fixed(0.0))
 
     def __post_init__(self) -> None:
-        if self.count is not None and self.count < 1:
-            raise InputError("crews.count",
-                             f"expected at least 1 crew (or none for unlimited), got {self.count}")
+        if self.count is not None:
+            check_count(self.count, "Crews.count", 1, 1_000_000, "a number of crews")
+        for name in ("planned_repair", "unplanned_repair"):
+            if not isinstance(getattr(self, name), Duration):
+                raise InputError(f"Crews.{name}",
+                                 f"expected a Duration, got {getattr(self, name)!r}")
 
 
 @dataclass(frozen=True)

@@ -23,6 +23,14 @@ from typing import Any
 from fleetsim.scenario.model import Policy
 from fleetsim.scenario.reader import Table
 
+#: Policy fields and the keys they are read from.
+_FIELD_KEYS = {
+    "kind": "kind", "interval_h": "interval", "block_scope": "block_scope",
+    "inspection_every_h": "inspection_every", "detection": "detection",
+    "respond_within_h": "respond_within", "opportunistic_share": "opportunistic_share",
+    "skip_younger_than_h": "skip_younger_than",
+}
+
 #: Keys each policy kind takes.
 POLICY_KEYS: dict[str, tuple[str, ...]] = {
     "run-to-failure": ("kind",),
@@ -63,7 +71,8 @@ def read_policy(data: Any, path: str, source: str) -> Policy:
         share = t.probability("opportunistic_share", None, what="a share of the interval")
         if share is not None and share == 0.0:
             raise t.error("opportunistic_share", "expected a share of the interval > 0, got 0")
-        return Policy(
+        return t.build(
+            Policy, _FIELD_KEYS,
             kind=kind,
             interval_h=t.quantity("interval", "time", positive=True),
             block_scope=t.text("block_scope", "machine", choices=("machine", "position")),
@@ -76,7 +85,8 @@ def read_policy(data: Any, path: str, source: str) -> Policy:
             "missing required key 'inspection_every': a condition policy needs its "
             "inspection interval, e.g. inspection_every = '30 d'",
         )
-    return Policy(
+    return t.build(
+        Policy, _FIELD_KEYS,
         kind="condition",
         inspection_every_h=t.quantity("inspection_every", "time", positive=True),
         detection=t.probability("detection", 1.0, what="a detection probability"),

@@ -16,14 +16,15 @@ import json
 import math
 import re
 from collections.abc import Iterable, Mapping
-from typing import Any, TypedDict
+from typing import Any, TypedDict, TypeVar
 
-from fleetsim.bounds import MAX_LOGNORMAL_SPREAD, WEIBULL_SHAPE, Range
+from fleetsim.bounds import Range
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Duration
 from fleetsim.units import Kind, parse_quantity
 
 _MISSING: Any = object()
+_T = TypeVar("_T")
 _BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
 
 _UNIT_NAMES = {"force": "N", "speed": "rpm", "time": "h"}
@@ -125,6 +126,26 @@ class Table:
     def error(self, key: str | None, expected: str) -> InputError:
         """An :class:`InputError` at ``key`` of this table."""
         return InputError(self.where(key), expected)
+
+    def build(self, cls: type[_T], keys: Mapping[str, str], /, **fields: Any) -> _T:
+        """``cls(**fields)``: a frozen model object that checks its own bounds.
+
+        The object raises :class:`InputError` naming its field
+        (``"Duration.p90_h"``, ``"Machine 'pump'.count"``); ``keys`` maps field
+        names to this table's keys, so the error names the key path in the
+        file instead (one check, written once in the model, read from here).
+        A field not in ``keys`` is named after the table's path.
+        """
+        try:
+            return cls(**fields)
+        except InputError as exc:
+            head, _, rest = exc.where.partition(".")
+            if not head.startswith(cls.__name__) or not rest:
+                raise
+            name = re.split(r"[.\[]", rest, maxsplit=1)[0]
+            if name in keys:
+                raise self.error(keys[name], exc.expected) from None
+            raise self.error(None, f"{rest}: {exc.expected}") from None
 
     def has(self, key: str) -> bool:
         """True when the key is present."""
@@ -293,23 +314,18 @@ class Table:
         kind = head.text("kind", choices=DURATION_KEYS)
         t = Table(value, path, self.source, DURATION_KEYS[kind])
         if kind == "fixed":
-            return Duration.fixed(t.quantity("value", "time", positive=positive))
+            return t.build(Duration, {"value_h": "value"}, kind="fixed",
+                           value_h=t.quantity("value", "time", positive=positive))
         if kind == "exponential":
-            return Duration("exponential", t.quantity("mean", "time", positive=True))
+            return t.build(Duration, {"value_h": "mean"}, kind="exponential",
+                           value_h=t.quantity("mean", "time", positive=True))
         if kind == "lognormal":
-            median = t.quantity("median", "time", positive=True)
-            p90 = t.quantity("p90", "time", positive=True)
-            if not p90 > median:
-                raise t.error("p90", f"expected p90 > median ({median:g} h), got {p90:g} h")
-            if p90 > MAX_LOGNORMAL_SPREAD * median:
-                raise t.error(
-                    "p90",
-                    f"expected p90 at most {MAX_LOGNORMAL_SPREAD:g} × the median "
-                    f"({median:g} h), got {p90:g} h",
-                )
-            return Duration("lognormal", median, p90_h=p90)
-        shape = t.number("shape", within=WEIBULL_SHAPE)
-        return Duration("weibull", t.quantity("scale", "time", positive=True), shape=shape)
+            return t.build(Duration, {"value_h": "median", "p90_h": "p90"}, kind="lognormal",
+                           value_h=t.quantity("median", "time", positive=True),
+                           p90_h=t.quantity("p90", "time", positive=True))
+        return t.build(Duration, {"value_h": "scale", "shape": "shape"}, kind="weibull",
+                       value_h=t.quantity("scale", "time", positive=True),
+                       shape=t.number("shape", what="a Weibull shape"))
 
     # --- nested tables --------------------------------------------------------------
     def table(self, key: str, allowed: Iterable[str], *, required: bool = False) -> Table | None:

@@ -47,6 +47,7 @@ from typing import Any
 
 import numpy as np
 
+from fleetsim.bounds import MAX_TIME_H
 from fleetsim.errors import InputError
 from fleetsim.life import LifeDistribution
 from fleetsim.plan.lifelike import integrated_reliability
@@ -177,7 +178,10 @@ def policy_window(scenario: Scenario, horizon_h: float | None = None) -> PolicyW
     if blocks:
         t_b = max(blocks)
         warmup = t_b * max(1, math.ceil(warmup / t_b - 1e-9))
-        horizon = t_b * max(1, round(horizon / t_b))
+        blocks_in = max(1, round(horizon / t_b))
+        if blocks_in * t_b > MAX_TIME_H:  # within the horizon's bound (t_b is within it)
+            blocks_in = max(1, math.floor(MAX_TIME_H / t_b))
+        horizon = t_b * blocks_in
         exact = exact and len(set(blocks)) == 1
         reason += (f"; block positions start new after a block, warm-up and window are "
                    f"whole blocks of {t_b:,.0f} h")
