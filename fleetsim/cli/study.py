@@ -125,6 +125,11 @@ def _workers(n: int) -> int:
     return n or (os.cpu_count() or 1)
 
 
+#: The first variant's event log, written there as the replication runs (then copied
+#: into the report's events.csv).
+EVENTS_NAME = "events-0.csv"
+
+
 def _run_variants(variants: Sequence[Variant], *, replications: int | None, seed: int | None,
                   engine: str | None, workers: int, cluster: Any, quiet: bool, resume: bool,
                   out_dir: Path) -> tuple[list[StudyResult], Path]:
@@ -145,6 +150,7 @@ def _run_variants(variants: Sequence[Variant], *, replications: int | None, seed
                     v.scenario, replications=replications, seed=seed, engine=engine,
                     workers=workers, cluster=dask, progress=bar, label=v.name,
                     checkpoint=ck_dir / f"variant-{k}.jsonl", keep_events=(k == 0),
+                    events_file=ck_dir / EVENTS_NAME if k == 0 else None,
                 ))
             finally:
                 bar.close()
@@ -183,7 +189,7 @@ def _finish(results: list[StudyResult], decision: Decision, out_dir: Path, ck_di
         extra["cost_basis"] = discounted
     paths = write_report(results, out_dir, title=title, extra=extra,
                          recommended_stock=stock or None, decision=decision, **report_kw)
-    for f in ck_dir.glob("*.jsonl"):
+    for f in [*ck_dir.glob("*.jsonl"), *ck_dir.glob(EVENTS_NAME)]:
         f.unlink()
     try:
         ck_dir.rmdir()

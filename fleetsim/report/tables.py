@@ -27,6 +27,8 @@ formula injection through CSV files (OWASP, from memory).
 
 from __future__ import annotations
 
+import csv
+import io
 import textwrap
 from collections.abc import Sequence
 from pathlib import Path
@@ -36,6 +38,7 @@ import pandas as pd
 from fleetsim import numbers as fmt
 from fleetsim.report.headline import Headline, headline_figures
 from fleetsim.report.text import variant_labels
+from fleetsim.sim.event_log import EVENT_COLUMNS, spreadsheet_text
 from fleetsim.study.result import StudyResult
 from fleetsim.study.year_plan import year_plan
 
@@ -223,18 +226,41 @@ def _with_variant(frame: pd.DataFrame, label: str) -> pd.DataFrame:
     return out
 
 
-_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
-
-
 def spreadsheet_safe(frame: pd.DataFrame) -> pd.DataFrame:
     """A copy of ``frame`` whose text cells no spreadsheet reads as formulas (see above)."""
     out = frame.copy()
     for col in out.columns:
         if pd.api.types.is_object_dtype(out[col]) or pd.api.types.is_string_dtype(out[col]):
-            out[col] = out[col].map(
-                lambda v: "'" + v if isinstance(v, str) and v.startswith(_FORMULA_START) else v
-            )
+            out[col] = out[col].map(lambda v: spreadsheet_text(v) if isinstance(v, str) else v)
     return out
+
+
+def write_events(results: Sequence[StudyResult], labels: Sequence[str], path: Path) -> bool:
+    """Write the event logs of ``results`` (in memory or in files) to one CSV; False if none.
+
+    A log written to a file during the run (``events_file``) is copied line by
+    line with its variant in front, so memory stays bounded however long it is.
+    """
+    logs = [(r, lab) for r, lab in zip(results, labels, strict=True)
+            if r.events_file is not None or (r.events is not None and not r.events.empty)]
+    if not logs:
+        return False
+    with path.open("w", encoding="utf-8", newline="") as out:
+        out.write("variant," + ",".join(EVENT_COLUMNS) + "\n")
+        for r, lab in logs:
+            cell = io.StringIO()
+            csv.writer(cell, lineterminator="").writerow([spreadsheet_text(lab)])
+            prefix = cell.getvalue() + ","
+            if r.events_file is not None:
+                with open(r.events_file, encoding="utf-8", newline="") as src:
+                    next(src, None)  # its header
+                    for line in src:
+                        out.write(prefix + line)
+            else:
+                assert r.events is not None
+                spreadsheet_safe(_with_variant(r.events, lab)).to_csv(
+                    out, index=False, header=False, lineterminator="\n")
+    return True
 
 
 def write_tables(
@@ -260,11 +286,6 @@ def write_tables(
             _with_variant(r.summary.rename_axis("figure").reset_index(), lab)
             for r, lab in zip(results, labels, strict=True)
         ],
-        "events": [
-            _with_variant(r.events, lab)
-            for r, lab in zip(results, labels, strict=True)
-            if r.events is not None and not r.events.empty
-        ],
         "year_plan": [
             _with_variant(plan, lab)
             for r, lab in zip(results, labels, strict=True)
@@ -278,6 +299,8 @@ def write_tables(
             spreadsheet_safe(pd.concat(parts, ignore_index=True)).to_csv(
                 paths[name], index=False, lineterminator="\n"
             )
+    if write_events(results, labels, directory / "events.csv"):
+        paths["events"] = directory / "events.csv"
     paths["headline"] = directory / "headline.csv"
     spreadsheet_safe(headline_table(results, labels)).to_csv(
         paths["headline"], index=False, lineterminator="\n"

@@ -12,7 +12,9 @@ simulated is [0, horizon)).
 
 from __future__ import annotations
 
+import dataclasses
 import math
+from os import PathLike
 from typing import Any
 
 import numpy as np
@@ -23,6 +25,7 @@ from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
 from fleetsim.sim.budget import event_budget, run_within_budget
 from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import discount_for
+from fleetsim.sim.event_log import EventFile
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.policies import start_calendar_policies
@@ -66,6 +69,7 @@ def simulate(
     horizon_h: float | None = None,
     keep_events: bool = True,
     life_sampler: LifeSampler | None = None,
+    events_to: str | PathLike[str] | None = None,
 ) -> ReplicationResult:
     """Simulate one replication of ``scenario``.
 
@@ -80,12 +84,20 @@ def simulate(
     horizon_h
         Calendar hours to simulate (default: ``scenario.study.horizon_h``).
     keep_events
-        Keep the event log (turn off in large studies to save time and memory).
+        Keep the event log in memory, its first
+        :data:`~fleetsim.sim.records.MAX_EVENTS_KEPT` events (turn off in
+        large studies to save time and memory).
     life_sampler
         Optional ``f(unit_id, position_id, k) -> hours``: the operating hours
         from fitting to the first detectable defect of the k-th bearing of a
         position (k = 0: remaining life of the bearing fitted at the start).
         Replaces the random lives, e.g. for exact event-log tests.
+    events_to
+        Write every event to this CSV file as it happens
+        (:class:`~fleetsim.sim.event_log.EventFile`: columns ``time_h, unit,
+        position, kind``, memory bounded whatever the count) instead of
+        holding them; the result's ``events`` table is then empty and its
+        ``events_file`` names the file.
 
     Returns
     -------
@@ -100,8 +112,12 @@ def simulate(
     horizon = float(scenario.study.horizon_h if horizon_h is None else horizon_h)
     _check(horizon)
     root = as_seed_sequence(seed)
-    with gc_paused():
-        return _run(scenario, root, horizon, keep_events, life_sampler)
+    if events_to is None:
+        with gc_paused():
+            return _run(scenario, root, horizon, keep_events, life_sampler)
+    with EventFile(events_to) as sink, gc_paused():
+        result = _run(scenario, root, horizon, True, life_sampler, sink)
+    return dataclasses.replace(result, events_file=str(events_to))
 
 
 def _run(
@@ -110,13 +126,14 @@ def _run(
     horizon: float,
     keep_events: bool,
     life_sampler: LifeSampler | None,
+    sink: EventFile | None = None,
 ) -> ReplicationResult:
     streams = Streams(root)
     env = simpy.Environment()
     discount = discount_for(scenario.costs.discount_rate_per_year)
     book = YearBook(horizon, discount)
-    recorder = Recorder(keep_events, book)
-    log = recorder.log if keep_events else None
+    recorder = Recorder(keep_events, book, sink)
+    log = recorder.log if recorder.keep_events else None
 
     bearing_ids = sorted(
         {p.bearing_id for m in scenario.machines for p in m.positions} | set(scenario.stores)

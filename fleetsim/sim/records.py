@@ -1,7 +1,10 @@
 """What one replication records, and the frozen result it hands back.
 
 During the run, counters are plain Python integers and floats and the event
-log is a list of tuples; the pandas tables are built once, at the end.
+log is a list of tuples (the first :data:`MAX_EVENTS_KEPT`), or, given an
+:class:`~fleetsim.sim.event_log.EventFile`, rows written to a file as they
+happen (every event, in bounded memory); the pandas tables are built once, at
+the end.
 
 Event kinds (``events`` table, columns ``time_h, unit, position, kind``):
 
@@ -41,10 +44,11 @@ from typing import Any
 import pandas as pd
 
 from fleetsim.scenario.model import HOURS_PER_YEAR
+from fleetsim.sim.event_log import EVENT_COLUMNS as EVENT_COLUMNS
+from fleetsim.sim.event_log import EventFile
 from fleetsim.sim.tally import Tally
 from fleetsim.sim.years import YearBook
 
-EVENT_COLUMNS = ("time_h", "unit", "position", "kind")
 DOWN_CAUSES = ("waiting_spare_h", "waiting_crew_h", "repair_h", "planned_h")
 UNIT_COLUMNS = (
     "unit", "machine", "running_h", "operating_h", *DOWN_CAUSES, "down_h", "availability",
@@ -77,31 +81,42 @@ COUNT_NAMES = (
 )
 
 
-#: Most events kept in a replication's event log (the counts include every event).
+#: Most events kept in a replication's in-memory event log (the counts include every
+#: event; an :class:`~fleetsim.sim.event_log.EventFile` keeps them all).
 MAX_EVENTS_KEPT = 200_000
 
 
 class Recorder:
-    """Mutable counters and the event log of a running replication."""
+    """Mutable counters and the event log of a running replication.
 
-    __slots__ = ("keep_events", "events", "counts", "book", "truncated")
+    With ``sink`` (an :class:`~fleetsim.sim.event_log.EventFile`) every event
+    goes to the file and none is held; without it the first
+    :data:`MAX_EVENTS_KEPT` are held in :attr:`events`.
+    """
 
-    def __init__(self, keep_events: bool, book: YearBook) -> None:
-        self.keep_events = keep_events
+    __slots__ = ("keep_events", "events", "counts", "book", "truncated", "sink")
+
+    def __init__(self, keep_events: bool, book: YearBook, sink: EventFile | None = None) -> None:
+        self.keep_events = keep_events or sink is not None
         self.truncated = False
+        self.sink = sink
         self.events: list[tuple[float, str, str, str]] = []
         self.counts: dict[str, int] = dict.fromkeys(COUNT_NAMES, 0)
         #: what costs are charged on, per calendar year (:mod:`fleetsim.sim.years`)
         self.book = book
 
     def log(self, time_h: float, unit: str, position: str, kind: str) -> None:
-        """Append one event to the log (the first :data:`MAX_EVENTS_KEPT`; a warning after)."""
-        if len(self.events) < MAX_EVENTS_KEPT:
+        """Log one event: to the sink, else to the in-memory log (the first
+        :data:`MAX_EVENTS_KEPT`; a warning after)."""
+        if self.sink is not None:
+            self.sink.write(time_h, unit, position, kind)
+        elif len(self.events) < MAX_EVENTS_KEPT:
             self.events.append((time_h, unit, position, kind))
         elif not self.truncated:
             self.truncated = True
             warnings.warn(f"the event log keeps only the first {MAX_EVENTS_KEPT:,} events of "
-                          "the replication", stacklevel=2)
+                          "the replication in memory (write it to a file to keep them all)",
+                          stacklevel=2)
 
 
 #: A table as columns: ``{column: [values...]}`` (the first column is the index).
@@ -172,6 +187,8 @@ class ReplicationResult:
     tables: dict[str, Table] = field(repr=False)
     discount_rate_per_year: float = 0.0
     tally: Tally | None = field(default=None, repr=False)
+    #: the file the event log was written to (then ``events`` is empty), or None
+    events_file: str | None = None
 
     def _frame(self, name: str) -> pd.DataFrame:
         cache = self.__dict__.setdefault("_frames", {})

@@ -10,6 +10,7 @@ replication.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -75,6 +76,9 @@ class StudyResult:
         Processes used.
     events
         Event log of the first replication (``time_h, unit, position, kind``) or None.
+    events_file
+        The CSV file the first replication's event log was written to
+        (:class:`~fleetsim.sim.event_log.EventFile`; ``events`` is then None), or None.
     label
         Name of the variant (policy, interval, ...) for comparisons.
     view
@@ -94,6 +98,7 @@ class StudyResult:
     label: str = ""
     view: str = "budget"
     notes: tuple[str, ...] = ()
+    events_file: Path | None = None
     _cache: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property

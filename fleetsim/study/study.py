@@ -48,6 +48,7 @@ def run_study(
     horizon_h: float | None = None,
     keep_events: bool = True,
     label: str = "",
+    events_file: str | Path | None = None,
 ) -> StudyResult:
     """Simulate ``scenario`` for many replications and summarise.
 
@@ -69,7 +70,13 @@ def run_study(
     checkpoint
         File to checkpoint finished replications to and resume from.
     keep_events
-        Also keep the event log of the first replication (discrete-event engine).
+        Also keep the event log of the first replication (discrete-event
+        engine), in memory (its first
+        :data:`~fleetsim.sim.records.MAX_EVENTS_KEPT` events) or in ``events_file``.
+    events_file
+        Write that event log to this CSV file as it happens, every event in
+        bounded memory (:class:`~fleetsim.sim.event_log.EventFile`), instead
+        of holding it.
     label
         Name of this variant in comparisons.
 
@@ -100,7 +107,9 @@ def run_study(
     if keep_events:
         from fleetsim.sim import simulate
 
-        events = simulate(scenario, replication_seed(s, 0), horizon_h=horizon).events
+        first = simulate(scenario, replication_seed(s, 0), horizon_h=horizon,
+                         events_to=events_file)
+        events = None if events_file is not None else first.events
     return StudyResult(
         scenario=scenario,
         replications=table,
@@ -109,6 +118,7 @@ def run_study(
         elapsed_s=time.perf_counter() - started,
         workers=workers,
         events=events,
+        events_file=Path(events_file) if events_file is not None and keep_events else None,
         label=label or scenario.study.name,
     )
 
