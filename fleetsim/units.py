@@ -46,6 +46,7 @@ UNITS: dict[str, tuple[Kind, float]] = {
     "N": ("force", 1.0),
     "newton": ("force", 1.0),
     "newtons": ("force", 1.0),
+    "mN": ("force", 1e-3),  # the smallest non-zero force of fleetsim.bounds is 1 mN
     "daN": ("force", 10.0),
     "kN": ("force", 1e3),
     "kilonewton": ("force", 1e3),

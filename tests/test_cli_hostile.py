@@ -252,7 +252,8 @@ MORE_17 = {
         lambda tmp: ["size", "--type", "ball", "--load", "4 kN", "--speed", "1480 rpm", "--life",
                      "25000 h", "--reliability", "0.9", "--application-factor", "1e300"],
         "--application-factor"),
-    "load-below-a-millinewton": (_life("--radial-load", "1e-100 N"), "--radial-load"),
+    "load-below-a-millinewton": (lambda tmp: _with(LIFE, "--radial-load", "1e-100 N"),
+                                 "--radial-load"),
     "horizon-under-an-hour": (_check(('horizon = "2 years"', 'horizon = "30 min"')),
                               "study.horizon"),
     "lognormal-lead-time-spread": (

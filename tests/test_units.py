@@ -37,6 +37,7 @@ GOOD = [
     ("90 min", "time", 1.5),
     ("3600 s", "time", 1.0),
     ("1 month", "time", 730.5),
+    ("1 mN", "force", 1e-3),  # not read as 'MN' (1e6 N)
 ]
 
 
