@@ -52,13 +52,14 @@ def test_a_log_beyond_the_in_memory_cap_is_written_complete(
 
 
 def test_the_streamed_log_takes_bounded_memory(tmp_path: Path) -> None:
-    """Peak memory of a streamed log of ~200,000 events over a run that keeps none.
+    """Peak memory of a streamed log of ~100,000 events over the same run keeping none.
 
     The bound is what the writer holds at most: one chunk of rows as the
     in-memory log holds them (a tuple and its float, and a list slot) and each
     row's CSV line up to three times over (the lines, their join, the file
     buffer), plus 256 KiB of slack. Holding the whole log would take
-    ``rows × row_bytes``, more than ten times the bound.
+    ``rows × row_bytes``, more than five times the bound. The baseline is the
+    same replication without a log, so whatever else the engine holds cancels.
     """
     row = (12345.678901234, "U#1", "a", "failure")
     line = "12345.678901234,U#1,a,failure\n"
@@ -67,15 +68,15 @@ def test_the_streamed_log_takes_bounded_memory(tmp_path: Path) -> None:
 
     tracemalloc.start()
     try:
-        simulate(_storm(0.2), 7, keep_events=False)  # the same fleet, a tenth of the events
+        simulate(_storm(1.0), 7, keep_events=False)
         _, baseline = tracemalloc.get_traced_memory()
         tracemalloc.reset_peak()
-        simulate(_storm(2.0), 7, events_to=tmp_path / "events.csv")
+        simulate(_storm(1.0), 7, events_to=tmp_path / "events.csv")
         _, peak = tracemalloc.get_traced_memory()
     finally:
         tracemalloc.stop()
     rows = sum(1 for _ in (tmp_path / "events.csv").open(encoding="utf-8")) - 1
-    assert rows * row_bytes > 10 * bound  # the test can tell holding from streaming
+    assert rows * row_bytes > 5 * bound  # the test can tell holding from streaming
     assert peak - baseline < bound, (peak, baseline, bound)
 
 
