@@ -18,6 +18,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from fleetsim.life import BearingType, LifeDistribution
 from fleetsim.scenario.model import (
@@ -157,3 +159,13 @@ def test_a_condition_policy_that_never_detects_gives_the_run_to_failure_failures
             assert b[fig] == pytest.approx(a[fig], rel=1e-12), fig
         assert b["missed_defects"] == b["failures"] and b["detections"] == 0
         assert b["inspections"] > 0 and b["cost_inspection"] == 5.0 * b["inspections"]
+
+
+@settings(max_examples=300, deadline=None)
+@given(u=st.floats(0.0, 1.0, exclude_max=True), p=st.floats(0.0, 1.0))
+def test_the_scalar_and_array_inspection_counts_agree_value_for_value(u: float, p: float) -> None:
+    """The DES draws one geometric count per life with math, the vector engine with numpy:
+    N = 1 + floor(ln(1 − u) / ln(1 − p)) (inversion of the geometric law), the same values."""
+    from fleetsim.sim.schedule import inspection_count, inspections_to_detect
+
+    assert inspection_count(u, p) == float(inspections_to_detect(u, p))

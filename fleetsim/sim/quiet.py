@@ -46,9 +46,9 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
     sampler = u.ctx.life_sampler
     phase_h = u.phase_h
     opportunistic = u.opportunistic
-    book = u.book
     timeout = env.timeout
     failure_times = u.failure_times
+    down_spans, labour_spans = u.down_spans, u.labour_spans
     change_times = u.change_times
     # fixed stop durations need no quantile per stop
     unplanned_h = unplanned.value_h if unplanned.kind == "fixed" else None
@@ -149,8 +149,9 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
         phase_h[u.phase] += now - u.phase_t
         u.phase = RUNNING
         u.phase_t = now
-        if now > u.down_since:
-            book.down(u.down_since, now, share, worked=True)  # a quiet unit never waits
+        if now > u.down_since:  # a quiet unit never waits: a crew works the whole stop
+            down_spans.extend((u.down_since, now))
+            labour_spans.extend((u.down_since, now))
         up(now)
         if log is not None:
             log(now, uid, "", "up")

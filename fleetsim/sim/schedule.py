@@ -174,7 +174,18 @@ def inspections_to_detect(u: float | np.ndarray, detection: float | np.ndarray) 
     """
     u = np.asarray(u, dtype=float)
     p = np.broadcast_to(np.asarray(detection, dtype=float), u.shape)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # inf: never found
         n = 1.0 + np.floor(np.log1p(-u) / np.log1p(-np.minimum(p, 1.0)))
     n = np.where(p >= 1.0, 1.0, n)
     return np.where(p <= 0.0, INF, n)
+
+
+def inspection_count(u: float, detection: float) -> float:
+    """:func:`inspections_to_detect` for one uniform and one probability, without numpy
+    (the discrete-event engine draws one per life); the same formula, value for value."""
+    if detection >= 1.0:
+        return 1.0
+    if detection <= 0.0:
+        return INF
+    q = math.log1p(-u) / math.log1p(-detection)
+    return INF if q == INF else 1.0 + math.floor(q)

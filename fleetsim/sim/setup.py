@@ -24,10 +24,15 @@ from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import Discount
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.records import Recorder
-from fleetsim.sim.schedule import MaintenancePlan, compile_plan, inspections_to_detect
+from fleetsim.sim.schedule import (
+    MaintenancePlan,
+    compile_plan,
+    inspection_count,
+    inspections_to_detect,
+)
 from fleetsim.sim.stores import Claim, SpareStore, UnlimitedSupply
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams, UniformTable
-from fleetsim.sim.tally import CHANGES, FAILURES, INSPECTIONS
+from fleetsim.sim.tally import CHANGES, FAILURES, INSPECTIONS, LABOUR_H
 
 if TYPE_CHECKING:
     from fleetsim.sim.scan_heap import PositionHeap
@@ -68,7 +73,7 @@ class MachineSetup:
     __slots__ = ("machine", "index", "plan", "start_ages_h", "start_cal_h", "stores",
                  "life_table", "pf_table", "stop_table", "det_table", "random_stops",
                  "opportunistic", "quiet", "first_defect_h", "first_fail_h", "first_stop_u",
-                 "first_looks", "slots", "journals")
+                 "first_looks", "slots", "journals", "spans")
 
     def __init__(self, ctx: SimContext, machine: Machine, machine_index: int) -> None:
         specs = machine.positions
@@ -133,6 +138,8 @@ class MachineSetup:
         book = ctx.recorder.book
         #: the year book's journals of failures, changes and inspections (one append each)
         self.journals = (book.journal(FAILURES), book.journal(CHANGES), book.journal(INSPECTIONS))
+        #: and of the units' stops and crew work, (start, end) pairs (one extend each)
+        self.spans = (book.down_journal(machine.operating_share), book.span_journal(LABOUR_H))
         self.slots: list[tuple[float, float, bool, float, float, bool]] = list(zip(
             plan.age_due_h.tolist(), plan.opportunistic_age_h.tolist(),
             [bool(x) for x in plan.opportunistic_calendar.tolist()], plan.skip_younger_h.tolist(),
@@ -287,8 +294,7 @@ class PositionState:
         if self.stop_table is not None:
             self.stop_u = self.stop_table.get(k, u, j)
         if self.det_table is not None:
-            self.looks_needed = float(inspections_to_detect(self.det_table.get(k, u, j),
-                                                            self.detection))
+            self.looks_needed = inspection_count(self.det_table.get(k, u, j), self.detection)
             self.looks = 0
         self.k = k + 1
         self.installed_op = clock_op

@@ -48,7 +48,6 @@ from simpy.resources.resource import PriorityRequest
 from fleetsim.sim import scan_heap
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
 from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext, scan
-from fleetsim.sim.tally import LABOUR_H
 
 _FAILURE, _PLANNED = 0, 1
 # Phases of a unit, in the order of ReplicationResult.units' columns.
@@ -116,6 +115,7 @@ class UnitRunner:
         self.book = ctx.recorder.book
         # the year book's journals of single events (one append each)
         self.failure_times, self.change_times, self.inspection_times = setup.journals
+        self.down_spans, self.labour_spans = setup.spans
         self.random_stops = setup.random_stops
         self.opportunistic = setup.opportunistic
         self.holds = ctx.groups.holds(unit_index)
@@ -181,7 +181,8 @@ class UnitRunner:
         self.phase_h[self.phase] += now - self.phase_t
         self.phase = RUNNING
         self.phase_t = now
-        self.book.down(self.down_since, now, self.share)
+        if now > self.down_since:
+            self.down_spans.extend((self.down_since, now))
         self.ctx.groups.unit_up(self.index, now)
         if self.log is not None:
             self.log(now, self.id, "", "up")
@@ -386,10 +387,17 @@ class UnitRunner:
         duration = self.ctx.crews_spec.unplanned_repair.quantile(failed[0].stop_u)
         if duration > 0.0:
             yield env.timeout(duration)
-            self.book.over(LABOUR_H, env.now - duration, env.now)
+            self._worked(duration)
         self._renew(work)
         crews.release(req, duration)
         self._go_up()
+
+    def _worked(self, duration: float) -> None:
+        """A crew worked ``duration`` hours, up to now (booked as labour)."""
+        now = self.env.now
+        start = now - duration
+        if now > start:
+            self.labour_spans.extend((start, now))
 
     def _planned_stop(self) -> Generator[simpy.Event, Any, None]:
         env = self.env
@@ -410,7 +418,7 @@ class UnitRunner:
         duration = self.ctx.crews_spec.planned_repair.quantile(lead.stop_u)
         if duration > 0.0:
             yield env.timeout(duration)
-            self.book.over(LABOUR_H, env.now - duration, env.now)
+            self._worked(duration)
         self._renew(work)
         self.ctx.crews.release(req, duration)
         self._go_up()

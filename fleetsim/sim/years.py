@@ -61,8 +61,8 @@ class YearBook:
         self._amount: dict[str, list[float]] = {}
         self._pv: dict[str, list[float]] = {}
         self._plain = discount.delta_h == 0.0
-        #: times of single events not booked yet, by key (see :meth:`journal`)
-        self._journal: dict[str, list[float]] = {}
+        #: events and intervals not booked yet (see :meth:`journal`), by (kind, key, share)
+        self._journal: dict[tuple[str, str, float], list[float]] = {}
         #: arrays not booked yet (see :meth:`at_later`): (what, key, arrays...)
         self._later: list[tuple[str, str, np.ndarray, np.ndarray | None, float]] = []
         self._later_n = 0
@@ -86,20 +86,47 @@ class YearBook:
         settled in blocks of :data:`JOURNAL_BLOCK` (:meth:`settle_full_blocks`)
         and in full before any sum is read. Hold the list, never replace it.
         """
-        j = self._journal.get(key)
+        return self._journal_of(("at", key, 0.0))
+
+    def span_journal(self, key: str) -> list[float]:
+        """The list to extend with ``(start_h, end_h)`` of each interval of ``key``
+        (weight 1): what ``over(key, start_h, end_h)`` books, later."""
+        return self._journal_of(("over", key, 0.0))
+
+    def down_journal(self, share: float) -> list[float]:
+        """The list to extend with ``(start_h, end_h)`` of each stop of a unit with
+        operating ``share``: what ``down(start_h, end_h, share)`` books, later."""
+        return self._journal_of(("down", "", float(share)))
+
+    def _journal_of(self, what: tuple[str, str, float]) -> list[float]:
+        j = self._journal.get(what)
         if j is None:
-            j = self._journal[key] = []
+            j = self._journal[what] = []
         return j
 
+    def _book_journal(self, what: tuple[str, str, float], entries: list[float]) -> None:
+        kind, key, share = what
+        if kind == "at":
+            self.at_many(key, np.array(entries))
+            return
+        pairs = np.array(entries).reshape(-1, 2)
+        if kind == "over":
+            self.over_many(key, pairs[:, 0], pairs[:, 1])
+        else:
+            self.down_many(pairs[:, 0], pairs[:, 1], share)
+
     def settle_full_blocks(self) -> None:
-        """Book the full blocks of :data:`JOURNAL_BLOCK` entries of every journal
-        (keeps memory bounded during a long run; the rest stays journaled)."""
-        for key, times in self._journal.items():
-            full = len(times) - len(times) % JOURNAL_BLOCK
+        """Book the full blocks of :data:`JOURNAL_BLOCK` entries (events or intervals)
+        of every journal (keeps memory bounded during a long run; the rest stays
+        journaled). The blocks fall at fixed places in each journal, so the sums do
+        not depend on when this is called."""
+        for what, entries in self._journal.items():
+            block = JOURNAL_BLOCK if what[0] == "at" else 2 * JOURNAL_BLOCK
+            full = len(entries) - len(entries) % block
             if full:
-                for start in range(0, full, JOURNAL_BLOCK):
-                    self.at_many(key, np.array(times[start:start + JOURNAL_BLOCK]))
-                del times[:full]
+                for start in range(0, full, block):
+                    self._book_journal(what, entries[start:start + block])
+                del entries[:full]
 
     def at_later(self, key: str, t_h: np.ndarray) -> None:
         """:meth:`at_many` of single events at ``t_h``, booked with others of ``key`` later.
@@ -153,10 +180,10 @@ class YearBook:
         if not any(self._journal.values()):
             return
         self.settle_full_blocks()
-        for key, times in self._journal.items():
-            if times:
-                self.at_many(key, np.array(times))
-                times.clear()
+        for what, entries in self._journal.items():
+            if entries:
+                self._book_journal(what, entries)
+                entries.clear()
 
     def __eq__(self, other: object) -> bool:
         if not isinstance(other, YearBook):
