@@ -292,7 +292,8 @@ id = "spare-fan"
         text,
         "order_up_to = 3",
         'order_up_to = 3\ninitial = 0\nlead_time = { kind = "exponential", mean = "21 d" }\n'
-        'emergency_lead_time = { kind = "fixed", value = "36 h" }\nemergency_premium = 250',
+        'emergency_lead_time = { kind = "fixed", value = "36 h" }\nemergency_premium = 250\n'
+        "order_ahead = true",
     )
     s = load(text)
     assert s.groups[0].machines == ("fan", "spare-fan")
@@ -303,6 +304,8 @@ id = "spare-fan"
     assert stock.lead_time == Duration("exponential", 21 * 24.0)
     assert stock.emergency_lead_time == Duration.fixed(36.0)
     assert stock.emergency_premium == 250.0
+    assert stock.order_ahead is True
+    assert stock.order_ahead_h == pytest.approx(-21 * 24.0 * math.log(0.1))  # exponential P90
 
 
 def test_condition_and_block_policies() -> None:
@@ -522,6 +525,8 @@ ERRORS = [
         "stores.TB-1.emergency_premium",
         "needs emergency_lead_time",
     ),
+    ("order_up_to = 3", 'order_up_to = 3\norder_ahead = "yes"', "stores.TB-1.order_ahead",
+     "expected true or false"),
     # durations
     ('p90 = "20 h"', 'p90 = "5 h"', "crews.unplanned_repair.p90", "expected p90 > median (8 h)"),
     (

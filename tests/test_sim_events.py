@@ -541,3 +541,131 @@ def test_downtime_is_charged_per_operating_hour_lost_and_group_down_per_hour() -
     assert f["lost_operating_h"] == pytest.approx(4.0)
     assert f["cost_group_downtime"] == pytest.approx(10_000.0)
     assert f["cost_total"] == pytest.approx(400.0 + 10_000.0)
+
+
+def _ordered_ahead(ahead: bool, lead_h: float, policy: Policy, horizon: float,
+                   table: dict | None = None, share: float = 1.0) -> object:
+    machine = Machine("U", 1, share, 0.0, (pos("a", policy), pos("b", policy)))
+    sc = scenario([machine], stores={B: Stock(0, -1, 0, fixed(lead_h), order_ahead=ahead)},
+                  crews=Crews(None, fixed(5.0), fixed(10.0)), horizon=horizon)
+    return simulate(sc, 1, life_sampler=lives(table or {}))
+
+
+def test_order_ahead_block_change_never_waits_when_the_lead_time_is_shorter_than_the_notice() -> None:
+    # Block every 300 h, nothing stocked, lead 50 h < the 300 h notice (the next date is
+    # known as soon as the previous one passes). Ordered at 300 − 50 = 250, the spares arrive
+    # at 300, in time (an arrival at the due moment counts as in time): no stock-out.
+    block = Policy("block", interval_h=300.0)
+    r = _ordered_ahead(True, 50.0, block, 650.0)
+    assert r.event_log() == [
+        (250.0, "U", "a", "order_ahead"),
+        (250.0, "U", "b", "order_ahead"),
+        (300.0, "", B, "delivery"),
+        (300.0, "", B, "delivery"),
+        (300.0, "U", "", "stop"),
+        (305.0, "U", "a", "planned"),
+        (305.0, "U", "b", "planned"),
+        (305.0, "U", "", "up"),
+        (550.0, "U", "a", "order_ahead"),
+        (550.0, "U", "b", "order_ahead"),
+        (600.0, "", B, "delivery"),
+        (600.0, "", B, "delivery"),
+        (600.0, "U", "", "stop"),
+        (605.0, "U", "a", "planned"),
+        (605.0, "U", "b", "planned"),
+        (605.0, "U", "", "up"),
+    ]
+    s = r.spares.loc[B]
+    assert (s["demands"], s["issued"], s["stockouts"], s["fill_rate"]) == (4, 4, 0, 1.0)
+    assert s["mean_on_hand"] == 0.0  # each spare arrives as its change falls due
+    # Without ordering ahead the same block dates find the shelf empty and wait 50 h.
+    r = _ordered_ahead(False, 50.0, block, 650.0)
+    assert r.event_log()[:10] == [
+        (300.0, "U", "a", "stockout"),
+        (300.0, "", B, "order"),
+        (300.0, "U", "b", "stockout"),
+        (300.0, "", B, "order"),
+        (350.0, "", B, "delivery"),
+        (350.0, "", B, "delivery"),
+        (350.0, "U", "", "stop"),
+        (355.0, "U", "a", "planned"),
+        (355.0, "U", "b", "planned"),
+        (355.0, "U", "", "up"),
+    ]
+    assert r.spares.loc[B, "stockouts"] == 4  # the block at 600 waits too (spares at 650)
+
+
+def test_order_ahead_with_a_lead_time_longer_than_the_notice_is_late() -> None:
+    # Lead 400 h > the 300 h notice: ordered at once (t = 0), arrives at 400; the block
+    # change at 300 is a stock-out and waits for its own spare.
+    r = _ordered_ahead(True, 400.0, Policy("block", interval_h=300.0), 500.0)
+    assert r.event_log() == [
+        (0.0, "U", "a", "order_ahead"),
+        (0.0, "U", "b", "order_ahead"),
+        (300.0, "U", "a", "stockout"),
+        (300.0, "U", "b", "stockout"),
+        (300.0, "U", "a", "order_ahead"),  # the next date (600) is announced at once
+        (300.0, "U", "b", "order_ahead"),
+        (400.0, "", B, "delivery"),
+        (400.0, "", B, "delivery"),
+        (400.0, "U", "", "stop"),
+        (405.0, "U", "a", "planned"),
+        (405.0, "U", "b", "planned"),
+        (405.0, "U", "", "up"),
+    ]
+
+
+def test_order_ahead_for_age_dues_and_a_failure_frees_the_spare_kept_for_it() -> None:
+    # Age 200 h, lead 50 h, operating share 1: both dues are announced at the start
+    # (orders at 150). Position a fails at 120 (nothing on the shelf: ordered, here at 170,
+    # repair to 180). At its renewal a's kept spare is freed (it arrives at 200 into the free
+    # stock) and its new due is announced: clock 120 at 180, due at operating hour 320 →
+    # calendar 380 if the unit runs on, ordered at 330. b's due, delayed by a's 60 h stop,
+    # falls at 260: its spare has waited on the shelf since 200. b is then due at operating
+    # hour 400 (calendar 465 from 265, ordered at 415); a's due falls at 385 (b's stop froze
+    # the clock for 5 h), its spare arrived at 380; a's stop 385–390 moves b's due to 470.
+    r = _ordered_ahead(True, 50.0, Policy("age", interval_h=200.0), 500.0,
+                       table={("U", "a"): [120.0]})
+    assert r.event_log() == [
+        (120.0, "U", "a", "failure"),
+        (120.0, "U", "a", "stockout"),
+        (120.0, "", B, "order"),
+        (150.0, "U", "a", "order_ahead"),
+        (150.0, "U", "b", "order_ahead"),
+        (170.0, "", B, "delivery"),
+        (170.0, "U", "", "work"),
+        (180.0, "U", "a", "corrective"),
+        (180.0, "U", "", "up"),
+        (200.0, "", B, "delivery"),
+        (200.0, "", B, "delivery"),
+        (260.0, "U", "", "stop"),
+        (265.0, "U", "b", "planned"),
+        (265.0, "U", "", "up"),
+        (330.0, "U", "a", "order_ahead"),
+        (380.0, "", B, "delivery"),
+        (385.0, "U", "", "stop"),
+        (390.0, "U", "a", "planned"),
+        (390.0, "U", "", "up"),
+        (415.0, "U", "b", "order_ahead"),
+        (465.0, "", B, "delivery"),
+        (470.0, "U", "", "stop"),
+        (475.0, "U", "b", "planned"),
+        (475.0, "U", "", "up"),
+    ]
+    s = r.spares.loc[B]
+    assert (s["demands"], s["stockouts"], s["orders"]) == (4, 1, 5)
+    # On the shelf: b's kept spare 200–260, a's freed spare 200–500, a's 380–385, b's 465–470.
+    assert s["mean_on_hand"] == pytest.approx((60.0 + 300.0 + 5.0 + 5.0) / 500.0)
+
+
+def test_order_ahead_at_a_lower_operating_share_orders_by_the_calendar_date() -> None:
+    # Share 0.5: the age due at 100 operating hours falls at calendar 200; ordered at 150.
+    r = _ordered_ahead(True, 50.0, Policy("age", interval_h=100.0), 230.0, share=0.5)
+    assert r.event_log()[:5] == [
+        (150.0, "U", "a", "order_ahead"),
+        (150.0, "U", "b", "order_ahead"),
+        (200.0, "", B, "delivery"),
+        (200.0, "", B, "delivery"),
+        (200.0, "U", "", "stop"),
+    ]
+    assert r.spares.loc[B, "stockouts"] == 0

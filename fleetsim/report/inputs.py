@@ -115,6 +115,7 @@ def bearing_rows(scenario: Scenario) -> list[dict[str, str]]:
                 "c0": fmt.load(b.static_rating_N) if b.static_rating_N else "–",
                 "price": fmt.money(b.price, cur),
                 "stock": f"{s.initial} at start; s = {s.reorder_point}, S = {s.order_up_to}"
+                + ("; planned changes ordered ahead" if s.order_ahead else "")
                 if s is not None
                 else "unlimited",
                 "lead": duration_text(s.lead_time) if s is not None else "–",

@@ -119,6 +119,7 @@ STOCK_KEYS = (
     "lead_time",
     "emergency_lead_time",
     "emergency_premium",
+    "order_ahead",
 )
 CREW_KEYS = ("count", "planned_repair", "unplanned_repair")
 
@@ -491,6 +492,9 @@ def _stores(root: Table, bearings: dict[str, Bearing], lead: dict[str, Any]) -> 
         premium = t.number("emergency_premium", 0.0, within=MONEY)
         if emergency is None and t.has("emergency_premium"):
             raise t.error("emergency_premium", "an emergency premium needs emergency_lead_time")
+        ahead = t.raw("order_ahead", False, what="true or false")
+        if not isinstance(ahead, bool):
+            raise t.error("order_ahead", f"expected true or false, got {show(ahead)}")
         stores[bid] = t.build(
             Stock,
             {k: k for k in STOCK_KEYS},
@@ -500,6 +504,7 @@ def _stores(root: Table, bearings: dict[str, Bearing], lead: dict[str, Any]) -> 
             lead_time=lead_time,
             emergency_lead_time=emergency,
             emergency_premium=premium,
+            order_ahead=ahead,
         )
     return stores
 

@@ -10,6 +10,10 @@ policies run on the calendar:
   positions with the same interval are requested together (one planned stop);
   with ``"position"`` each position keeps its own calendar. Work for the
   same unit that falls due at the same time is done in one stop either way.
+* **Ordering ahead** (stores with ``order_ahead``): each block calendar
+  announces its next date to the stores of its positions as soon as the
+  previous one has passed (at the start for the first); age dues are
+  announced when a bearing is fitted (:meth:`UnitRunner.announce_age_due`).
 * **Condition monitoring**: a unit's condition-monitored positions with the
   same ``inspection_every_h`` are inspected together, every that many
   calendar hours from the start; one visit costs one ``costs.inspection``.
@@ -23,7 +27,7 @@ from typing import Any
 
 import simpy
 
-from fleetsim.sim.schedule import MaintenancePlan
+from fleetsim.sim.schedule import INF, MaintenancePlan
 from fleetsim.sim.setup import PositionState
 from fleetsim.sim.unit import UnitRunner
 
@@ -31,7 +35,10 @@ from fleetsim.sim.unit import UnitRunner
 def _block_calendar(
     env: simpy.Environment, unit: UnitRunner, interval_h: float, positions: list[PositionState]
 ) -> Generator[simpy.Event, Any, None]:
+    ahead = [p for p in positions if p.store.order_ahead]
     while True:
+        for p in ahead:  # the next block date is known now: order its spares ahead
+            p.store.plan_ahead(unit.id, p.id, env.now + interval_h)
         yield env.timeout(interval_h)
         unit.block_date(positions)
 
@@ -45,7 +52,11 @@ def _inspection_round(
 
 
 def start_calendar_policies(env: simpy.Environment, unit: UnitRunner, plan: MaintenancePlan) -> None:
-    """Start the block calendars and inspection rounds of one unit (from its machine's plan)."""
+    """Start the block calendars and inspection rounds of one unit (from its machine's plan),
+    and announce the first age dues to stores that order ahead."""
+    for p in unit.positions:
+        if p.store.order_ahead and p.age_due_h < INF:
+            unit.announce_age_due(p)
     for job in plan.blocks:
         env.process(_block_calendar(env, unit, job.every_h, [unit.positions[j] for j in job.positions]))
     for job in plan.rounds:

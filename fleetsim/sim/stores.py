@@ -20,6 +20,17 @@ Conventions (stated once, also in the README):
   the time-average stock on hand.
 * A bearing without a stock entry has unlimited spares on the shelf: every
   request is filled at once and nothing is ordered.
+* **Order ahead** (``Stock.order_ahead``): planned changes are known before
+  they fall due (age dues, block dates). The engine announces each one
+  (:meth:`SpareStore.plan_ahead`: unit, position, due calendar hour); the
+  store orders one spare for it ``Stock.order_ahead_h`` before the due date
+  (at once when that is already past) and keeps it for that change: it is
+  outside the inventory position, so the (s, S) stock serves the rest of the
+  demand. The planned demand takes its own spare (at once when it has
+  arrived; otherwise it is a stock-out and waits for it) and causes no
+  review. An announcement whose change does not happen (the position was
+  renewed before it, skipped at the block date, or announced again) is
+  released: its spare, on the shelf or on its way, joins the free stock.
 """
 
 from __future__ import annotations
@@ -30,6 +41,7 @@ from typing import Any
 
 import numpy as np
 import simpy
+from simpy.core import URGENT
 
 from fleetsim.scenario.model import Stock
 from fleetsim.sim.tally import emergency_key, issued_key, on_hand_key, ordered_key
@@ -49,12 +61,32 @@ class Claim:
         True once an emergency order was placed for it.
     """
 
-    __slots__ = ("filled", "notify", "expedited")
+    __slots__ = ("filled", "notify", "expedited", "ahead")
 
     def __init__(self, notify: Callable[[], None] | None, filled: bool = False) -> None:
         self.filled = filled
         self.notify = notify
         self.expedited = False
+        self.ahead: Ahead | None = None  # the spare ordered ahead that it waits for
+
+
+class Ahead:
+    """One spare ordered ahead for one announced planned change.
+
+    Attributes
+    ----------
+    state
+        ``"planned"`` (not ordered yet), ``"on_order"``, ``"on_shelf"`` (kept
+        for its change), ``"used"`` or ``"released"`` (joins the free stock).
+    claim
+        The planned demand waiting for it, if any.
+    """
+
+    __slots__ = ("state", "claim")
+
+    def __init__(self) -> None:
+        self.state = "planned"
+        self.claim: Claim | None = None
 
 
 class StoreStats:
@@ -62,10 +94,12 @@ class StoreStats:
 
     __slots__ = (
         "demands", "issued", "stockouts", "orders", "emergency_orders", "ordered_units",
-        "on_hand_area", "backorder_area", "on_hand_end", "backorders_end", "on_order_end",
+        "ahead_orders", "on_hand_area", "backorder_area", "on_hand_end", "backorders_end",
+        "on_order_end",
     )  # fmt: skip
 
     def __init__(self) -> None:
+        self.ahead_orders = 0  # orders placed ahead for announced planned changes
         self.demands = 0
         self.issued = 0
         self.stockouts = 0
@@ -90,6 +124,7 @@ class UnlimitedSupply:
     """
 
     limited = False
+    order_ahead = False
 
     def __init__(self, bearing_id: str, env: simpy.Environment | None = None,
                  book: YearBook | None = None) -> None:
@@ -119,6 +154,12 @@ class UnlimitedSupply:
     def expedite(self, claim: Claim, unit: str, position: str) -> bool:
         """Never needed: claims are always filled."""
         return False
+
+    def plan_ahead(self, unit: str, position: str, due_h: float) -> None:
+        """Nothing to order ahead: the shelf never runs empty."""
+
+    def release(self, unit: str, position: str) -> None:
+        """Nothing was ordered ahead."""
 
     def try_issue(self) -> bool:
         """Issue a spare if one is on the shelf: always."""
@@ -172,6 +213,10 @@ class SpareStore:
         self.on_hand = stock.initial
         self.on_order = 0
         self.backorders: deque[Claim] = deque()
+        self.order_ahead = stock.order_ahead
+        self.ahead: dict[tuple[str, str], Ahead] = {}  # announced planned changes
+        self.kept = 0  # spares on the shelf kept for their planned change
+        self.kept_on_order = 0  # spares ordered ahead and on their way, kept for their change
         self.stats = StoreStats()
         self._t_last = 0.0
         self._review()
@@ -181,10 +226,11 @@ class SpareStore:
         now = self.env.now
         dt = now - self._t_last
         if dt > 0.0:
-            self.stats.on_hand_area += self.on_hand * dt
+            shelf = self.on_hand + self.kept
+            self.stats.on_hand_area += shelf * dt
             self.stats.backorder_area += len(self.backorders) * dt
-            if self.book is not None and self.on_hand:
-                self.book.over(on_hand_key(self.bearing_id), self._t_last, now, self.on_hand)
+            if self.book is not None and shelf:
+                self.book.over(on_hand_key(self.bearing_id), self._t_last, now, shelf)
             self._t_last = now
 
     def _issued(self) -> None:
@@ -216,6 +262,11 @@ class SpareStore:
         self._accrue()
         self.stats.demands += 1
         claim = Claim(notify)
+        if not failure and self.ahead:
+            ahead = self.ahead.pop((unit, position), None)
+            if ahead is not None:
+                self._take_ahead(ahead, claim, unit, position)
+                return claim
         if self.on_hand > 0:
             self.on_hand -= 1
             self._issued()
@@ -254,6 +305,93 @@ class SpareStore:
         self._place(1, lead.sample(self.emergency_rng), claim, "emergency_order", unit, position)
         return True
 
+    # --- ordering ahead for planned changes ----------------------------------------
+    def plan_ahead(self, unit: str, position: str, due_h: float) -> None:
+        """Announce the next planned change of ``unit``/``position``, due at calendar hour ``due_h``.
+
+        Replaces (releases) an earlier announcement of the same position. With
+        ``order_ahead`` off this does nothing.
+        """
+        if not self.order_ahead:
+            return
+        self.release(unit, position)
+        ahead = Ahead()
+        self.ahead[(unit, position)] = ahead
+        wait = due_h - self.stock.order_ahead_h - self.env.now
+        if wait <= 0.0:
+            self._order_ahead(ahead, unit, position)
+        else:
+            self.env.timeout(wait).callbacks.append(_AheadOrder(self, ahead, unit, position))
+
+    def release(self, unit: str, position: str) -> None:
+        """The announced change of ``unit``/``position`` will not happen: free its spare."""
+        ahead = self.ahead.pop((unit, position), None) if self.ahead else None
+        if ahead is None:
+            return
+        state = ahead.state
+        ahead.state = "released"
+        if state == "on_order":
+            self.kept_on_order -= 1
+            self.on_order += 1  # on its way to the free stock: in the inventory position now
+        elif state == "on_shelf":
+            self._accrue()
+            self.kept -= 1
+            self.on_hand += 1
+            self._serve_backorders()
+
+    def _order_ahead(self, ahead: Ahead, unit: str, position: str) -> None:
+        if ahead.state != "planned":
+            return  # released before its order date
+        ahead.state = "on_order"
+        self.kept_on_order += 1
+        self.stats.orders += 1
+        self.stats.ahead_orders += 1
+        self.stats.ordered_units += 1
+        if self.book is not None:
+            self.book.at(ordered_key(self.bearing_id), self.env.now, 1)
+        if self.log is not None:
+            self.log(self.env.now, unit, position, "order_ahead")
+        arrival = _EarlyArrival(self.env, self.stock.lead_time.sample(self.lead_rng))
+        arrival.callbacks.append(_AheadDelivery(self, ahead))
+
+    def _deliver_ahead(self, ahead: Ahead) -> None:
+        self._accrue()
+        if self.log is not None:
+            self.log(self.env.now, "", self.bearing_id, "delivery")
+        if ahead.state == "released":  # counted on order since its release
+            self.on_order -= 1
+            self.on_hand += 1
+            self._serve_backorders()
+            return
+        self.kept_on_order -= 1
+        if ahead.claim is not None:
+            claim = ahead.claim
+            ahead.state = "used"
+            claim.ahead = None
+            self._issued()
+            claim.filled = True
+            if claim.notify is not None:
+                claim.notify()
+        else:
+            ahead.state = "on_shelf"
+            self.kept += 1
+
+    def _take_ahead(self, ahead: Ahead, claim: Claim, unit: str, position: str) -> None:
+        """A planned demand meets the spare ordered ahead for it (no (s, S) review)."""
+        if ahead.state == "on_shelf":
+            ahead.state = "used"
+            self.kept -= 1
+            self._issued()
+            claim.filled = True
+            return
+        self.stats.stockouts += 1
+        if self.log is not None:
+            self.log(self.env.now, unit, position, "stockout")
+        if ahead.state == "planned":  # due earlier than announced: order now
+            self._order_ahead(ahead, unit, position)
+        ahead.claim = claim
+        claim.ahead = ahead
+
     # --- orders -------------------------------------------------------------------
     def _review(self) -> None:
         s, big_s = self.stock.reorder_point, self.stock.order_up_to
@@ -282,8 +420,18 @@ class SpareStore:
         if self.log is not None:
             self.log(self.env.now, "", self.bearing_id, "delivery")
         if claim is not None and not claim.filled:
-            self.backorders.remove(claim)
+            if claim.ahead is not None:  # it waited for its own spare: that one goes free
+                claim.ahead.claim = None
+                claim.ahead.state = "released"
+                self.kept_on_order -= 1
+                self.on_order += 1
+                claim.ahead = None
+            else:
+                self.backorders.remove(claim)
             self._fill(claim)
+        self._serve_backorders()
+
+    def _serve_backorders(self) -> None:
         while self.on_hand > 0 and self.backorders:
             self._fill(self.backorders.popleft())
 
@@ -291,9 +439,9 @@ class SpareStore:
         """Close the time averages at the horizon and return the counters."""
         self._accrue()
         st = self.stats
-        st.on_hand_end = self.on_hand
+        st.on_hand_end = self.on_hand + self.kept
         st.backorders_end = len(self.backorders)
-        st.on_order_end = self.on_order
+        st.on_order_end = self.on_order + self.kept_on_order
         return st
 
 
@@ -309,3 +457,42 @@ class _Delivery:
 
     def __call__(self, _event: Any) -> None:
         self.store._deliver(self.qty, self.claim)
+
+
+class _EarlyArrival(simpy.Event):
+    """A timeout processed before the other events of its instant (SimPy's URGENT priority):
+    a spare ordered ahead that arrives at the moment its change falls due is in time."""
+
+    def __init__(self, env: simpy.Environment, delay_h: float) -> None:
+        super().__init__(env)
+        self._ok = True
+        self._value = None
+        env.schedule(self, URGENT, delay_h)
+
+
+class _AheadOrder:
+    """Callback placing the order for an announced planned change on its order date."""
+
+    __slots__ = ("store", "ahead", "unit", "position")
+
+    def __init__(self, store: SpareStore, ahead: Ahead, unit: str, position: str) -> None:
+        self.store = store
+        self.ahead = ahead
+        self.unit = unit
+        self.position = position
+
+    def __call__(self, _event: Any) -> None:
+        self.store._order_ahead(self.ahead, self.unit, self.position)
+
+
+class _AheadDelivery:
+    """Callback delivering a spare ordered ahead."""
+
+    __slots__ = ("store", "ahead")
+
+    def __init__(self, store: SpareStore, ahead: Ahead) -> None:
+        self.store = store
+        self.ahead = ahead
+
+    def __call__(self, _event: Any) -> None:
+        self.store._deliver_ahead(self.ahead)

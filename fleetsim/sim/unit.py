@@ -193,6 +193,18 @@ class UnitRunner:
         sampler = self.ctx.life_sampler
         life = float(sampler(self.id, p.id, p.k)) if sampler is not None else None
         p.fit(self.clock_op, self.env.now, life)
+        if p.store.order_ahead and p.age_due_h < INF:
+            self.announce_age_due(p)
+
+    def announce_age_due(self, p: PositionState) -> None:
+        """Tell ``p``'s store when its age due falls, in calendar hours, for ordering ahead.
+
+        The date assumes the unit runs from now on; stops only delay the due,
+        so the spare ordered for this date is, if anything, early.
+        """
+        left = max(0.0, p.due_op - self.clock_op)
+        due = self.env.now + (left / self.share if self.share > 0.0 else INF)
+        p.store.plan_ahead(self.id, p.id, due)
 
     def _defect(self, p: PositionState) -> None:
         p.defect_seen = True
