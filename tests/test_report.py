@@ -296,7 +296,7 @@ def fast_png(monkeypatch):
     buf = io.BytesIO()
     Figure(figsize=(1, 1)).savefig(buf, format="png", dpi=10)
 
-    def draw_only(draw, size_in, dpi):
+    def draw_only(draw, size_in, dpi, view=""):
         draw(Figure(figsize=size_in).add_subplot())
         return buf.getvalue()
 
@@ -348,6 +348,34 @@ def test_report_writes_every_file_and_every_image_decodes(full) -> None:
     reps = pd.read_csv(paths.tables["replications"])
     assert list(reps.columns[:2]) == ["variant", "replication"] and len(reps) == 3 * 60
     assert pd.read_csv(paths.tables["events"])["variant"].unique().tolist() == ["run to failure"]
+
+
+def test_every_figure_says_which_view_it_shows(full) -> None:
+    """Budget view, policy view or the life model: in the page's heading and caption of every
+    figure, and in summary.json's list of figures (the PNG carries the same words)."""
+    doc = json.loads(full.summary_json.read_text(encoding="utf-8"))
+    views = {f["name"]: f["view"] for f in doc["figures"]}
+    assert set(views) == set(full.figures)
+    assert views["life"] == "life"
+    assert views["cost_rate_sweep"] == "budget"  # the test sweep has no view column
+    assert all(views[n] == "budget" for n in views if n not in ("life", "cost_rate_sweep"))
+    words = {"budget": "budget view", "policy": "policy view", "life": "life model"}
+    text = " ".join(parse(full.html).text)
+    for f in doc["figures"]:
+        assert f["title"].endswith(" — " + words[f["view"]])
+        assert f["title"] in text
+    assert text.count("Budget view: what the plant spends from today's fleet") >= 6
+    assert all(v["view"] == "budget" for v in doc["variants"])
+
+
+def test_a_sweep_on_the_policy_view_says_so_on_its_figure(tmp_path, fast_png) -> None:
+    sweep, analytic = make_sweep()
+    sweep["view"] = "policy"
+    paths = write_report(make_results(), tmp_path / "r", title="t", sweep=sweep,
+                         sweep_analytic=analytic, dpi=DPI)
+    doc = json.loads(paths.summary_json.read_text(encoding="utf-8"))
+    assert {f["name"]: f["view"] for f in doc["figures"]}["cost_rate_sweep"] == "policy"
+    assert "Policy view: long-run" in paths.html.read_text(encoding="utf-8")
 
 
 def test_summary_json_content_and_byte_identical_for_the_same_inputs(

@@ -669,3 +669,37 @@ def test_order_ahead_at_a_lower_operating_share_orders_by_the_calendar_date() ->
         (200.0, "U", "", "stop"),
     ]
     assert r.spares.loc[B, "stockouts"] == 0
+
+
+def test_order_ahead_a_late_spare_gives_way_to_a_free_one_on_the_shelf() -> None:
+    # One free spare on the shelf, (s, S) = (0, 1), lead 400 h > the 300 h notice: both
+    # spares for the block at 300 are ordered at once and arrive at 400. At 300 a takes the
+    # free spare (its own, still on its way, will join the free stock: the inventory position
+    # stays 1, no reorder); b finds none and waits for its own.
+    machine = Machine("U", 1, 1.0, 0.0, (pos("a", Policy("block", interval_h=300.0)),
+                                         pos("b", Policy("block", interval_h=300.0))))
+    sc = scenario([machine], stores={B: Stock(1, 0, 1, fixed(400.0), order_ahead=True)},
+                  crews=Crews(None, fixed(5.0), fixed(10.0)), horizon=500.0)
+    r = simulate(sc, 1, life_sampler=lives({}))
+    assert r.event_log() == [
+        (0.0, "U", "a", "order_ahead"),
+        (0.0, "U", "b", "order_ahead"),
+        (300.0, "U", "b", "stockout"),
+        (300.0, "U", "a", "order_ahead"),
+        (300.0, "U", "b", "order_ahead"),
+        (400.0, "", B, "delivery"),
+        (400.0, "", B, "delivery"),
+        (400.0, "U", "", "stop"),
+        (405.0, "U", "a", "planned"),
+        (405.0, "U", "b", "planned"),
+        (405.0, "U", "", "up"),
+    ]
+    s = r.spares.loc[B]
+    assert (s["demands"], s["stockouts"], s["orders"]) == (2, 1, 4)
+    # On the shelf: the free spare 0–300, a's own (freed) from 400 to the horizon.
+    assert s["mean_on_hand"] == pytest.approx((300.0 + 100.0) / 500.0)
+    # The (s, S) stock served a's demand (met at once); b's was its own spare's (late).
+    assert r.tally is not None
+    f = figures_of(r.tally, sc)
+    assert f[f"fill_rate:{B}"] == 0.5
+    assert f[f"stock_demands:{B}"] == 1.0 and f[f"stock_fill_rate:{B}"] == 1.0

@@ -80,6 +80,15 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
                           "base case, simulated on the same seed)."),
         click.option("--pdf", is_flag=True,
                      help="Also print the report to report.pdf (needs Chromium installed)."),
+        click.option("--until-resolved", is_flag=True,
+                     help="Add replications in batches, on common random numbers, until the best "
+                          "variant is resolved to the indifference zone or the budget is spent."),
+        click.option("--indifference-zone", default="1 %", show_default=True,
+                     help="With --until-resolved: differences smaller than this do not matter "
+                          "(a share of the best, '1 %', or an amount in the objective's unit)."),
+        click.option("--replication-budget", type=int, default=None,
+                     help="With --until-resolved: replications per variant at most "
+                          "(default: 8 x the replications)."),
     ]
     for opt in reversed(options):
         fn = opt(fn)
@@ -157,9 +166,18 @@ def _run_variants(variants: Sequence[Variant], *, replications: int | None, seed
     return results, ck_dir
 
 
+def _until(until_resolved: bool, zone: str, budget: int | None, replications: int) -> Any:
+    """The --until-resolved settings (checked before any work), or None."""
+    if not until_resolved:
+        return None
+    from fleetsim.study.sequential import settings
+
+    return settings(zone, 8 * replications if budget is None else budget, replications)
+
+
 def _decide(results: list[StudyResult], *, objective: str, baseline: int, workers: int,
             cluster: Any, quiet: bool, cost_settings: Sequence[str | None] | None = None,
-            sensitivity_keys: Sequence[str] = ()) -> Decision:
+            sensitivity_keys: Sequence[str] = (), until: Any = None) -> Decision:
     from fleetsim.study.decision import study_decision
 
     _note(quiet, "policy view (stationary start) of every variant, then stock sized by simulation")
@@ -167,7 +185,7 @@ def _decide(results: list[StudyResult], *, objective: str, baseline: int, worker
     try:
         return study_decision(results, objective=objective, baseline=baseline, workers=workers,
                               cluster=cluster, progress=bar, cost_settings=cost_settings,
-                              sensitivity_keys=sensitivity_keys)
+                              sensitivity_keys=sensitivity_keys, until=until)
     finally:
         bar.close()
 
@@ -225,7 +243,8 @@ def _finish(results: list[StudyResult], decision: Decision, out_dir: Path, ck_di
 def run(scenario: str, replications: int | None, seed: int | None, out: str | None, engine: str,
         workers: int, cluster: str | None, resume: bool, quiet: bool, as_json: bool,
         objective: str, baseline: str | None, param_draws: int | None = None,
-        pdf: bool = False) -> None:
+        pdf: bool = False, until_resolved: bool = False, indifference_zone: str = "1 %",
+        replication_budget: int | None = None) -> None:
     """Simulate SCENARIO (and its [[variant]]s on the same seed) and write the report."""
     _check_options(replications, seed, workers, cluster, out)
     _check_pdf(pdf)
@@ -238,6 +257,8 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
     variants, base_index = with_baseline(document, file_variants(document, scenario, digest),
                                          scenario, digest, baseline)
     base = variants[0].scenario
+    until = _until(until_resolved, indifference_zone, replication_budget,
+                   replications or base.study.replications)
     chosen, why = choose_engine(base, engine)
     _note(quiet, f"{base.study.name}: {len(variants)} variant(s), engine {chosen} ({why})")
     if param_draws is not None:
@@ -255,7 +276,7 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
                                     engine=engine, workers=_workers(workers), cluster=dask,
                                     quiet=quiet, resume=resume, out_dir=out_dir)
         decision = _decide(results, objective=objective, baseline=base_index,
-                           workers=_workers(workers), cluster=dask, quiet=quiet)
+                           workers=_workers(workers), cluster=dask, quiet=quiet, until=until)
     extra: dict[str, Any] = {"scenario_file": Path(scenario).name, "engine_choice": why}
     described = {v.name: v.description for v in variants if v.description}
     if described:
@@ -291,7 +312,8 @@ SWEEP_AXES = {"policy.interval": "Replacement interval",
 def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: int | None,
           seed: int | None, out: str | None, engine: str, workers: int, cluster: str | None,
           resume: bool, quiet: bool, as_json: bool, baseline: str | None,
-          param_draws: int | None = None, pdf: bool = False) -> None:
+          param_draws: int | None = None, pdf: bool = False, until_resolved: bool = False,
+          indifference_zone: str = "1 %", replication_budget: int | None = None) -> None:
     """Run every combination of --vary values on common random numbers, beside the base case.
 
     Sweeping a cost or price input is a sensitivity study: no recommendation.
@@ -329,6 +351,8 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
     variants, base_index = with_baseline(document, points, scenario, digest, baseline)
     offset = len(variants) - len(points)  # 1 when the base case was added in front
     base = variants[base_index].scenario
+    until = _until(until_resolved, indifference_zone, replication_budget,
+                   replications or base.study.replications)
     swept = [(k, vals) for k, vals in varies if len(vals) > 1]
     sensitivity_keys = [k for k, _vals in swept if is_cost_input(k)]
     cost_settings = [None] * offset + [
@@ -358,7 +382,8 @@ def sweep(scenario: str, vary: tuple[str, ...], objective: str, replications: in
                                     quiet=quiet, resume=resume, out_dir=out_dir)
         decision = _decide(results, objective=objective, baseline=base_index,
                            workers=_workers(workers), cluster=dask, quiet=quiet,
-                           cost_settings=cost_settings, sensitivity_keys=sensitivity_keys)
+                           cost_settings=cost_settings, sensitivity_keys=sensitivity_keys,
+                           until=until)
     best = decision.recommended
     shown = decision.decided_on()
     extra: dict[str, Any] = {

@@ -41,12 +41,15 @@ class FigureImage:
         What the figure shows, in plain words.
     png
         The PNG bytes.
+    view
+        ``"budget"``, ``"policy"`` or ``"life"`` (the life model, not simulated).
     """
 
     name: str
     title: str
     caption: str
     png: bytes
+    view: str = ""
 
     @property
     def data_uri(self) -> str:
@@ -194,14 +197,26 @@ def stock_rows(
         rows = []
         for a in advice:
             sim = a.get("simulated_fill_rate") or {}
+            levels = f"s = {a.get('reorder_point', '–')}, S = {a.get('order_up_to', '–')}"
+            if a.get("planned_demand"):
+                levels += ("; planned changes ordered ahead" if a.get("order_ahead")
+                           else "; planned changes not ordered ahead")
+            alt = a.get("alternative")
+            if isinstance(alt, Mapping):
+                way = "ordered ahead" if alt.get("order_ahead") else "not ordered ahead"
+                levels += (f" (with them {way}: s = {alt.get('reorder_point', '–')}, "
+                           f"S = {alt.get('order_up_to', '–')})")
+            target = fmt.percent(a.get("target_fill_rate"))
+            if a.get("target_shown_met") is False:
+                target += f", not shown met at {a.get('replications', '–')} replications"
             rows.append(
                 {
                     "bearing": str(a.get("bearing", "")),
-                    "levels": f"s = {a.get('reorder_point', '–')}, S = {a.get('order_up_to', '–')}",
+                    "levels": levels,
                     "fill": fmt.estimate(sim.get("mean"), sim.get("ci_low"), sim.get("ci_high"),
                                          share=True)
                     if sim else "–",
-                    "target": fmt.percent(a.get("target_fill_rate")),
+                    "target": target,
                     "variant": str(a.get("sized_for_variant", "")),
                 }
             )

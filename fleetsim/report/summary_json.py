@@ -92,6 +92,7 @@ def _variant(result: StudyResult, label: str, first: StudyResult | None) -> dict
         "replications": len(result.replications),
         "horizon_h": float(result.horizon_h),
         "currency": result.scenario.costs.currency,
+        "view": result.view,  # of the headline figures (budget: from today's fleet)
         "headline": [h.as_dict() for h in headline_figures(result)],
     }
     if (
@@ -106,6 +107,7 @@ def _variant(result: StudyResult, label: str, first: StudyResult | None) -> dict
             "ci_high": jsonable(est.high),
             "n": est.n,
             "method": method,
+            "view": result.view,
         }
     return out
 

@@ -106,15 +106,28 @@ class ReportPaths:
         return [self.html, self.summary_json, *self.tables.values(), *self.figures.values()]
 
 
-def _png(draw: Callable[[Axes], object], size_in: tuple[float, float], dpi: int) -> bytes:
+def _png(draw: Callable[[Axes], object], size_in: tuple[float, float], dpi: int,
+         view: str = "") -> bytes:
     from matplotlib.figure import Figure
 
     with report_style():
         fig = Figure(figsize=size_in, layout="constrained")
         draw(fig.add_subplot())
+        if view:  # the PNG on its own says which view it shows
+            fig.suptitle(VIEW_WORDS[view], x=0.01, ha="left", fontsize=7.5, color="0.35")
         buf = io.BytesIO()
         fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": None})
     return buf.getvalue()
+
+
+#: What each view of a figure means, in words (its heading, caption and PNG say which).
+VIEW_WORDS = {
+    "budget": "Budget view: what the plant spends from today's fleet over the horizon",
+    "policy": "Policy view: long-run, from a stationary start after a warm-up, free of "
+              "end-of-horizon effects",
+    "life": "Life model: computed from the ratings and duty, not simulated",
+}
+VIEW_TITLES = {"budget": "budget view", "policy": "policy view", "life": "life model"}
 
 
 @dataclass(frozen=True)
@@ -124,6 +137,17 @@ class _Plan:
     caption: str
     draw: Callable[[Axes], object]
     size_in: tuple[float, float]
+    view: str = "budget"
+
+    @property
+    def heading(self) -> str:
+        """The title with the view it shows."""
+        return f"{self.title} — {VIEW_TITLES[self.view]}"
+
+    @property
+    def text(self) -> str:
+        """The caption, opened by the view it shows."""
+        return f"{VIEW_WORDS[self.view]}. {self.caption}"
 
 
 def _figure_plans(
@@ -159,6 +183,7 @@ def _figure_plans(
             life_caption,
             partial(_draw_life, results[k].scenario, reliability=life_reliability, span=span),
             (WIDTH_IN, 4.2),
+            "life",
         )
         for j, k in enumerate(lives)
     ]
@@ -167,8 +192,9 @@ def _figure_plans(
             _Plan(
                 "cost_per_year",
                 "Cost per year by variant",
-                "Expected total cost per year of each variant with its 95 % confidence interval; the "
-                "recommended variant (lowest expected cost) is green, today's practice blue.",
+                "Expected total cost per year of each variant over the horizon with its 95 % "
+                "confidence interval; the recommended variant is green (chosen as the report's "
+                "recommendation says, on the policy view for cost), today's practice blue.",
                 lambda ax: figures.plot_cost_per_year(results, ax, labels=labels, recommended=best),
                 (WIDTH_IN, 1.3 + 0.5 * n),
             )
@@ -190,6 +216,7 @@ def _figure_plans(
                     parameter=sweep_parameter,
                 ),
                 (WIDTH_IN, 4.0),
+                _sweep_view(sweep),
             )
         )
     machines = len(fleet_figures.union_keys(results, "downtime_h"))
@@ -273,6 +300,13 @@ def _figure_plans(
             )
         )
     return plans
+
+
+def _sweep_view(sweep: pd.DataFrame) -> str:
+    """The view of a sweep's cost-rate curve (its ``view`` column; budget without one)."""
+    if "view" in sweep.columns and len(sweep) and str(sweep["view"].iloc[0]) in VIEW_WORDS:
+        return str(sweep["view"].iloc[0])
+    return "budget"
 
 
 def _draw_life(
@@ -540,9 +574,11 @@ def write_report(
             recommended_stock=recommended_stock,
             life_reliability=life_reliability,
         ):
-            png = _png(plan.draw, plan.size_in, dpi)
+            png = _png(plan.draw, plan.size_in, dpi, plan.view)
             (fig_dir / f"{plan.name}.png").write_bytes(png)
-            images.append(FigureImage(plan.name, plan.title, plan.caption, png))
+            images.append(FigureImage(plan.name, plan.heading, plan.text, png, plan.view))
+        doc["figures"] = [{"name": im.name, "title": im.title, "view": im.view,
+                           "file": f"{FIGURES_DIR}/{im.name}.png"} for im in images]
         (work / SUMMARY_NAME).write_bytes(summary_json.dumps(doc).encode("utf-8"))
         files = [SUMMARY_NAME, *(p.name for p in table_paths.values())]
         files += [f"{FIGURES_DIR}/{im.name}.png" for im in images]

@@ -267,7 +267,10 @@ def _tally(
         mt.lost_operating_h += lost
     bearings = {
         b: BearingTally(issued=float(st.issued),
-                        fill_rate=1.0 - st.stockouts / st.demands if st.demands else 1.0)
+                        fill_rate=1.0 - st.stockouts / st.demands if st.demands else 1.0,
+                        stock_demands=float(st.demands - st.own_spare),
+                        stock_fill_rate=(1.0 - (st.stockouts - st.own_late) / (st.demands - st.own_spare)
+                                         if st.demands > st.own_spare else 1.0))
         for b, st in stats.items()
     }
     groups = [GroupTally(str(r["group"]), bool(r["had_down"]),

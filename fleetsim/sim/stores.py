@@ -27,8 +27,9 @@ Conventions (stated once, also in the README):
   (at once when that is already past) and keeps it for that change: it is
   outside the inventory position, so the (s, S) stock serves the rest of the
   demand. The planned demand takes its own spare (at once when it has
-  arrived; otherwise it is a stock-out and waits for it) and causes no
-  review. An announcement whose change does not happen (the position was
+  arrived; otherwise a free spare from the shelf, and its own, when it
+  comes, joins the free stock; with neither it is a stock-out and waits for
+  its own spare). An announcement whose change does not happen (the position was
   renewed before it, skipped at the block date, or announced again) is
   released: its spare, on the shelf or on its way, joins the free stock.
 """
@@ -94,12 +95,14 @@ class StoreStats:
 
     __slots__ = (
         "demands", "issued", "stockouts", "orders", "emergency_orders", "ordered_units",
-        "ahead_orders", "on_hand_area", "backorder_area", "on_hand_end", "backorders_end",
+        "ahead_orders", "own_spare", "own_late", "on_hand_area", "backorder_area", "on_hand_end", "backorders_end",
         "on_order_end",
     )  # fmt: skip
 
     def __init__(self) -> None:
         self.ahead_orders = 0  # orders placed ahead for announced planned changes
+        self.own_spare = 0  # planned demands served by their own spare ordered ahead
+        self.own_late = 0  # of those, the ones that waited for it (stock-outs)
         self.demands = 0
         self.issued = 0
         self.stockouts = 0
@@ -377,14 +380,29 @@ class SpareStore:
             self.kept += 1
 
     def _take_ahead(self, ahead: Ahead, claim: Claim, unit: str, position: str) -> None:
-        """A planned demand meets the spare ordered ahead for it (no (s, S) review)."""
+        """A planned demand meets the spare ordered ahead for it (a free spare if its own is late)."""
         if ahead.state == "on_shelf":
             ahead.state = "used"
             self.kept -= 1
+            self.stats.own_spare += 1
             self._issued()
             claim.filled = True
             return
+        if self.on_hand > 0:  # its own spare is late: take a free one, free the late one
+            if ahead.state == "planned":
+                ahead.state = "released"  # never ordered: nothing on its way
+            else:
+                ahead.state = "released"
+                self.kept_on_order -= 1
+                self.on_order += 1  # arrives into the free stock
+            self.on_hand -= 1
+            self._issued()
+            claim.filled = True
+            self._review()
+            return
         self.stats.stockouts += 1
+        self.stats.own_spare += 1
+        self.stats.own_late += 1
         if self.log is not None:
             self.log(self.env.now, unit, position, "stockout")
         if ahead.state == "planned":  # due earlier than announced: order now

@@ -52,10 +52,17 @@ class MachineTally:
 
 @dataclass
 class BearingTally:
-    """One bearing kind: spares issued and the share of demands met from stock at once."""
+    """One bearing kind: spares issued and the share of demands met from stock at once.
+
+    ``stock_demands`` and ``stock_fill_rate`` count only the demands the (s, S)
+    stock serves: planned changes met by their own spare ordered ahead are left
+    out (None: every demand, the same as ``issued`` and ``fill_rate``).
+    """
 
     issued: float = 0.0
     fill_rate: float = 1.0
+    stock_demands: float | None = None
+    stock_fill_rate: float | None = None
 
 
 @dataclass

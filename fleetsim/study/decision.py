@@ -31,7 +31,14 @@ from fleetsim.errors import InputError
 from fleetsim.scenario.model import Scenario
 from fleetsim.study.result import StudyResult
 from fleetsim.study.selection import Selection, select_best, wording
-from fleetsim.study.stock import DEFAULT_TARGET, SimulatedStock, advise_stock
+from fleetsim.study.sequential import Screening, Settings, until_resolved
+from fleetsim.study.stock import (
+    DEFAULT_TARGET,
+    Simulate,
+    SimulatedStock,
+    advise_stock,
+    study_simulator,
+)
 from fleetsim.study.summary import Estimate, figure_estimate, paired_difference
 
 #: --objective name → (figure, minimise, words).
@@ -75,6 +82,35 @@ def interval_never_reached(scenario: Scenario) -> bool:
     return has_interval
 
 
+def _fill_words(a: SimulatedStock) -> str:
+    f = a.simulated_fill_rate
+    shown = (f"meets the target of {fmt.percent(a.target_fill_rate)} "
+             f"({a.replications:,} replications)" if a.target_shown_met else
+             f"target of {fmt.percent(a.target_fill_rate)} not shown met at "
+             f"{a.replications:,} replications")
+    return (f"simulated fill rate {fmt.estimate(f.mean, f.low, f.high, share=True)}, {shown}")
+
+
+def stock_sentence(a: SimulatedStock) -> str:
+    """The stock advice of one bearing in words (terminal and report)."""
+    ahead = ""
+    if a.planned_demand:
+        ahead = (" with planned changes ordered ahead (order_ahead = true)" if a.order_ahead else
+                 " without ordering planned changes ahead")
+    text = (f"Stock {a.bearing}: reorder point s = {a.reorder_point}, order-up-to S = "
+            f"{a.order_up_to}{ahead} (now s = {a.current_reorder_point}, "
+            f"S = {a.current_order_up_to}); {_fill_words(a)}; sized for {a.sized_for_variant} "
+            "(budget view)"
+            + ("" if a.settled else " (search not settled: more rounds needed, or more stock "
+                                    "did not raise the fill rate)") + ".")
+    alt = a.alternative
+    if alt is not None:
+        way = "With planned changes ordered ahead" if alt.order_ahead else "Without ordering ahead"
+        text += (f" {way}: s = {alt.reorder_point}, S = {alt.order_up_to} "
+                 f"({_fill_words(alt)}).")
+    return text
+
+
 @dataclass(frozen=True)
 class SensitivityRow:
     """The best variant for one setting of the swept cost inputs."""
@@ -115,6 +151,8 @@ class Decision:
         Stock advice for the recommended variant (the baseline in a sensitivity study).
     notes
         How the views were obtained.
+    sequential
+        The outcome of adding replications until resolved (``--until-resolved``), or None.
     """
 
     labels: tuple[str, ...]
@@ -130,6 +168,7 @@ class Decision:
     sensitivity: tuple[SensitivityRow, ...] = ()
     stock: tuple[SimulatedStock, ...] = ()
     notes: tuple[str, ...] = field(default=())
+    sequential: Screening | None = None
 
     @property
     def figure(self) -> str:
@@ -191,18 +230,17 @@ class Decision:
             else:
                 out.append(f"It is the baseline ({base}).")
             out.append(wording(self.selection, self.labels, words, unit, share=share))
+            if self.sequential is not None:
+                delta = self.sequential.indifference
+                zone = (f"{fmt.number(100 * delta, sig=2)} percentage points" if share else
+                        fmt.with_unit(fmt.number(delta), unit))
+                out.append(self.sequential.sentence(self.labels, zone))
         for i in self.never_reached:
             out.append(f"{self.labels[i]}: its interval never falls due within the "
                        f"{self.budget[i].horizon_years:.3g}-year horizon, so over the horizon it "
                        "is run to failure.")
         for a in self.stock:
-            f = a.simulated_fill_rate
-            out.append(
-                f"Stock {a.bearing}: reorder point s = {a.reorder_point}, order-up-to S = "
-                f"{a.order_up_to} (now s = {a.current_reorder_point}, S = {a.current_order_up_to}); "
-                f"simulated fill rate {fmt.estimate(f.mean, f.low, f.high, share=True)} against a "
-                f"target of {fmt.percent(a.target_fill_rate)}, sized for {a.sized_for_variant}"
-                + ("" if a.settled else " (search not settled: more rounds needed)") + ".")
+            out.append(stock_sentence(a))
         return out
 
     def table_lines(self) -> list[str]:
@@ -276,6 +314,8 @@ class Decision:
                              "mean": r.estimate.mean, "ci_low": r.estimate.low,
                              "ci_high": r.estimate.high} for r in self.sensitivity],
             "never_reached_within_horizon": [self.labels[i] for i in self.never_reached],
+            "sequential": (None if self.sequential is None
+                           else self.sequential.as_dict(self.labels)),
             "policy_view_method": list(self.notes),
         }
 
@@ -343,7 +383,7 @@ def decide(
                     sensitivity=tuple(rows), stock=tuple(stock), notes=notes)
 
 
-def stock_for(decision: Decision, simulate: Callable[[Scenario], StudyResult],
+def stock_for(decision: Decision, simulate: Simulate,
               target: float = DEFAULT_TARGET) -> Decision:
     """``decision`` with stock advice for its recommended variant (the baseline if none)."""
     import dataclasses
@@ -351,6 +391,45 @@ def stock_for(decision: Decision, simulate: Callable[[Scenario], StudyResult],
     k = decision.baseline if decision.recommended is None else decision.recommended
     advice = advise_stock(decision.budget[k], simulate, target=target)
     return dataclasses.replace(decision, stock=tuple(advice))
+
+
+def _until_resolved(decision: Decision, until: Settings, workers: int, cluster: Any,
+                    cost_settings: Sequence[str | None] | None) -> Decision:
+    """``decision`` decided again after replications added to its view until resolved."""
+    import dataclasses
+
+    from fleetsim.study.policy_view import run_policy_view
+    from fleetsim.study.study import run_study
+
+    fig, minimise, _ = OBJECTIVES[decision.objective]
+    on_policy = decision.view == "policy"
+    source = list(decision.decided_on())
+    first = [r.figure(fig).to_numpy(dtype=float) for r in source]
+    means = [float(v.mean()) for v in first]
+    delta = until.amount(min(means) if minimise else max(means))
+
+    def more(start: int, stop: int) -> list[Any]:
+        out = []
+        for k, b in enumerate(decision.budget):
+            if on_policy:
+                extra = run_policy_view(b.scenario, replications=stop, seed=b.seed, engine=b.engine,
+                                        workers=workers, cluster=cluster, label=b.label,
+                                        start=start)
+            else:
+                extra = run_study(b.scenario, replications=stop, seed=b.seed, engine=b.engine,
+                                  workers=workers, cluster=cluster, keep_events=False,
+                                  label=b.label, start=start)
+            source[k] = source[k].extended(extra)
+            out.append(extra.figure(fig).to_numpy(dtype=float))
+        return out
+
+    _values, screening = until_resolved(first, more, indifference=delta, budget=until.budget,
+                                        minimise=minimise)
+    budget = decision.budget if on_policy else tuple(source)
+    policy = tuple(source) if on_policy else decision.policy
+    again = decide(budget, objective=decision.objective, baseline=decision.baseline,
+                   policy=policy, cost_settings=cost_settings)
+    return dataclasses.replace(again, sequential=screening)
 
 
 def study_decision(
@@ -364,6 +443,7 @@ def study_decision(
     cost_settings: Sequence[str | None] | None = None,
     sensitivity_keys: Sequence[str] = (),
     stock_target: float | None = DEFAULT_TARGET,
+    until: Settings | None = None,
 ) -> Decision:
     """Run the policy views of ``budget``'s variants, decide, and size the stock by simulation.
 
@@ -382,20 +462,22 @@ def study_decision(
         ``progress(done, total)`` over the policy views and the stock rounds.
     stock_target
         Fill-rate target of the stock advice (None: no stock advice).
+    until
+        Add replications to the view decided on until the best is resolved
+        (:mod:`fleetsim.study.sequential`); None: the budget studies' count.
     """
     from fleetsim.study.cluster import study_cluster
 
     with study_cluster(cluster, workers, "--cluster") as dask:  # one cluster for the whole study
         return _study_decision(tuple(budget), objective, baseline, workers, dask, progress,
-                               cost_settings, sensitivity_keys, stock_target)
+                               cost_settings, sensitivity_keys, stock_target, until)
 
 
 def _study_decision(budget: tuple[StudyResult, ...], objective: str, baseline: int, workers: int,
                     cluster: Any, progress: Callable[[int, int], None] | None,
                     cost_settings: Sequence[str | None] | None, sensitivity_keys: Sequence[str],
-                    stock_target: float | None) -> Decision:
+                    stock_target: float | None, until: Settings | None = None) -> Decision:
     from fleetsim.study.policy_view import run_policy_view
-    from fleetsim.study.study import run_study
 
     total = len(budget) + (1 if stock_target is not None else 0)
     policy = []
@@ -407,15 +489,13 @@ def _study_decision(budget: tuple[StudyResult, ...], objective: str, baseline: i
             progress(k + 1, total)
     decision = decide(budget, objective=objective, baseline=baseline, policy=policy,
                       cost_settings=cost_settings, sensitivity_keys=sensitivity_keys)
+    if until is not None and not sensitivity_keys and len(budget) > 1:
+        decision = _until_resolved(decision, until, workers, cluster, cost_settings)
     if stock_target is None:
         return decision
     k = decision.baseline if decision.recommended is None else decision.recommended
     sized = budget[k]
-
-    def simulate(sc: Scenario) -> StudyResult:
-        return run_study(sc, replications=len(sized.replications), seed=sized.seed,
-                         workers=workers, cluster=cluster, keep_events=False, label=sized.label)
-
+    simulate = study_simulator(sized.seed, workers=workers, cluster=cluster, label=sized.label)
     decision = stock_for(decision, simulate, stock_target)
     if progress is not None:
         progress(total, total)

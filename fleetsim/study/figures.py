@@ -63,6 +63,9 @@ KEYED_FIGURES: dict[str, tuple[str, str, str]] = {
     "spares_issued": ("bearing", "count", "spares of the bearing issued over the horizon"),
     "spares_per_year": ("bearing", "count/year", "spares of the bearing issued per year"),
     "fill_rate": ("bearing", "share", "share of demands for the bearing met from stock at once"),
+    "stock_demands": ("bearing", "count", "demands the (s, S) stock serves (planned changes met "
+                                          "by their own spare ordered ahead left out)"),
+    "stock_fill_rate": ("bearing", "share", "share of the demands the (s, S) stock serves met at once"),
     "failures": ("machine", "count", "failures of the machine type's units"),
     "downtime_h": ("machine", "unit-hours", "down time of the machine type's units"),
     "availability": ("machine", "share", "availability of the machine type's units"),
@@ -193,6 +196,11 @@ def figures_of(tally: Tally, scenario: Scenario) -> dict[str, float]:
         out[f"spares_per_year:{b}"] = issued / tally.years
         fill = bt.fill_rate if bt is not None else 1.0
         out[f"fill_rate:{b}"] = fill if math.isfinite(fill) else 1.0
+        served = bt.stock_demands if bt is not None and bt.stock_demands is not None else issued
+        stock_fill = (bt.stock_fill_rate if bt is not None and bt.stock_fill_rate is not None
+                      else out[f"fill_rate:{b}"])
+        out[f"stock_demands:{b}"] = served
+        out[f"stock_fill_rate:{b}"] = stock_fill if math.isfinite(stock_fill) else 1.0
     book = tally.book
     year_cost = np.sum(list(by_year.values()), axis=0)
     plain = {"failures_in_year": book.years(FAILURES, False),

@@ -257,10 +257,12 @@ def run_policy_view(
     progress: Progress | None = None,
     horizon_h: float | None = None,
     label: str = "",
+    start: int = 0,
 ) -> StudyResult:
     """Simulate the policy view of ``scenario`` (see the module docstring).
 
-    Parameters are those of :func:`fleetsim.study.run_study`. The result's
+    Parameters are those of :func:`fleetsim.study.run_study` (``start``: run
+    only replications ``start`` to ``replications − 1``, to extend a view). The result's
     scenario carries the window as its horizon, its ``view`` is
     ``"policy"`` and its ``notes`` say how the window was chosen.
     """
@@ -272,6 +274,7 @@ def run_policy_view(
     table = run_replications(
         policy_replicate, (scenario, chosen, window.warmup_h, window.horizon_h),
         replications=reps, seed=s, workers=workers, cluster=cluster, progress=progress,
+        start=start,
     )
     shown = dataclasses.replace(scenario, study=dataclasses.replace(
         scenario.study, horizon_h=window.horizon_h))

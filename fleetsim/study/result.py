@@ -9,6 +9,7 @@ replication.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -117,6 +118,16 @@ class StudyResult:
         if "summary" not in self._cache:
             self._cache["summary"] = summarise(self.replications.drop(columns="replication"))
         return self._cache["summary"]
+
+    def extended(self, more: StudyResult) -> StudyResult:
+        """This study with the further replications of ``more`` (same scenario and seed) appended."""
+        if more.seed != self.seed or more.engine != self.engine:
+            raise ValueError("extended: the further replications must share the seed and engine")
+        table = pd.concat([self.replications, more.replications], ignore_index=True)
+        if table["replication"].duplicated().any():
+            raise ValueError("extended: replications overlap")
+        return dataclasses.replace(self, replications=table,
+                                   elapsed_s=self.elapsed_s + more.elapsed_s, _cache={})
 
     def figure(self, name: str) -> pd.Series:
         """The per-replication values of one figure."""

@@ -154,6 +154,7 @@ def run_replications(
     study_key: str = "",
     chunk_size: int | None = None,
     cluster: str | DaskCluster | None = None,
+    start: int = 0,
 ) -> pd.DataFrame:
     """Run ``replications`` independent replications of ``task``.
 
@@ -186,14 +187,20 @@ def run_replications(
         ``workers`` processes started for this call, or a
         :class:`~fleetsim.study.cluster.DaskCluster` already open (several
         studies on one cluster). Needs the ``cluster`` extra (dask.distributed).
+    start
+        Run only replications ``start`` to ``replications − 1`` (those below
+        were run before: a sequential procedure adding replications on the
+        same seeds). Replication i has the same seed whatever ``start`` is.
 
     Returns
     -------
     pandas.DataFrame
-        One row per replication (sorted by the ``replication`` column).
+        One row per replication run (sorted by the ``replication`` column).
     """
     if replications < 1:
         raise InputError("replications", f"expected at least 1, got {replications}")
+    if not 0 <= start < replications:
+        raise InputError("replications", f"expected 0 <= start < {replications}, got {start}")
     seed = check_seed(seed)
     if isinstance(cluster, str):
         check_cluster(cluster)
@@ -203,13 +210,14 @@ def run_replications(
     ck_file = None
     if checkpoint is not None:
         ck_path = Path(checkpoint)
-        done = {i: r for i, r in _read_checkpoint(ck_path, study_key).items() if i < replications}
+        done = {i: r for i, r in _read_checkpoint(ck_path, study_key).items()
+                if start <= i < replications}
         new_file = not ck_path.exists()
         ck_file = ck_path.open("a", encoding="utf-8")
         if new_file:
             ck_file.write(json.dumps({"study_key": study_key}) + "\n")
             ck_file.flush()
-    todo = [i for i in range(replications) if i not in done]
+    todo = [i for i in range(start, replications) if i not in done]
     rows = dict(done)
     if progress is not None:
         progress(len(rows), replications)

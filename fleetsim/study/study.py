@@ -49,6 +49,7 @@ def run_study(
     keep_events: bool = True,
     label: str = "",
     events_file: str | Path | None = None,
+    start: int = 0,
 ) -> StudyResult:
     """Simulate ``scenario`` for many replications and summarise.
 
@@ -79,6 +80,10 @@ def run_study(
         of holding it.
     label
         Name of this variant in comparisons.
+    start
+        Run only replications ``start`` to ``replications − 1`` (see
+        :func:`~fleetsim.study.runner.run_replications`); join the results
+        with :meth:`StudyResult.extended`.
 
     Returns
     -------
@@ -102,9 +107,10 @@ def run_study(
         progress=progress,
         checkpoint=checkpoint,
         study_key=key,
+        start=start,
     )
     events = None
-    if keep_events:
+    if keep_events and start == 0:
         from fleetsim.sim import simulate
 
         first = simulate(scenario, replication_seed(s, 0), horizon_h=horizon,
@@ -118,7 +124,8 @@ def run_study(
         elapsed_s=time.perf_counter() - started,
         workers=workers,
         events=events,
-        events_file=Path(events_file) if events_file is not None and keep_events else None,
+        events_file=(Path(events_file) if events_file is not None and keep_events and start == 0
+                     else None),
         label=label or scenario.study.name,
     )
 
