@@ -291,3 +291,21 @@ def test_size_scenario_prints_its_answer_first_and_the_decision_contract(
     assert obj["baseline"] == "Today's bearings"
     assert obj["recommended"]["view"] == "policy"
     assert set(obj["policy_view"]) == {"Today's bearings", "New selection"}
+
+
+def test_until_resolved_adds_replications_and_says_how_it_ended(
+        small: Path, tmp_path: Path, capsys) -> None:
+    assert main(["run", str(small), "--out", str(tmp_path / "r"), "--quiet", "--json",
+                 "--replications", "6", "--until-resolved", "--indifference-zone", "5 %",
+                 "--replication-budget", "24"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    seq = doc["sequential"]
+    assert seq["replication_budget"] == 24 and 6 <= seq["replications"] <= 24
+    assert seq["survivors"] and set(seq["survivors"]) <= {v["variant"] for v in doc["variants"]}
+    assert seq["resolved"] or seq["replications"] == 24
+    assert doc["selection"]["replications"] == seq["replications"]
+    assert all(f["view"] in ("budget", "policy", "life") for f in doc["figures"])
+    # Bad settings are one-line errors before any work.
+    for bad in (["--indifference-zone", "lots"], ["--replication-budget", "3"]):
+        assert main(["run", str(small), "--out", str(tmp_path / "x"), "--quiet",
+                     "--replications", "6", "--until-resolved", *bad]) == 2
