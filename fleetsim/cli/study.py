@@ -98,7 +98,7 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
 def _check_options(replications: int | None, seed: int | None, workers: int,
                    cluster: str | None, out: str | None = None) -> None:
     """Refuse bad options before any work starts."""
-    from fleetsim.report.writer import check_report_folder
+    from fleetsim.report.folder import check_report_folder
 
     if replications is not None and not 1 <= replications <= MAX_REPLICATIONS:
         raise InputError("--replications",
