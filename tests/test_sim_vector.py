@@ -5,6 +5,8 @@ from __future__ import annotations
 import math
 
 import numpy as np
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy import integrate, stats
 
 from fleetsim.life import BearingType, LifeDistribution
@@ -157,3 +159,23 @@ def test_k_out_of_n_group_downtime_matches_binomial() -> None:
     share = out["group_downtime_h:g"] / 400_000.0
     se = share.std(ddof=1) / math.sqrt(share.size)
     assert abs(share.mean() - expected) < 4 * se
+
+
+@settings(max_examples=80, deadline=None)
+@given(st.integers(1, 5), st.integers(1, 40), st.integers(0, 2**32 - 1))
+def test_the_stop_order_is_the_four_key_lexsort(P: int, units: int, seed: int) -> None:
+    """The whole-cycle path's event order (unit, clock, failed first, position) equals
+    numpy's lexsort of those keys, with many events sharing a unit and a clock."""
+    from fleetsim.sim.cycles import _stop_order
+
+    rng = np.random.default_rng(seed)
+    m = int(rng.integers(1, 200))
+    unit = rng.integers(0, units, m)
+    clock = rng.choice(np.array([0.0, 1.5, 2.0, 7.25, 1e4]), m)  # many ties
+    clock = np.where(rng.random(m) < 0.5, clock, rng.random(m) * 10.0)
+    failed = rng.random(m) < 0.5
+    pos = rng.integers(0, P, m)
+    expected = np.lexsort((pos, ~failed, clock, unit))
+    got = _stop_order(unit, clock, failed, pos, P)
+    for key in (unit, clock, failed, pos):
+        np.testing.assert_array_equal(key[got], key[expected])

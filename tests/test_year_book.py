@@ -14,6 +14,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from fleetsim.life import BearingType, LifeDistribution
 from fleetsim.scenario.model import (
@@ -195,3 +197,31 @@ def test_journal_and_queued_arrays_book_what_at_and_down_book() -> None:
         np.testing.assert_allclose(later.years(key, False), now.years(key, False), rtol=1e-12)
         np.testing.assert_allclose(later.years(key), now.years(key), rtol=1e-12)
     assert later == later and not journal  # reading settled everything
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.tuples(st.floats(0.0, 5.2 * Y), st.floats(0.0, 3.0 * Y),
+                          st.floats(0.1, 5.0)), min_size=1, max_size=30),
+       st.sampled_from([0.0, 0.08]), st.booleans())
+def test_arrays_of_intervals_are_split_at_each_year_end_exactly(
+        rows: list[tuple[float, float, float]], rate: float, weighted: bool) -> None:
+    """over_many of many intervals (some across several year ends) books, year by
+    year, the sum over the intervals of weight × hours in that year and weight ×
+    ∫ v(t) dt with v(t) = exp(−δ t) (continuous discounting, as in the first test)."""
+    H = 5.5 * Y
+    book = YearBook(H, Discount(rate))
+    s = np.array([r[0] for r in rows])
+    e = np.minimum(s + np.array([r[1] for r in rows]), H)
+    w = np.array([r[2] for r in rows]) if weighted else np.ones(len(rows))
+    book.over_many("x", s, e, w if weighted else 1.0)
+    delta = math.log1p(rate) / Y
+    plain, pv = np.zeros(book.n), np.zeros(book.n)
+    for a, b, wt in zip(s.tolist(), e.tolist(), w.tolist(), strict=True):
+        for y in range(book.n):
+            lo, hi = max(a, y * Y), b if y == book.n - 1 else min(b, (y + 1) * Y)
+            if hi > lo:
+                plain[y] += wt * (hi - lo)
+                pv[y] += wt * ((hi - lo) if rate == 0.0 else
+                               (math.exp(-delta * lo) - math.exp(-delta * hi)) / delta)
+    np.testing.assert_allclose(book.years("x", False), plain, rtol=1e-10, atol=1e-6)
+    np.testing.assert_allclose(book.years("x"), pv, rtol=1e-10, atol=1e-6)

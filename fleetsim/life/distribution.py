@@ -370,10 +370,14 @@ class LifeDistribution:
         log_keep = np.log1p(-uu)
         if self.is_weibull:
             e = -log_keep
-            new = self.location_h + self.scale_h * e ** (1.0 / self.shape)
             a = np.asarray(age_h, dtype=float)
             if not (a > 0.0).any():
+                # location + scale · e^(1/b), the same operations in place
+                new = np.power(e, 1.0 / self.shape, out=e if e.ndim else None)
+                new *= self.scale_h
+                new += self.location_h
                 return new
+            new = self.location_h + self.scale_h * e ** (1.0 / self.shape)
             z0 = (np.maximum(a - self.location_h, 0.0) / self.scale_h) ** self.shape
             aged = self.location_h + self.scale_h * (z0 + e) ** (1.0 / self.shape) - a
             return np.where(a > 0.0, aged, new)

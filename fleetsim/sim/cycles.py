@@ -21,6 +21,7 @@ from fleetsim.sim.tally import CHANGES, FAILURES, LABOUR_H
 from fleetsim.sim.years import YearBook
 
 INF = math.inf
+_NONE = np.empty(0)  # no stop quantiles (fixed stop durations)
 
 
 def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: Streams,
@@ -90,9 +91,11 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
             idx, clock, delay = idx[keep], c[keep], (delay + d)[keep]
         else:
             inside = (c < c_max) | (c <= 0.0)  # (a position due at the start stops at once)
-            su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else np.zeros(idx.size)
+            su = T_stop.row(k).reshape(-1)[idx] if T_stop is not None else _NONE
             if not inside.all():
-                idx, c, failed, su = idx[inside], c[inside], failed[inside], su[inside]
+                sel = np.flatnonzero(inside)
+                idx, c, failed = idx.take(sel), c.take(sel), failed.take(sel)
+                su = su.take(sel) if su.size else su
             parts.append((idx, c, failed, su))
             clock = c
         k += 1
@@ -108,7 +111,8 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         st_unit, st_fail, stop_of = e_unit, e_fail, None
     else:
         e_clock = np.concatenate([x[1] for x in parts])
-        e_u = np.concatenate([x[3] for x in parts])
+        e_u = np.concatenate([x[3] for x in parts]) if T_stop is not None else \
+            np.zeros(e_clock.size)
         # one stop per (unit, clock value); inside a stop its lead first: the first failed
         # position in position order, else the first position (the DES's stop_u choice)
         order = _stop_order(e_unit, e_clock, e_fail, e_pos, P)
@@ -159,17 +163,30 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
 
 def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np.ndarray,
                 P: int) -> np.ndarray:
-    """The order of ``np.lexsort((pos, ~failed, clock, unit))``, by one integer key.
+    """The order of ``np.lexsort((pos, ~failed, clock, unit))``, in about half its time.
 
-    The clock values are replaced by their ranks among the distinct values
-    (ties stay ties), so (unit, clock rank, failed first, position) packs
-    exactly into one int64 and a single stable argsort gives the same order
-    as the four-key lexsort, in about a third of the time.
+    One sort by clock, then a stable sort by unit (a radix sort for up to
+    65,535 units) groups each unit's events by clock; only then are the few
+    events that share a unit and a clock value (one stop) put in the order
+    failed first, then by position, with a small lexsort of those events
+    alone. Events of one stop have the same unit and clock, so the order of
+    ties in the first sort is never seen.
     """
-    values, rank = np.unique(clock, return_inverse=True)
-    tie = np.where(failed, 0, P) + pos
-    key = (unit.astype(np.int64) * values.size + rank) * (2 * P) + tie
-    return np.argsort(key, kind="stable")
+    by_clock = np.argsort(clock)
+    u = unit.astype(np.uint16 if unit.size and int(unit.max()) < 65_536 else np.int64)
+    order = by_clock[np.argsort(u[by_clock], kind="stable")]
+    su, sc = unit[order], clock[order]
+    tied = np.zeros(order.size, dtype=bool)
+    same = (su[1:] == su[:-1]) & (sc[1:] == sc[:-1])
+    tied[1:] |= same
+    tied[:-1] |= same
+    at = np.flatnonzero(tied)
+    if at.size:  # the events of shared stops, by (stop, failed first, position)
+        stop = np.cumsum(~same[at[1:] - 1])  # at[i] continues the stop of at[i-1] iff same
+        stop = np.concatenate(([0], stop))
+        ev = order[at]
+        order[at] = ev[np.lexsort((pos[ev], ~failed[ev], stop))]
+    return order
 
 
 def renewal_exact(machine: Machine, scenario: Scenario) -> bool:

@@ -303,38 +303,53 @@ class YearBook:
     def _spread(self, s: np.ndarray, e: np.ndarray, weight: np.ndarray | float
                 ) -> tuple[np.ndarray, np.ndarray | None]:
         """Per-year sums of ``weight`` × hours of the intervals [s, e), and their present
-        values (None at rate 0), each interval split at the year ends."""
-        w = np.broadcast_to(np.asarray(weight, dtype=float), s.shape)
-        scalar = np.ndim(weight) == 0
+        values (None at rate 0), each interval split at the year ends.
+
+        An interval across year ends becomes its piece in its first year, its piece
+        in its last year and whole years between (counted with a difference array),
+        so no year is visited one by one.
+        """
         n = self.n
-        plain = np.zeros(n)
-        present = None if self._plain else np.zeros(n)
-        y0 = np.minimum((s / HOURS_PER_YEAR).astype(np.int64), n - 1)
-        y1 = np.minimum((e / HOURS_PER_YEAR).astype(np.int64), n - 1)
-        one = y0 == y1  # most intervals lie inside one year: no splitting
-        every = bool(one.all())
-        if every or one.any():
-            so, eo, yo = (s, e, y0) if every else (s[one], e[one], y0[one])
-            span = np.maximum(eo - so, 0.0)
-            wo = w if every else w[one]
-            if scalar:
-                plain += np.bincount(yo, weights=span, minlength=n) * float(weight)
-            else:
-                plain += np.bincount(yo, weights=wo * span, minlength=n)
+        scalar = np.ndim(weight) == 0
+        w = None if scalar else np.broadcast_to(np.asarray(weight, dtype=float), s.shape)
+        y0 = (s / HOURS_PER_YEAR).astype(np.int64)
+        np.minimum(y0, n - 1, out=y0)
+        y1 = (e / HOURS_PER_YEAR).astype(np.int64)
+        np.minimum(y1, n - 1, out=y1)
+        cross = np.flatnonzero(y0 != y1)  # (few: most intervals lie inside one year)
+        full: np.ndarray | None = None  # weight of the intervals covering each whole year
+        if cross.size:
+            cy0, cy1 = y0[cross], y1[cross]
+            cw = np.ones(cross.size) if w is None else w[cross]
+            tail_s, tail_e = cy1 * HOURS_PER_YEAR, e[cross]  # the piece in the last year
+            e = e.copy()
+            e[cross] = (cy0 + 1) * HOURS_PER_YEAR  # the piece in the first year
+            s, e = np.concatenate([s, tail_s]), np.concatenate([e, tail_e])
+            y0 = np.concatenate([y0, cy1])
+            if w is not None:
+                w = np.concatenate([w, cw])
+            inner = cy1 - cy0 > 1
+            if inner.any():
+                diff = np.zeros(n + 1)
+                np.add.at(diff, cy0[inner] + 1, cw[inner])
+                np.add.at(diff, cy1[inner], -cw[inner])
+                full = np.cumsum(diff[:n])
+        span = e - s
+        np.maximum(span, 0.0, out=span)
+        plain: np.ndarray = (np.bincount(y0, weights=span, minlength=n) * float(weight)
+                             if w is None else np.bincount(y0, weights=w * span, minlength=n))
+        present: np.ndarray | None = None
+        if not self._plain:
+            v = self.discount.integrals(s, e)
+            present = (np.bincount(y0, weights=v, minlength=n) * float(weight) if w is None
+                       else np.bincount(y0, weights=w * v, minlength=n))
+        if full is not None:
+            if w is None:
+                full = full * float(weight)
+            plain += full * HOURS_PER_YEAR
             if present is not None:
-                v = self.discount.integrals(so, eo)
-                present += np.bincount(yo, weights=wo * v, minlength=n)
-        if not every:
-            across = ~one  # the few intervals across a year end, year by year
-            s, e, w, y0, y1 = s[across], e[across], w[across], y0[across], y1[across]
-            for y in range(int(y0.min()), int(y1.max()) + 1):
-                lo = np.maximum(s, y * HOURS_PER_YEAR)
-                hi = e if y == n - 1 else np.minimum(e, (y + 1) * HOURS_PER_YEAR)
-                inside = (y0 <= y) & (y1 >= y) & (hi > lo)
-                if inside.any():
-                    plain[y] += float((w * (hi - lo))[inside].sum())
-                    if present is not None:
-                        present[y] += float((w * self.discount.integrals(lo, hi))[inside].sum())
+                edges = np.arange(n + 1) * HOURS_PER_YEAR
+                present += full * self.discount.integrals(edges[:-1], edges[1:])
         return plain, present
 
     def total(self, key: str, present: bool = True) -> float:
