@@ -7,10 +7,13 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from fleetsim.errors import InputError
 from fleetsim.scenario import load_scenario
 from fleetsim.seed import check_seed
+from fleetsim.sim.streams import UniformTable
 from fleetsim.study import compare, replication_seed, run_replications, run_study
 
 DEMO = Path(__file__).resolve().parents[1] / "scenarios" / "pump_stations.toml"
@@ -56,3 +59,25 @@ def test_a_scenario_built_in_python_gets_the_same_check() -> None:
     # ... and run_study checks a seed given to it
     with pytest.raises(InputError, match=r"^seed: expected a seed .*got -4$"):
         run_study(scenario, replications=1, seed=-4, keep_events=False)
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.tuples(st.sampled_from(["row", "take", "get"]), st.integers(0, 40)),
+                min_size=1, max_size=12))
+def test_a_table_value_does_not_depend_on_how_the_table_grew(
+        reads: list[tuple[str, int]]) -> None:
+    """U[k, unit, position] is the k-th row of the generator's stream in C order,
+    however the rows were read (row by row in place, arrays of indexes, scalars)."""
+    units, positions = 3, 2
+    table = UniformTable(np.random.default_rng(11), units, positions)
+    for how, k in reads:
+        if how == "row":
+            got = table.row(k)
+        elif how == "take":
+            u, p = np.indices((units, positions))
+            got = table.take(np.full(u.shape, k), u, p)
+        else:
+            got = np.array([[table.get(k, u, p) for p in range(positions)]
+                            for u in range(units)])
+        rows = np.random.default_rng(11).random((k + 1, units, positions))
+        np.testing.assert_array_equal(got, rows[k])

@@ -176,6 +176,8 @@ def test_the_stop_order_is_the_four_key_lexsort(P: int, units: int, seed: int) -
     failed = rng.random(m) < 0.5
     pos = rng.integers(0, P, m)
     expected = np.lexsort((pos, ~failed, clock, unit))
-    got = _stop_order(unit, clock, failed, pos, P)
+    got, unit_sorted, clock_sorted = _stop_order(unit, clock, failed, pos, P)
     for key in (unit, clock, failed, pos):
         np.testing.assert_array_equal(key[got], key[expected])
+    np.testing.assert_array_equal(unit_sorted, unit[expected])
+    np.testing.assert_array_equal(clock_sorted, clock[expected])

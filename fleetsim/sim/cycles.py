@@ -111,20 +111,21 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         st_unit, st_fail, stop_of = e_unit, e_fail, None
     else:
         e_clock = np.concatenate([x[1] for x in parts])
-        e_u = np.concatenate([x[3] for x in parts]) if T_stop is not None else \
-            np.zeros(e_clock.size)
         # one stop per (unit, clock value); inside a stop its lead first: the first failed
         # position in position order, else the first position (the DES's stop_u choice)
-        order = _stop_order(e_unit, e_clock, e_fail, e_pos, P)
-        e_unit, e_pos, e_clock, e_fail, e_u = (a[order]
-                                               for a in (e_unit, e_pos, e_clock, e_fail, e_u))
+        order, e_unit, e_clock = _stop_order(e_unit, e_clock, e_fail, e_pos, P)
+        e_pos, e_fail = e_pos[order], e_fail[order]
         new = np.ones(e_unit.size, dtype=bool)
         new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
         starts = np.flatnonzero(new)
         stop_of = np.cumsum(new) - 1  # stop index of every event
         st_unit, st_clock = e_unit[starts], e_clock[starts]
         st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
-        d = np.where(st_fail, stop_hours(d_fail, e_u[starts]), stop_hours(d_plan, e_u[starts]))
+        if T_stop is None:  # fixed durations
+            d = np.where(st_fail, d_fail.value_h, d_plan.value_h)
+        else:
+            lead_u = np.concatenate([x[3] for x in parts])[order[starts]]
+            d = np.where(st_fail, stop_hours(d_fail, lead_u), stop_hours(d_plan, lead_u))
         # calendar start of each stop: operating clock / share + earlier stops of its unit
         before = np.cumsum(d) - d
         first = np.ones(starts.size, dtype=bool)
@@ -142,7 +143,7 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         ev_live, ev_done, ev_t0, ev_end = live[stop_of], done[stop_of], t0[stop_of], end[stop_of]
     # counts and the year book, with the DES's conventions
     failed_ev = e_fail & ev_live
-    np.add.at(s.failures, e_unit[failed_ev], 1.0)
+    s.failures += np.bincount(e_unit[failed_ev], minlength=U)
     book.at_many(FAILURES, ev_t0[failed_ev])
     s.issue(e_pos[ev_live], ev_t0[ev_live])  # asked for at the failure or the due age
     planned_ev = ~e_fail & ev_done
@@ -162,8 +163,9 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
 
 
 def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np.ndarray,
-                P: int) -> np.ndarray:
-    """The order of ``np.lexsort((pos, ~failed, clock, unit))``, in about half its time.
+                P: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The order of ``np.lexsort((pos, ~failed, clock, unit))``, in about half its time,
+    with ``unit`` and ``clock`` in that order.
 
     One sort by clock, then a stable sort by unit (a radix sort for up to
     65,535 units) groups each unit's events by clock; only then are the few
@@ -185,8 +187,8 @@ def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np
         stop = np.cumsum(~same[at[1:] - 1])  # at[i] continues the stop of at[i-1] iff same
         stop = np.concatenate(([0], stop))
         ev = order[at]
-        order[at] = ev[np.lexsort((pos[ev], ~failed[ev], stop))]
-    return order
+        order[at] = ev[np.lexsort((pos[ev], ~failed[ev], stop))]  # (su, sc stay as they are)
+    return order, su, sc
 
 
 def renewal_exact(machine: Machine, scenario: Scenario) -> bool:

@@ -46,26 +46,37 @@ class UniformTable:
     rows were ever drawn.
     """
 
-    __slots__ = ("rng", "shape", "data", "_rows", "_lists")
+    __slots__ = ("rng", "shape", "_blocks", "_data", "_rows", "_lists")
 
     def __init__(self, rng: np.random.Generator, units: int, positions: int) -> None:
         self.rng = rng
         self.shape = (units, positions)
-        self.data = rng.random((BLOCK_ROWS, units, positions))
+        #: rows drawn so far, in the chunks they were drawn in (joined when ``data`` is read)
+        self._blocks: list[np.ndarray] = [rng.random((BLOCK_ROWS, units, positions))]
+        self._data: np.ndarray | None = self._blocks[0]
         self._rows = BLOCK_ROWS
         #: rows as nested Python lists, made on first use by :meth:`get` (a list index
         #: is several times cheaper than a numpy scalar)
         self._lists: list[list[list[float]] | None] = [None] * BLOCK_ROWS
 
-    def _grow(self, rows: int) -> None:
+    @property
+    def data(self) -> np.ndarray:
+        """All rows drawn so far, shape (rows, units, positions)."""
+        if self._data is None:
+            self._data = np.concatenate(self._blocks)
+            self._blocks = [self._data]
+        return self._data
+
+    def _grow(self, rows: int, double: bool = True) -> None:
         if rows <= self._rows:
             return
-        # At least double (amortised linear time in the rows used); whole blocks, so the
-        # values are those of drawing BLOCK_ROWS rows at a time.
-        target = max(rows, 2 * self._rows)
+        # Whole blocks, so the values are those of drawing BLOCK_ROWS rows at a time; at
+        # least double for the array reads (amortised linear time in the rows used), only
+        # what is needed for :meth:`row`, which reads a chunk in place.
+        target = max(rows, 2 * self._rows) if double else rows
         target = -(-target // BLOCK_ROWS) * BLOCK_ROWS
-        more = self.rng.random((target - self._rows, *self.shape))
-        self.data = np.concatenate([self.data, more])
+        self._blocks.append(self.rng.random((target - self._rows, *self.shape)))
+        self._data = None
         self._lists.extend([None] * (target - self._rows))
         self._rows = target
 
@@ -85,8 +96,14 @@ class UniformTable:
 
     def row(self, k: int) -> np.ndarray:
         """Row k, shape (units, positions)."""
-        self._grow(k + 1)
-        return self.data[k]
+        self._grow(k + 1, double=False)
+        if self._data is not None:
+            return self._data[k]
+        for block in self._blocks:
+            if k < block.shape[0]:
+                return block[k]
+            k -= block.shape[0]
+        raise IndexError(k)  # (never: the table was grown to hold row k)
 
 
 def as_seed_sequence(seed: np.random.SeedSequence | int) -> np.random.SeedSequence:

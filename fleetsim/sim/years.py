@@ -318,31 +318,30 @@ class YearBook:
         np.minimum(y1, n - 1, out=y1)
         cross = np.flatnonzero(y0 != y1)  # (few: most intervals lie inside one year)
         full: np.ndarray | None = None  # weight of the intervals covering each whole year
+        tail: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None = None
         if cross.size:
             cy0, cy1 = y0[cross], y1[cross]
             cw = np.ones(cross.size) if w is None else w[cross]
-            tail_s, tail_e = cy1 * HOURS_PER_YEAR, e[cross]  # the piece in the last year
+            # the piece in the last year, booked apart below
+            tail = (cy1 * HOURS_PER_YEAR, e[cross], cy1, cw)
             e = e.copy()
             e[cross] = (cy0 + 1) * HOURS_PER_YEAR  # the piece in the first year
-            s, e = np.concatenate([s, tail_s]), np.concatenate([e, tail_e])
-            y0 = np.concatenate([y0, cy1])
-            if w is not None:
-                w = np.concatenate([w, cw])
             inner = cy1 - cy0 > 1
             if inner.any():
                 diff = np.zeros(n + 1)
                 np.add.at(diff, cy0[inner] + 1, cw[inner])
                 np.add.at(diff, cy1[inner], -cw[inner])
                 full = np.cumsum(diff[:n])
-        span = e - s
-        np.maximum(span, 0.0, out=span)
-        plain: np.ndarray = (np.bincount(y0, weights=span, minlength=n) * float(weight)
-                             if w is None else np.bincount(y0, weights=w * span, minlength=n))
-        present: np.ndarray | None = None
-        if not self._plain:
-            v = self.discount.integrals(s, e)
-            present = (np.bincount(y0, weights=v, minlength=n) * float(weight) if w is None
-                       else np.bincount(y0, weights=w * v, minlength=n))
+        plain, present = self._pieces(s, e, y0, w)
+        if tail is not None:
+            tp, tv = self._pieces(*tail)
+            plain += tp
+            if present is not None and tv is not None:
+                present += tv
+        if w is None:
+            plain *= float(weight)
+            if present is not None:
+                present *= float(weight)
         if full is not None:
             if w is None:
                 full = full * float(weight)
@@ -351,6 +350,18 @@ class YearBook:
                 edges = np.arange(n + 1) * HOURS_PER_YEAR
                 present += full * self.discount.integrals(edges[:-1], edges[1:])
         return plain, present
+
+    def _pieces(self, s: np.ndarray, e: np.ndarray, y: np.ndarray, w: np.ndarray | None
+                ) -> tuple[np.ndarray, np.ndarray | None]:
+        """Per-year sums of w × hours of pieces [s, e) inside year ``y`` (w None: 1),
+        and their present values (None at rate 0)."""
+        span = e - s
+        np.maximum(span, 0.0, out=span)
+        plain = np.bincount(y, weights=span if w is None else w * span, minlength=self.n)
+        if self._plain:
+            return plain, None
+        v = self.discount.integrals(s, e)
+        return plain, np.bincount(y, weights=v if w is None else w * v, minlength=self.n)
 
     def total(self, key: str, present: bool = True) -> float:
         """Sum over the years of ``key`` (present value by default; 0 for a key never booked)."""
