@@ -166,6 +166,9 @@ def test_a_condition_policy_that_never_detects_gives_the_run_to_failure_failures
 def test_the_scalar_and_array_inspection_counts_agree_value_for_value(u: float, p: float) -> None:
     """The DES draws one geometric count per life with math, the vector engine with numpy:
     N = 1 + floor(ln(1 − u) / ln(1 − p)) (inversion of the geometric law), the same values."""
-    from fleetsim.sim.schedule import inspection_count, inspections_to_detect
+    from fleetsim.sim.schedule import _FEW, inspection_count, inspections_to_detect
 
-    assert inspection_count(u, p) == float(inspections_to_detect(u, p))
+    # an array longer than _FEW takes the array formula (a shorter one the scalar twin)
+    many = inspections_to_detect(np.full(_FEW + 1, u), np.full(_FEW + 1, p))
+    assert (many == inspection_count(u, p)).all()
+    assert float(inspections_to_detect(u, p)) == inspection_count(u, p)

@@ -152,6 +152,11 @@ def _compile(machine: Machine) -> MaintenancePlan:
     )
 
 
+#: Up to this many draws, :func:`inspections_to_detect` calls :func:`inspection_count`
+#: per draw (cheaper than the array expressions for a handful of values).
+_FEW = 8
+
+
 def inspections_to_detect(u: float | np.ndarray, detection: float | np.ndarray) -> np.ndarray:
     """How many inspections inside the P-F window a defect needs before one finds it.
 
@@ -174,6 +179,10 @@ def inspections_to_detect(u: float | np.ndarray, detection: float | np.ndarray) 
     """
     u = np.asarray(u, dtype=float)
     p = np.broadcast_to(np.asarray(detection, dtype=float), u.shape)
+    if u.size <= _FEW:  # a few lives (a lane's renewals): the scalar twin, value for value
+        return np.array([inspection_count(a, b) for a, b in zip(u.ravel().tolist(),
+                                                                p.ravel().tolist(), strict=True)]
+                        ).reshape(u.shape)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):  # inf: never found
         n = 1.0 + np.floor(np.log1p(-u) / np.log1p(-np.minimum(p, 1.0)))
     n = np.where(p >= 1.0, 1.0, n)

@@ -238,9 +238,12 @@ class _Lanes:
         if n_fail.any():
             s.failures[u] += n_fail
             self.book.at_later(FAILURES, np.repeat(t0, n_fail))
-            cond = plan.inspected[None, :]
-            s.missed_defects += float((fu & cond & ~self.detected[u]).sum())
-            s.failures_after_detection += float((fu & cond & self.detected[u]).sum())
+            watched = fu & plan.inspected[None, :]
+            if watched.any():
+                found_first = watched & self.detected[u]
+                n_found = float(found_first.sum())
+                s.missed_defects += float(watched.sum()) - n_found
+                s.failures_after_detection += n_found
             new_claim = fu & ~self.pending[u]
             ui, pi = np.nonzero(new_claim)
             s.issue(pi, t0[ui])
@@ -248,16 +251,18 @@ class _Lanes:
         if plan.opportunistic:
             cal_age = t0[:, None] - self.fitted_cal[u]
             age = np.where(plan.opportunistic_calendar[None, :], cal_age, self.age[u])
-            opp = ~fu & ~pend & (age >= plan.opportunistic_age_h[None, :])
-            ui, pi = np.nonzero(opp)
+            chance = ~fu & ~pend & (age >= plan.opportunistic_age_h[None, :])
+            ui, pi = np.nonzero(chance)
             s.issue(pi, t0[ui])
+            opp: np.ndarray | None = chance
+            changed = pend | chance
         else:
-            opp = np.zeros_like(pend)
-        work = fu | pend | opp
+            opp, changed = None, pend
+        work = fu | changed
         # one duration per stop, from the life that ended (first failed, else first planned)
         lead = np.where(n_fail > 0, np.argmax(fu, axis=1), np.argmax(pend, axis=1))
         su = self.stop_u[u, lead]
-        if failed.any():
+        if n_fail.any():
             d = np.where(n_fail > 0, stop_hours(self.crews.unplanned_repair, su),
                          stop_hours(self.crews.planned_repair, su))
         else:
@@ -270,9 +275,14 @@ class _Lanes:
         self.book.down_later(t0, shown, self.share)
         s.stopped(u, t0, shown)
         done = end < self.H  # the changes count when the stop ends inside the horizon
-        n_changes = (pend | opp).sum(axis=1)
-        s.planned += float((pend.sum(axis=1))[done].sum())
-        s.opportunistic += float(opp.sum(axis=1)[done].sum())
+        n_planned = pend.sum(axis=1)
+        s.planned += float(n_planned[done].sum())
+        if opp is not None:
+            n_opp = opp.sum(axis=1)
+            s.opportunistic += float(n_opp[done].sum())
+            n_changes = n_planned + n_opp
+        else:
+            n_changes = n_planned
         self.book.at_later(CHANGES, np.repeat(end[done], n_changes[done]))
         self.book.over_later(LABOUR_H, t0[done], end[done])
         # calendar jobs that fell inside the stop: block dates ask for what is not being
