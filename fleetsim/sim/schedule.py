@@ -155,6 +155,7 @@ def _compile(machine: Machine) -> MaintenancePlan:
 #: Up to this many draws, :func:`inspections_to_detect` calls :func:`inspection_count`
 #: per draw (cheaper than the array expressions for a handful of values).
 _FEW = 8
+_log1p = np.log1p
 
 
 def inspections_to_detect(u: float | np.ndarray, detection: float | np.ndarray) -> np.ndarray:
@@ -190,11 +191,17 @@ def inspections_to_detect(u: float | np.ndarray, detection: float | np.ndarray) 
 
 
 def inspection_count(u: float, detection: float) -> float:
-    """:func:`inspections_to_detect` for one uniform and one probability, without numpy
-    (the discrete-event engine draws one per life); the same formula, value for value."""
+    """:func:`inspections_to_detect` for one uniform and one probability, without arrays
+    (the discrete-event engine draws one per life); the same formula, value for value.
+
+    The logarithms are numpy's ``log1p`` on scalars, the routine the array formula
+    runs: ``math.log1p`` can differ from it by one unit in the last place, which
+    changes the count where the quotient is within that of a whole number (every
+    quotient above 2**52, i.e. a detection probability below about 1e-16).
+    """
     if detection >= 1.0:
         return 1.0
     if detection <= 0.0:
         return INF
-    q = math.log1p(-u) / math.log1p(-detection)
+    q = float(_log1p(-u)) / float(_log1p(-detection))
     return INF if q == INF else 1.0 + math.floor(q)
