@@ -1,11 +1,15 @@
 """The quiet units' process gives exactly what the general unit process gives.
 
 :func:`fleetsim.sim.quiet.quiet_process` is a specialised copy of
-:meth:`UnitRunner.run` for units nothing outside can wake. Both are run on the
-same fleets and seeds — drawn by hypothesis over run-to-failure and age
-policies, opportunistic shares, fixed, zero and random stop durations,
-starting ages, operating shares, groups and discounted costs — and every event, count, cost and
-table must be equal, bit for bit.
+:meth:`UnitRunner.run` for units nothing outside can wake, and
+:func:`fleetsim.sim.quiet.step_quiet_fleet` steps a fleet of them without
+SimPy. All three — the stepper, SimPy stepping the quiet processes, SimPy
+stepping the general process — are run on the same fleets and seeds, drawn by
+hypothesis over run-to-failure and age policies, opportunistic shares, fixed,
+zero and random stop durations, starting ages, operating shares, groups and
+discounted costs, and every event, count, cost and table must be equal, bit
+for bit. The stepper also counts the events SimPy steps: an event budget stops
+both at the same count.
 """
 
 from __future__ import annotations
@@ -78,8 +82,12 @@ def quiet_fleets(draw: st.DrawFn) -> Scenario:
 
 
 def both(sc: Scenario, seed: int, monkeypatch: pytest.MonkeyPatch):  # type: ignore[no-untyped-def]
+    """(the stepper's run, the general process's run), after checking that SimPy stepping
+    the quiet processes gives the stepper's run."""
     fast = simulate(sc, seed)
     with monkeypatch.context() as m:
+        m.setattr(engine, "QUIET_STEPPER", False)
+        assert_same(simulate(sc, seed), fast)
         m.setattr(engine, "QUIET_PROCESS", False)
         general = simulate(sc, seed)
     return fast, general
@@ -136,3 +144,38 @@ def test_tables_have_the_documented_columns() -> None:
                           ("spares", SPARE_COLUMNS), ("groups", GROUP_COLUMNS)):
         assert tuple(r.tables[name]) == columns, name
         assert len({len(col) for col in r.tables[name].values()}) == 1, name
+
+
+@pytest.mark.parametrize("operating", [1.0, 0.0])
+def test_the_stepper_and_simpy_stop_at_the_same_event_budget(
+    operating: float, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """Each start, wake-up and end of a process counts, and the stop at the horizon: the
+    smallest budget that lets a replication through is the same with and without SimPy
+    (a fleet that never runs: every process ends at its start)."""
+    from fleetsim.sim.budget import EventBudgetExceeded
+
+    pos = (Position("a", B, LIVES[0], Policy()), Position("b", B, LIVES[1], Policy("age", 900.0)))
+    sc = Scenario(
+        study=Study("quiet", 8_000.0, 1, 0),
+        costs=Costs(),
+        bearings={B: Bearing(B, "ball", 10_000.0, price=50.0)},
+        machines=(Machine("M", 3, operating, 0.0, pos),),
+        crews=Crews(None, Duration.fixed(5.0), Duration.fixed(2.0)),
+    )
+
+    def least_budget(stepper: bool) -> int:
+        with monkeypatch.context() as m:
+            m.setattr(engine, "QUIET_STEPPER", stepper)
+            for limit in range(1, 400):
+                m.setattr(engine, "event_budget", lambda *_, limit=limit: limit)
+                try:
+                    simulate(sc, 11)
+                except EventBudgetExceeded:
+                    continue
+                return limit
+        raise AssertionError("no budget up to 400 events let the replication through")
+
+    least = least_budget(True)
+    assert least == least_budget(False)
+    assert least > 3 * 2 if operating else least == 3 * 2 + 1  # starts and ends, and the stop

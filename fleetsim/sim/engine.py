@@ -29,7 +29,7 @@ from fleetsim.sim.event_log import EventFile
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.policies import start_calendar_policies
-from fleetsim.sim.quiet import quiet_process
+from fleetsim.sim.quiet import quiet_process, step_quiet_fleet
 from fleetsim.sim.records import (
     GROUP_COLUMNS,
     SPARE_COLUMNS,
@@ -54,6 +54,9 @@ from fleetsim.sim.years import YearBook
 #: Run quiet units with :func:`~fleetsim.sim.quiet.quiet_process` (tests turn it off to
 #: check that the general process gives the same result).
 QUIET_PROCESS = True
+#: Step a fleet of quiet units from :func:`~fleetsim.sim.quiet.step_quiet_fleet`'s own heap
+#: of wake-up times, without SimPy (tests turn it off to check it against SimPy).
+QUIET_STEPPER = True
 
 
 def _check(horizon_h: float) -> None:
@@ -162,19 +165,24 @@ def _run(
     ctx = SimContext(env, recorder, CrewPool(env, scenario.crews.count), scenario.crews,
                      stores, groups, streams, life_sampler, discount)
     units: list[UnitRunner] = []
+    plans = []
     for mi, m in enumerate(scenario.machines):
         setup = MachineSetup(ctx, m, mi)
         for ui, uid in enumerate(m.unit_ids()):
-            unit = UnitRunner(ctx, setup, ui, unit_index[m.id][ui], uid)
-            units.append(unit)
+            units.append(UnitRunner(ctx, setup, ui, unit_index[m.id][ui], uid))
+            plans.append(setup.plan)
+
+    budget = event_budget(scenario, horizon)
+    if QUIET_PROCESS and QUIET_STEPPER and all(u.quiet for u in units):
+        step_quiet_fleet(units, horizon, budget, scenario.source, every=book.settle_full_blocks)
+    else:
+        for unit, plan in zip(units, plans, strict=True):
             if unit.quiet and QUIET_PROCESS:
                 env.process(quiet_process(unit))
             else:
                 env.process(unit.run())
-                start_calendar_policies(env, unit, setup.plan)
-
-    run_within_budget(env, horizon, event_budget(scenario, horizon), scenario.source,
-                      every=book.settle_full_blocks)
+                start_calendar_policies(env, unit, plan)
+        run_within_budget(env, horizon, budget, scenario.source, every=book.settle_full_blocks)
     return _result(scenario, root, horizon, recorder, units, stores, groups, ctx.crews.busy_h)
 
 

@@ -15,15 +15,26 @@ helpers rather than copying them: the scan of the positions
 (:meth:`~fleetsim.sim.setup.PositionState.opportunity_due`). A fleet on
 run-to-failure and age replacement without finite stores or crews is all quiet
 units.
+
+When **every** unit of a fleet is quiet, nothing but the units' own timeouts
+ever happens, and :func:`step_quiet_fleet` steps their generators from a heap
+of wake-up times instead of SimPy's event queue: the same order as SimPy's
+(time, then the order the waits were scheduled in; every start before any
+wait), the same clock arithmetic (``now + delay``), events at the horizon not
+processed, so the same run bit for bit without an event object, callback or
+scheduling call per wake-up (``tests/test_sim_quiet.py`` checks it against
+SimPy stepping the same generators and against the general process).
 """
 
 from __future__ import annotations
 
-from collections.abc import Generator
+from collections.abc import Callable, Generator
+from heapq import heappop, heappush
 from typing import TYPE_CHECKING, Any
 
 import simpy
 
+from fleetsim.sim.budget import CHUNK_EVENTS, exceeded
 from fleetsim.sim.setup import INF, scan
 from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
 
@@ -31,9 +42,31 @@ if TYPE_CHECKING:
     from fleetsim.sim.unit import UnitRunner
 
 
-def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
-    """The SimPy process of the quiet unit ``u`` (see the module docstring)."""
-    env = u.env
+class QuietClock:
+    """The clock :func:`step_quiet_fleet` drives quiet processes with, in place of SimPy.
+
+    ``now`` is the current time (hours); :meth:`timeout` hands the delay back to
+    the stepper, which wakes the process ``now + delay`` later.
+    """
+
+    __slots__ = ("now",)
+
+    def __init__(self) -> None:
+        self.now = 0.0
+
+    @staticmethod
+    def timeout(delay_h: float) -> float:
+        """The wait a quiet process yields: its delay in hours."""
+        return delay_h
+
+
+def quiet_process(u: UnitRunner, driver: QuietClock | None = None) -> Generator[Any, Any, None]:
+    """The process of the quiet unit ``u`` (see the module docstring).
+
+    With ``driver`` None it is a SimPy process of ``u.env`` (it yields timeouts);
+    with a :class:`QuietClock` it yields its delays in hours to :func:`step_quiet_fleet`.
+    """
+    env: simpy.Environment | QuietClock = u.env if driver is None else driver
     positions = u.positions
     share = u.share
     counts = u.counts
@@ -176,3 +209,56 @@ def quiet_process(u: UnitRunner) -> Generator[simpy.Event, Any, None]:
                 continue
         failed, due, _defects, nxt = (scan(positions, clock) if heap is None
                                       else heap.scan(clock))
+
+
+def step_quiet_fleet(
+    units: list[UnitRunner],
+    horizon_h: float,
+    limit: int,
+    source: str = "scenario",
+    every: Callable[[], None] | None = None,
+) -> None:
+    """Run the quiet ``units`` from hour 0 to ``horizon_h`` without SimPy (module docstring).
+
+    Counts what SimPy would step (each start, wake-up and end of a process)
+    against the event budget ``limit`` (raising
+    :class:`~fleetsim.sim.budget.EventBudgetExceeded` past it) and calls
+    ``every`` after each :data:`~fleetsim.sim.budget.CHUNK_EVENTS` of them, as
+    :func:`~fleetsim.sim.budget.run_within_budget` does.
+    """
+    driver = QuietClock()
+    queue: list[tuple[float, int, Generator[Any, Any, None]]] = []
+    order = 0  # SimPy's tie-break: the order in which the waits were scheduled
+    left = limit
+    mark = max(limit - CHUNK_EVENTS, 0)  # call ``every`` (or stop) when ``left`` falls to it
+    for u in units:  # SimPy starts every process at hour 0 before any wait ends
+        gen = quiet_process(u, driver)
+        left -= 1
+        try:
+            delay = next(gen)
+        except StopIteration:
+            left -= 1  # the process's end
+            continue
+        heappush(queue, (delay, order, gen))
+        order += 1
+    while queue:
+        if left <= mark:
+            if left <= 0:
+                raise exceeded(limit, source)
+            mark = max(mark - CHUNK_EVENTS, 0)
+            if every is not None:
+                every()
+        t, _, gen = heappop(queue)
+        if not t < horizon_h:  # events at the horizon are not processed
+            return
+        driver.now = t
+        left -= 1
+        try:
+            delay = gen.send(None)
+        except StopIteration:
+            left -= 1
+            continue
+        heappush(queue, (t + delay, order, gen))
+        order += 1
+    if left <= 0:  # SimPy steps its stop at the horizon even when every process has ended
+        raise exceeded(limit, source)
