@@ -36,6 +36,7 @@ import math
 import numpy as np
 
 from fleetsim.scenario.model import Machine, Scenario
+from fleetsim.sim.allocator import keep_freed_memory
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
 from fleetsim.sim.cycles import renewal_cycles, renewal_exact
 from fleetsim.sim.discount import discount_for
@@ -406,6 +407,7 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     """
     if not scenario.independent_positions:
         raise ValueError("the vectorised engine needs unlimited spares and crews")
+    keep_freed_memory()  # its arrays reuse freed memory (allocator.py), once per process
     if any(g.hold_planned_work for g in scenario.groups):
         raise ValueError("groups that hold planned work back need the discrete-event engine")
     H = float(scenario.study.horizon_h if horizon_h is None else horizon_h)
