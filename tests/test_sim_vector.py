@@ -161,6 +161,19 @@ def test_k_out_of_n_group_downtime_matches_binomial() -> None:
     assert abs(share.mean() - expected) < 4 * se
 
 
+def test_clocks_closer_than_the_sort_keys_rounding_are_still_ordered() -> None:
+    """Two clocks of one unit one ulp apart share the key unit · 2^k + clock; listed
+    the later first, the one sort leaves them so and the check sorts again."""
+    from fleetsim.sim.cycles import _by_unit_then_clock
+
+    c = 1e5
+    unit = np.array([60_000, 60_000, 3])
+    clock = np.array([np.nextafter(c, np.inf), c, 5.0])
+    order, su, sc = _by_unit_then_clock(unit, clock)
+    np.testing.assert_array_equal(order, [2, 1, 0])
+    np.testing.assert_array_equal(sc, [5.0, c, np.nextafter(c, np.inf)])
+
+
 @settings(max_examples=80, deadline=None)
 @given(st.integers(1, 5), st.integers(1, 40), st.integers(0, 2**32 - 1))
 def test_the_stop_order_is_the_four_key_lexsort(P: int, units: int, seed: int) -> None:
@@ -170,9 +183,12 @@ def test_the_stop_order_is_the_four_key_lexsort(P: int, units: int, seed: int) -
 
     rng = np.random.default_rng(seed)
     m = int(rng.integers(1, 200))
-    unit = rng.integers(0, units, m)
+    # unit numbers up to 40,000: the sort key unit · 2^k + clock then rounds clocks
+    # a few ulps apart together, and the order must still come out right
+    unit = rng.integers(0, units, m) * int(rng.choice([1, 1000]))
     clock = rng.choice(np.array([0.0, 1.5, 2.0, 7.25, 1e4]), m)  # many ties
     clock = np.where(rng.random(m) < 0.5, clock, rng.random(m) * 10.0)
+    clock = np.where(rng.random(m) < 0.2, np.nextafter(clock, np.inf), clock)  # near-ties
     failed = rng.random(m) < 0.5
     pos = rng.integers(0, P, m)
     expected = np.lexsort((pos, ~failed, clock, unit))

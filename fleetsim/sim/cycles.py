@@ -103,7 +103,10 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         return s
     e_idx = np.concatenate([x[0] for x in parts])
     e_fail = np.concatenate([x[2] for x in parts])
-    e_unit, e_pos = e_idx // P, e_idx % P
+    if P & (P - 1) == 0:  # a power of two: shifts, the same values
+        e_unit, e_pos = e_idx >> (P.bit_length() - 1), e_idx & (P - 1)
+    else:
+        e_unit, e_pos = np.divmod(e_idx, P)
     if alone:
         # every event is its own stop
         d = np.concatenate([x[3] for x in parts])
@@ -130,7 +133,8 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         before = np.cumsum(d) - d
         first = np.ones(starts.size, dtype=bool)
         first[1:] = st_unit[1:] != st_unit[:-1]
-        unit_base = np.maximum.accumulate(np.where(first, before, -np.inf))
+        # ``before`` at the first stop of each stop's unit (a gather, no scan)
+        unit_base = before[np.flatnonzero(first)][np.cumsum(first) - 1]
         with np.errstate(divide="ignore", invalid="ignore"):
             run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
         t0 = run_h + (before - unit_base)
@@ -174,10 +178,7 @@ def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np
     alone. Events of one stop have the same unit and clock, so the order of
     ties in the first sort is never seen.
     """
-    by_clock = np.argsort(clock)
-    u = unit.astype(np.uint16 if unit.size and int(unit.max()) < 65_536 else np.int64)
-    order = by_clock[np.argsort(u[by_clock], kind="stable")]
-    su, sc = unit[order], clock[order]
+    order, su, sc = _by_unit_then_clock(unit, clock)
     tied = np.zeros(order.size, dtype=bool)
     same = (su[1:] == su[:-1]) & (sc[1:] == sc[:-1])
     tied[1:] |= same
@@ -189,6 +190,32 @@ def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np
         ev = order[at]
         order[at] = ev[np.lexsort((pos[ev], ~failed[ev], stop))]  # (su, sc stay as they are)
     return order, su, sc
+
+
+def _by_unit_then_clock(unit: np.ndarray, clock: np.ndarray
+                        ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """An order of the events by unit, then clock (ties in any order), and the sorted keys.
+
+    One sort of the key ``unit · S + clock`` (S a power of two above twice every
+    clock, so ``unit · S`` is exact and rounding never crosses to another unit):
+    where two different clocks of one unit are closer than the key's rounding,
+    the order is checked and, if wrong, made again by a sort by clock and a
+    stable sort by unit (a radix sort for up to 65,535 units).
+    """
+    if unit.size == 0:
+        return np.zeros(0, dtype=np.intp), unit, clock
+    top = float(clock.max())
+    if float(clock.min()) >= 0.0 and math.isfinite(top):
+        span = 2.0 ** (math.frexp(2.0 * top + 1.0)[1])  # a power of two > 2 · top
+        order = np.argsort(unit * span + clock)
+        su, sc = unit[order], clock[order]
+        step = su[1:] - su[:-1]
+        if not ((step < 0).any() or ((step == 0) & (sc[1:] < sc[:-1])).any()):
+            return order, su, sc
+    by_clock = np.argsort(clock)
+    u = unit.astype(np.uint16 if int(unit.max()) < 65_536 else np.int64)
+    order = by_clock[np.argsort(u[by_clock], kind="stable")]
+    return order, unit[order], clock[order]
 
 
 def renewal_exact(machine: Machine, scenario: Scenario) -> bool:
