@@ -5,6 +5,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import integrate, stats
@@ -24,6 +25,7 @@ from fleetsim.scenario.model import (
     Scenario,
     Study,
 )
+from fleetsim.sim import cycles
 from fleetsim.sim.vector import simulate_vector
 from fleetsim.study.figures import figures_of
 
@@ -169,7 +171,9 @@ def test_clocks_closer_than_the_sort_keys_rounding_are_still_ordered() -> None:
     c = 1e5
     unit = np.array([60_000, 60_000, 3])
     clock = np.array([np.nextafter(c, np.inf), c, 5.0])
-    order, su, sc = _by_unit_then_clock(unit, clock)
+    with pytest.MonkeyPatch.context() as mp:
+        mp.setattr(cycles, "ONE_SORT_MIN", 0)
+        order, su, sc = _by_unit_then_clock(unit, clock)
     np.testing.assert_array_equal(order, [2, 1, 0])
     np.testing.assert_array_equal(sc, [5.0, c, np.nextafter(c, np.inf)])
 
@@ -192,8 +196,11 @@ def test_the_stop_order_is_the_four_key_lexsort(P: int, units: int, seed: int) -
     failed = rng.random(m) < 0.5
     pos = rng.integers(0, P, m)
     expected = np.lexsort((pos, ~failed, clock, unit))
-    got, unit_sorted, clock_sorted = _stop_order(unit, clock, failed, pos, P)
-    for key in (unit, clock, failed, pos):
-        np.testing.assert_array_equal(key[got], key[expected])
-    np.testing.assert_array_equal(unit_sorted, unit[expected])
-    np.testing.assert_array_equal(clock_sorted, clock[expected])
+    for one_sort_min in (cycles.ONE_SORT_MIN, 0):  # the two sorts, then the one sort
+        with pytest.MonkeyPatch.context() as mp:
+            mp.setattr(cycles, "ONE_SORT_MIN", one_sort_min)
+            got, unit_sorted, clock_sorted = _stop_order(unit, clock, failed, pos, P)
+        for key in (unit, clock, failed, pos):
+            np.testing.assert_array_equal(key[got], key[expected])
+        np.testing.assert_array_equal(unit_sorted, unit[expected])
+        np.testing.assert_array_equal(clock_sorted, clock[expected])

@@ -192,20 +192,26 @@ def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np
     return order, su, sc
 
 
+#: Events from which :func:`_by_unit_then_clock` tries one sort (below, the two sorts'
+#: fewer numpy calls cost less than the sorting itself).
+ONE_SORT_MIN = 2048
+
+
 def _by_unit_then_clock(unit: np.ndarray, clock: np.ndarray
                         ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """An order of the events by unit, then clock (ties in any order), and the sorted keys.
 
-    One sort of the key ``unit · S + clock`` (S a power of two above twice every
-    clock, so ``unit · S`` is exact and rounding never crosses to another unit):
-    where two different clocks of one unit are closer than the key's rounding,
-    the order is checked and, if wrong, made again by a sort by clock and a
-    stable sort by unit (a radix sort for up to 65,535 units).
+    From :data:`ONE_SORT_MIN` events, one sort of the key ``unit · S + clock`` (S
+    a power of two above twice every clock, so ``unit · S`` is exact and rounding
+    never crosses to another unit); where two different clocks of one unit are
+    closer than the key's rounding, the order is checked and, if wrong, made
+    again as below. Otherwise a sort by clock and a stable sort by unit (a radix
+    sort for up to 65,535 units).
     """
     if unit.size == 0:
         return np.zeros(0, dtype=np.intp), unit, clock
     top = float(clock.max())
-    if float(clock.min()) >= 0.0 and math.isfinite(top):
+    if unit.size >= ONE_SORT_MIN and float(clock.min()) >= 0.0 and math.isfinite(top):
         span = 2.0 ** (math.frexp(2.0 * top + 1.0)[1])  # a power of two > 2 · top
         order = np.argsort(unit * span + clock)
         su, sc = unit[order], clock[order]
