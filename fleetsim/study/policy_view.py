@@ -41,6 +41,7 @@ uniforms in every variant, so variants stay on common random numbers.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 import time
 from typing import Any
@@ -107,15 +108,24 @@ def equilibrium_ages(life: LifeDistribution, policy: Policy, u: np.ndarray) -> n
     u = np.asarray(u, dtype=float)
     if policy.kind == "block":
         return np.zeros_like(u)
-    if policy.kind == "age" and policy.interval_h:
-        top = float(policy.interval_h)
-    else:
-        top = float(life.ppf(1.0 - _TAIL))
+    top = float(policy.interval_h) if policy.kind == "age" and policy.interval_h else None
+    grid, cum = _age_grid(life, top)
+    return np.interp(u * cum[-1], cum, grid)
+
+
+@functools.lru_cache(maxsize=256)
+def _age_grid(life: LifeDistribution, top_h: float | None) -> tuple[np.ndarray, np.ndarray]:
+    """Ages on [0, top] (None: the life's 1 − 1e-12 quantile) and ∫₀ᵃ R at each: the
+    inverse-transform table of :func:`equilibrium_ages`, made once per life and interval
+    in a process (every replication of a variant draws from the same one)."""
+    top = float(life.ppf(1.0 - _TAIL)) if top_h is None else top_h
     grid = np.linspace(0.0, top, _GRID)
     if life.location_h < top:  # the bend of R at the location is a grid point
         grid = np.unique(np.append(grid, life.location_h))
     cum = np.asarray(integrated_reliability(life, grid), dtype=float)
-    return np.interp(u * cum[-1], cum, grid)
+    grid.flags.writeable = False
+    cum.flags.writeable = False
+    return grid, cum
 
 
 def stationary_scenario(scenario: Scenario, rng: np.random.Generator) -> Scenario:
@@ -132,7 +142,7 @@ def stationary_scenario(scenario: Scenario, rng: np.random.Generator) -> Scenari
         for j, p in enumerate(m.positions):
             ages[:, j] = equilibrium_ages(p.life, p.policy, u[:, j])
         machines.append(dataclasses.replace(
-            m, position_ages_h=tuple(tuple(float(a) for a in row) for row in ages),
+            m, position_ages_h=tuple(map(tuple, ages.tolist())),  # Python floats, row by row
             ages_source="stationary ages (policy view)"))
     costs = dataclasses.replace(scenario.costs, discount_rate_per_year=0.0)
     return dataclasses.replace(scenario, machines=tuple(machines), costs=costs)
