@@ -210,8 +210,8 @@ def _by_unit_then_clock(unit: np.ndarray, clock: np.ndarray
     """
     if unit.size == 0:
         return np.zeros(0, dtype=np.intp), unit, clock
-    top = float(clock.max())
-    if unit.size >= ONE_SORT_MIN and float(clock.min()) >= 0.0 and math.isfinite(top):
+    top = float(clock.max()) if unit.size >= ONE_SORT_MIN else math.inf  # (small: two sorts)
+    if math.isfinite(top) and float(clock.min()) >= 0.0:
         span = 2.0 ** (math.frexp(2.0 * top + 1.0)[1])  # a power of two > 2 · top
         order = np.argsort(unit * span + clock)
         su, sc = unit[order], clock[order]
