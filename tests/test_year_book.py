@@ -225,3 +225,24 @@ def test_arrays_of_intervals_are_split_at_each_year_end_exactly(
                                (math.exp(-delta * lo) - math.exp(-delta * hi)) / delta)
     np.testing.assert_allclose(book.years("x", False), plain, rtol=1e-10, atol=1e-6)
     np.testing.assert_allclose(book.years("x"), pv, rtol=1e-10, atol=1e-6)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.tuples(st.floats(0.0, 5.2 * Y), st.floats(0.0, 3.0 * Y), st.booleans()),
+                min_size=1, max_size=30),
+       st.sampled_from([0.0, 0.08]))
+def test_stops_with_crew_hours_book_what_down_and_over_book_apart(
+        rows: list[tuple[float, float, bool]], rate: float) -> None:
+    """down_many with ``worked`` (one split of the stops at the year ends for hours
+    down, operating hours lost and crew hours) gives bit for bit what down_many of
+    the stops and over_many of labour_h over the worked stops alone give."""
+    H = 5.5 * Y
+    s = np.array([r[0] for r in rows])
+    e = np.minimum(s + np.array([r[1] for r in rows]), H)
+    worked = np.array([r[2] for r in rows])
+    one, two = YearBook(H, Discount(rate)), YearBook(H, Discount(rate))
+    one.down_many(s, e, 0.7, worked=worked)
+    two.down_many(s, e, 0.7)
+    two.over_many("labour_h", s[worked], e[worked])
+    assert one.amount == two.amount and one.pv == two.pv
+    assert ("labour_h" in one.amount) == bool(worked.any())

@@ -17,7 +17,7 @@ from fleetsim.sim.budget import ROUND_EVENTS, EventBudget
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan
 from fleetsim.sim.streams import LIFE, PF, STOP, Streams
-from fleetsim.sim.tally import CHANGES, FAILURES, LABOUR_H
+from fleetsim.sim.tally import CHANGES, FAILURES
 from fleetsim.sim.years import YearBook
 
 INF = math.inf
@@ -158,8 +158,8 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         held = np.where(live, shown - t0, 0.0)
         s.down_repair_h += float(held[st_fail].sum())
         s.down_planned_h += float(held[~st_fail].sum())
-        book.down_many(t0[live], shown[live], share)
-        book.over_many(LABOUR_H, t0[done], end[done])
+        # crews worked the stops ended within the horizon: their hours are crew hours
+        book.down_many(t0[live], shown[live], share, worked=done[live])
         s.stopped(st_unit[live], t0[live], shown[live])
     else:
         s.stopped(st_unit[live], t0[live], t0[live])

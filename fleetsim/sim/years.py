@@ -258,14 +258,28 @@ class YearBook:
         self.over(DOWN_KEY, start_h, end_h)
         self.over(LOST_KEY, start_h, end_h, share)
 
-    def down_many(self, start_h: np.ndarray, end_h: np.ndarray, share: float) -> None:
-        """:meth:`down` for arrays of stops (hours down, and × ``share`` operating hours lost)."""
+    def down_many(self, start_h: np.ndarray, end_h: np.ndarray, share: float,
+                  worked: np.ndarray | None = None) -> None:
+        """:meth:`down` for arrays of stops (hours down, and × ``share`` operating hours lost).
+
+        ``worked`` (booleans, one a stop) marks the stops a crew worked whole: their
+        hours are crew hours too, the same sums as :meth:`over_many` of ``labour_h``
+        over those stops alone (the other stops add zeros), from one split of the
+        intervals at the year ends.
+        """
         s = np.asarray(start_h, dtype=float)
         if s.size == 0:
             return
-        plain, present = self._spread(s, np.asarray(end_h, dtype=float), 1.0)
+        if worked is not None and not worked.any():
+            worked = None  # (no crew hours: no row, as over_many of no intervals)
+        weights: tuple[np.ndarray | float, ...] = (1.0,) if worked is None else (
+            1.0, np.asarray(worked, dtype=float))
+        spread = self._spread(s, np.asarray(end_h, dtype=float), weights)
+        plain, present = spread[0]
         self._add(DOWN_KEY, plain, present)
         self._add(LOST_KEY, plain * share, None if present is None else present * share)
+        if worked is not None:
+            self._add(LABOUR_KEY, *spread[1])
 
     def _add(self, key: str, plain: np.ndarray, present: np.ndarray | None) -> None:
         a, p = self._rows(key)
@@ -298,70 +312,79 @@ class YearBook:
         s = np.asarray(start_h, dtype=float)
         if s.size == 0:
             return
-        self._add(key, *self._spread(s, np.asarray(end_h, dtype=float), weight))
+        self._add(key, *self._spread(s, np.asarray(end_h, dtype=float), (weight,))[0])
 
-    def _spread(self, s: np.ndarray, e: np.ndarray, weight: np.ndarray | float
-                ) -> tuple[np.ndarray, np.ndarray | None]:
-        """Per-year sums of ``weight`` × hours of the intervals [s, e), and their present
-        values (None at rate 0), each interval split at the year ends.
+    def _spread(self, s: np.ndarray, e: np.ndarray, weights: tuple[np.ndarray | float, ...]
+                ) -> list[tuple[np.ndarray, np.ndarray | None]]:
+        """Per-year sums of weight × hours of the intervals [s, e), and their present
+        values (None at rate 0), each interval split at the year ends: one pair for
+        each of ``weights`` (a number, or one weight an interval).
 
         An interval across year ends becomes its piece in its first year, its piece
         in its last year and whole years between (counted with a difference array),
-        so no year is visited one by one.
+        so no year is visited one by one. The split is made once for all weights.
         """
         n = self.n
-        scalar = np.ndim(weight) == 0
-        w = None if scalar else np.broadcast_to(np.asarray(weight, dtype=float), s.shape)
         y0 = (s / HOURS_PER_YEAR).astype(np.int64)
         np.minimum(y0, n - 1, out=y0)
         y1 = (e / HOURS_PER_YEAR).astype(np.int64)
         np.minimum(y1, n - 1, out=y1)
         cross = np.flatnonzero(y0 != y1)  # (few: most intervals lie inside one year)
-        full: np.ndarray | None = None  # weight of the intervals covering each whole year
-        tail: tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray] | None = None
         if cross.size:
             cy0, cy1 = y0[cross], y1[cross]
-            cw = np.ones(cross.size) if w is None else w[cross]
-            # the piece in the last year, booked apart below
-            tail = (cy1 * HOURS_PER_YEAR, e[cross], cy1, cw)
+            ends = e[cross]
             e = e.copy()
             e[cross] = (cy0 + 1) * HOURS_PER_YEAR  # the piece in the first year
+            # the piece in the last year, booked apart below
+            t_span, t_pv = self._span(cy1 * HOURS_PER_YEAR, ends)
             inner = cy1 - cy0 > 1
-            if inner.any():
+            whole_years = bool(inner.any())
+        span, pv = self._span(s, e)
+        out: list[tuple[np.ndarray, np.ndarray | None]] = []
+        for weight in weights:
+            w = None if np.ndim(weight) == 0 else np.broadcast_to(
+                np.asarray(weight, dtype=float), s.shape)
+            plain, present = self._pieces(y0, span, pv, w)
+            if cross.size:
+                cw = np.ones(cross.size) if w is None else w[cross]
+                tp, tv = self._pieces(cy1, t_span, t_pv, cw)
+                plain += tp
+                if present is not None and tv is not None:
+                    present += tv
+            if w is None:
+                plain *= float(weight)
+                if present is not None:
+                    present *= float(weight)
+            if cross.size and whole_years:
+                # the weight of the intervals covering each whole year
                 diff = np.zeros(n + 1)
                 np.add.at(diff, cy0[inner] + 1, cw[inner])
                 np.add.at(diff, cy1[inner], -cw[inner])
                 full = np.cumsum(diff[:n])
-        plain, present = self._pieces(s, e, y0, w)
-        if tail is not None:
-            tp, tv = self._pieces(*tail)
-            plain += tp
-            if present is not None and tv is not None:
-                present += tv
-        if w is None:
-            plain *= float(weight)
-            if present is not None:
-                present *= float(weight)
-        if full is not None:
-            if w is None:
-                full = full * float(weight)
-            plain += full * HOURS_PER_YEAR
-            if present is not None:
-                edges = np.arange(n + 1) * HOURS_PER_YEAR
-                present += full * self.discount.integrals(edges[:-1], edges[1:])
-        return plain, present
+                if w is None:
+                    full = full * float(weight)
+                plain += full * HOURS_PER_YEAR
+                if present is not None:
+                    edges = np.arange(n + 1) * HOURS_PER_YEAR
+                    present += full * self.discount.integrals(edges[:-1], edges[1:])
+            out.append((plain, present))
+        return out
 
-    def _pieces(self, s: np.ndarray, e: np.ndarray, y: np.ndarray, w: np.ndarray | None
-                ) -> tuple[np.ndarray, np.ndarray | None]:
-        """Per-year sums of w × hours of pieces [s, e) inside year ``y`` (w None: 1),
-        and their present values (None at rate 0)."""
+    def _span(self, s: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
+        """Hours of the pieces [s, e) (0 where e < s), and their present values (None at
+        rate 0)."""
         span = e - s
         np.maximum(span, 0.0, out=span)
+        return span, None if self._plain else self.discount.integrals(s, e)
+
+    def _pieces(self, y: np.ndarray, span: np.ndarray, pv: np.ndarray | None,
+                w: np.ndarray | None) -> tuple[np.ndarray, np.ndarray | None]:
+        """Per-year sums of w × hours of pieces in years ``y`` (w None: 1) and of their
+        present values ``pv`` (None at rate 0)."""
         plain = np.bincount(y, weights=span if w is None else w * span, minlength=self.n)
-        if self._plain:
+        if pv is None:
             return plain, None
-        v = self.discount.integrals(s, e)
-        return plain, np.bincount(y, weights=v if w is None else w * v, minlength=self.n)
+        return plain, np.bincount(y, weights=pv if w is None else w * pv, minlength=self.n)
 
     def total(self, key: str, present: bool = True) -> float:
         """Sum over the years of ``key`` (present value by default; 0 for a key never booked)."""
