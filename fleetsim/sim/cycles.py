@@ -133,8 +133,9 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         before = np.cumsum(d) - d
         first = np.ones(starts.size, dtype=bool)
         first[1:] = st_unit[1:] != st_unit[:-1]
-        # ``before`` at the first stop of each stop's unit (a gather, no scan)
-        unit_base = before[np.flatnonzero(first)][np.cumsum(first) - 1]
+        # ``before`` at the first stop of each stop's unit, repeated over the unit's stops
+        at = np.flatnonzero(first)
+        unit_base = np.repeat(before[at], np.diff(at, append=first.size))
         with np.errstate(divide="ignore", invalid="ignore"):
             run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
         t0 = run_h + (before - unit_base)

@@ -70,11 +70,12 @@ class UniformTable:
     def _grow(self, rows: int, double: bool = True) -> None:
         if rows <= self._rows:
             return
-        # Whole blocks, so the values are those of drawing BLOCK_ROWS rows at a time; at
-        # least double for the array reads (amortised linear time in the rows used), only
-        # what is needed for :meth:`row`, which reads a chunk in place.
-        target = max(rows, 2 * self._rows) if double else rows
-        target = -(-target // BLOCK_ROWS) * BLOCK_ROWS
+        # The generator's doubles in C order: the values do not depend on how the rows
+        # are drawn in chunks. At least double, in whole blocks, for the array reads
+        # (amortised linear time in the rows used); only the rows asked for by
+        # :meth:`row`, which reads a chunk in place (the vectorised engine's rounds: a
+        # late round reads few values of a row, and drawing rows ahead costs time).
+        target = -(-max(rows, 2 * self._rows) // BLOCK_ROWS) * BLOCK_ROWS if double else rows
         self._blocks.append(self.rng.random((target - self._rows, *self.shape)))
         self._data = None
         self._lists.extend([None] * (target - self._rows))
