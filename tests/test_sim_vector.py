@@ -164,8 +164,9 @@ def test_k_out_of_n_group_downtime_matches_binomial() -> None:
 
 
 def test_clocks_closer_than_the_sort_keys_rounding_are_still_ordered() -> None:
-    """Two clocks of one unit one ulp apart share the key unit · 2^k + clock; listed
-    the later first, the one sort leaves them so and the check sorts again."""
+    """Two clocks of one unit one ulp apart fall in one step of the one sort's packed
+    key (unit, clock rounded down, index); listed the later first, the one sort
+    leaves them so and the check sorts again."""
     from fleetsim.sim.cycles import _by_unit_then_clock
 
     c = 1e5

@@ -196,29 +196,42 @@ def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np
 #: Events from which :func:`_by_unit_then_clock` tries one sort (below, the two sorts'
 #: fewer numpy calls cost less than the sorting itself).
 ONE_SORT_MIN = 2048
+#: Fewest bits of the clock in the one sort's packed key (else the two sorts).
+_CLOCK_BITS_MIN = 20
 
 
 def _by_unit_then_clock(unit: np.ndarray, clock: np.ndarray
                         ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """An order of the events by unit, then clock (ties in any order), and the sorted keys.
 
-    From :data:`ONE_SORT_MIN` events, one sort of the key ``unit · S + clock`` (S
-    a power of two above twice every clock, so ``unit · S`` is exact and rounding
-    never crosses to another unit); where two different clocks of one unit are
-    closer than the key's rounding, the order is checked and, if wrong, made
-    again as below. Otherwise a sort by clock and a stable sort by unit (a radix
-    sort for up to 65,535 units).
+    From :data:`ONE_SORT_MIN` events, one sort of integers packing, from the top
+    bit down, the unit, the clock rounded down to a fixed step (the clocks
+    scaled by a power of two, so rounding is the only error) and the event's
+    index, which the sorted integers then give back: sorting the values of an
+    array costs less than an argsort. Where two different clocks of one unit
+    fall in one step, the order is checked and, if wrong, made again as below.
+    Otherwise a sort by clock and a stable sort by unit (a radix sort for up to
+    65,535 units).
     """
-    if unit.size == 0:
+    n = unit.size
+    if n == 0:
         return np.zeros(0, dtype=np.intp), unit, clock
-    top = float(clock.max()) if unit.size >= ONE_SORT_MIN else math.inf  # (small: two sorts)
-    if math.isfinite(top) and float(clock.min()) >= 0.0:
-        span = 2.0 ** (math.frexp(2.0 * top + 1.0)[1])  # a power of two > 2 · top
-        order = np.argsort(unit * span + clock)
-        su, sc = unit[order], clock[order]
-        step = su[1:] - su[:-1]
-        if not ((step < 0).any() or ((step == 0) & (sc[1:] < sc[:-1])).any()):
-            return order, su, sc
+    if n >= ONE_SORT_MIN:  # (small: the two sorts)
+        top, low = float(clock.max()), float(clock.min())
+        index_bits = (n - 1).bit_length()
+        clock_bits = 63 - index_bits - max(1, int(unit.max()).bit_length())
+        if math.isfinite(top) and low >= 0.0 and clock_bits >= _CLOCK_BITS_MIN:
+            # clock · 2^(bits − e) < 2^bits for every clock (top < 2^e); truncation floors
+            steps = (clock * 2.0 ** (clock_bits - math.frexp(top)[1])).astype(np.int64)
+            key = np.left_shift(unit, clock_bits, dtype=np.int64)
+            key |= steps
+            key <<= index_bits
+            key |= np.arange(n)
+            key.sort()
+            order = (key & ((1 << index_bits) - 1)).astype(np.intp, copy=False)
+            su, sc = (key >> (clock_bits + index_bits)).astype(unit.dtype), clock[order]
+            if not ((su[1:] == su[:-1]) & (sc[1:] < sc[:-1])).any():
+                return order, su, sc
     by_clock = np.argsort(clock)
     u = unit.astype(np.uint16 if int(unit.max()) < 65_536 else np.int64)
     order = by_clock[np.argsort(u[by_clock], kind="stable")]
