@@ -67,12 +67,18 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
     while idx.size:
         if budget is not None:
             budget.spend(max(idx.size, ROUND_EVENTS))
-        p = pos[idx]
-        age = a0[idx] if k == 0 else 0.0
-        life = draw_lives(machine, T_life.row(k).reshape(-1)[idx], p, age)
-        if T_pf is not None:
-            life = life + draw_pf(machine, T_pf.row(k).reshape(-1)[idx], p)
-        cut = np.maximum(cut0[idx] - age, 0.0) if k == 0 else cut0[idx]
+        age: np.ndarray | float
+        if k == 0:  # every position (idx is 0 .. n-1): the arrays themselves, no gathers
+            p, age, u = pos, a0, T_life.row(0).reshape(-1)
+            u_pf = T_pf.row(0).reshape(-1) if T_pf is not None else None
+            cut = np.maximum(cut0 - a0, 0.0)
+        else:
+            p, age, u = pos[idx], 0.0, T_life.row(k).reshape(-1)[idx]
+            u_pf = T_pf.row(k).reshape(-1)[idx] if T_pf is not None else None
+            cut = cut0[idx]
+        life = draw_lives(machine, u, p, age)
+        if u_pf is not None:
+            life = life + draw_pf(machine, u_pf, p)
         failed = life <= cut  # a failure at the due age is a failure, as in the DES
         c = clock + np.minimum(life, cut)
         if alone:
@@ -159,11 +165,13 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         held = np.where(live, shown - t0, 0.0)
         s.down_repair_h += float(held[st_fail].sum())
         s.down_planned_h += float(held[~st_fail].sum())
+        t0_live, shown_live = t0[live], shown[live]
         # crews worked the stops ended within the horizon: their hours are crew hours
-        book.down_many(t0[live], shown[live], share, worked=done[live])
-        s.stopped(st_unit[live], t0[live], shown[live])
+        book.down_many(t0_live, shown_live, share, worked=done[live])
+        s.stopped(st_unit[live], t0_live, shown_live)
     else:
-        s.stopped(st_unit[live], t0[live], t0[live])
+        t0_live = t0[live]
+        s.stopped(st_unit[live], t0_live, t0_live)
     return s
 
 
