@@ -24,6 +24,7 @@ from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import Discount
 from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.records import Recorder
+from fleetsim.sim.scan_heap import next_op
 from fleetsim.sim.schedule import (
     MaintenancePlan,
     compile_plan,
@@ -72,8 +73,8 @@ class MachineSetup:
 
     __slots__ = ("machine", "index", "plan", "start_ages_h", "start_cal_h", "stores",
                  "life_table", "pf_table", "stop_table", "det_table", "random_stops",
-                 "opportunistic", "quiet", "first_defect_h", "first_fail_h", "first_stop_u",
-                 "first_looks", "slots", "journals", "spans")
+                 "opportunistic", "repair_free", "quiet", "first_defect_h", "first_fail_h",
+                 "first_stop_u", "first_looks", "slots", "journals", "spans")
 
     def __init__(self, ctx: SimContext, machine: Machine, machine_index: int) -> None:
         specs = machine.positions
@@ -100,14 +101,14 @@ class MachineSetup:
         self.det_table = (streams.table(machine_index, machine.count, n_pos, DETECTION)
                           if plan.rounds else None)
         self.opportunistic = plan.opportunistic
-        # Nothing outside a unit can wake it when every position is run-to-failure or
-        # age-replaced without a P-F interval, spares are unlimited, crews too, and no
-        # group holds its planned work (the last is checked per unit).
-        self.quiet = ctx.crews.resource is None and all(
-            p.policy.kind in ("run-to-failure", "age") and p.pf_interval is None
-            and not store.limited
-            for p, store in zip(specs, self.stores, strict=True)
-        )
+        # Nothing can keep a repair waiting when spares and crews are unlimited.
+        self.repair_free = ctx.crews.resource is None and not any(
+            store.limited for store in self.stores)
+        # Nothing outside a unit can wake it when, besides, every position is
+        # run-to-failure or age-replaced without a P-F interval and no group holds its
+        # planned work (the last is checked per unit).
+        self.quiet = self.repair_free and all(
+            p.policy.kind in ("run-to-failure", "age") and p.pf_interval is None for p in specs)
         # The bearings fitted at the start (k = 0), for all units at once.
         sampler = ctx.life_sampler
         if sampler is None:
@@ -188,13 +189,20 @@ def scan(
     Returns ``(failed, due, defects, next_op)``: the positions whose failure has come,
     those whose age replacement fell due (their ``due_op`` is cleared: asked once),
     those whose defect appeared (marked seen), each None when empty, and the
-    operating clock value of the next of these events (inf: none).
+    operating clock value of the next of these events (inf: none). A position
+    whose :attr:`~PositionState.next_op` lies after ``clock_op`` has nothing come
+    and adds only that value.
     """
     nxt = INF
     failed: list[PositionState] | None = None
     due: list[PositionState] | None = None
     defects: list[PositionState] | None = None
     for p in positions:
+        t = p.next_op
+        if t > clock_op:  # nothing of this position has come (nearly every one)
+            if t < nxt:
+                nxt = t
+            continue
         if not p.defect_seen:
             if p.defect_op <= clock_op:
                 p.defect_seen = True
@@ -222,6 +230,11 @@ def scan(
                 due.append(p)
         elif due_op < nxt:
             nxt = due_op
+        # next_op(p), inlined: what has come is marked or cleared now
+        t = INF if p.defect_seen else p.defect_op
+        if fail_op < t:
+            t = fail_op
+        p.next_op = p.due_op if p.due_op < t else t
     return failed, due, defects, nxt
 
 
@@ -235,7 +248,7 @@ class PositionState:
         "k", "stop_u", "installed_op", "installed_cal", "defect_op", "fail_op", "due_op",
         "looks", "looks_needed", "defect_seen", "detected", "failed", "pending", "in_stop",
         "start_at", "claim", "failures", "planned", "opportunistic", "defects", "detections",
-        "heap", "ver",
+        "heap", "ver", "next_op",
     )  # fmt: skip
 
     def __init__(
@@ -275,6 +288,8 @@ class PositionState:
         #: the unit's heap of next events when it has many positions (scan_heap.py)
         self.heap: PositionHeap | None = None
         self.ver = 0
+        #: operating clock of its next event: min(unseen defect, failure, age due)
+        self.next_op = next_op(self)
 
     def fit(self, clock_op: float, now_h: float, life_h: float | None = None) -> None:
         """Fit the next bearing (its k-th life, k >= 1) at operating clock ``clock_op``.
@@ -287,10 +302,10 @@ class PositionState:
         u, j = self.unit_no, self.slot
         if life_h is None:
             life_h = self.life.life_from_uniform(self.life_table.get(k, u, j))
-        self.defect_op = clock_op + life_h
+        defect_op = self.defect_op = clock_op + life_h
         pf = self.pf
-        self.fail_op = (self.defect_op + pf.quantile(self.pf_table.get(k, u, j))  # type: ignore[union-attr]
-                        if pf is not None else self.defect_op)
+        fail_op = self.fail_op = (defect_op + pf.quantile(self.pf_table.get(k, u, j))  # type: ignore[union-attr]
+                                  if pf is not None else defect_op)
         if self.stop_table is not None:
             self.stop_u = self.stop_table.get(k, u, j)
         if self.det_table is not None:
@@ -299,10 +314,13 @@ class PositionState:
         self.k = k + 1
         self.installed_op = clock_op
         self.installed_cal = now_h
-        self.due_op = clock_op + self.age_due_h
+        due_op = self.due_op = clock_op + self.age_due_h
         self.defect_seen = self.detected = self.failed = self.pending = self.in_stop = False
         self.start_at = INF
         self.claim = None
+        # next_op(self), inlined (every fit): min(defect, failure, age due)
+        t = fail_op if fail_op < defect_op else defect_op
+        self.next_op = due_op if due_op < t else t
         if self.heap is not None:
             self.heap.push(self)
 

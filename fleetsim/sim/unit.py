@@ -120,6 +120,7 @@ class UnitRunner:
         self.opportunistic = setup.opportunistic
         self.holds = ctx.groups.holds(unit_index)
         self.quiet = setup.quiet and not self.holds
+        self.repair_free = setup.repair_free
 
     # --- clock, phases, timer ---------------------------------------------------------
     def _sync(self) -> None:
@@ -373,8 +374,9 @@ class UnitRunner:
     def _corrective_stop(self) -> Generator[simpy.Event, Any, None]:
         env = self.env
         crews = self.ctx.crews
-        # With unlimited spares and crews nothing can keep the repair waiting.
-        waits = not (self.quiet and not self.crew_asked)
+        # With unlimited spares and crews nothing can keep the repair waiting (unless
+        # a planned job holds a crew request to give up first).
+        waits = not (self.repair_free and not self.crew_asked)
         self._go_down(WAITING_SPARE if waits else REPAIR)
         failed = [p for p in self.positions if p.failed]
         req = None
