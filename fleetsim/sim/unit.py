@@ -98,6 +98,8 @@ class UnitRunner:
         self.t_sync = 0.0
         self.running = True
         self.pending: list[PositionState] = []
+        #: the positions whose failure stopped the unit (set by the scan that found them)
+        self.failed_now: list[PositionState] = []
         self.start_at = INF
         self.crew_asked = False
         self.crew_req: PriorityRequest | None = None
@@ -175,8 +177,12 @@ class UnitRunner:
         self.down_since = now
         self.ctx.groups.unit_down(self.index, now)
 
-    def _go_up(self) -> None:
+    def _go_up(self, worked_h: float = 0.0) -> None:
+        """The unit runs again; a crew worked the last ``worked_h`` hours of the stop
+        (booked as crew hours)."""
         now = self.env.now
+        if worked_h > 0.0 and now > now - worked_h:
+            self.labour_spans.extend((now - worked_h, now))
         self.t_sync = now  # not running while down: no operating hours to add
         self.running = True
         self.phase_h[self.phase] += now - self.phase_t
@@ -189,14 +195,6 @@ class UnitRunner:
             self.log(now, self.id, "", "up")
 
     # --- lives ---------------------------------------------------------------------
-    def install(self, p: PositionState) -> None:
-        """Fit a new bearing in ``p``: its k-th life (k >= 1) starts now."""
-        sampler = self.ctx.life_sampler
-        life = float(sampler(self.id, p.id, p.k)) if sampler is not None else None
-        p.fit(self.clock_op, self.env.now, life)
-        if p.store.order_ahead and p.age_due_h < INF:
-            self.announce_age_due(p)
-
     def announce_age_due(self, p: PositionState) -> None:
         """Tell ``p``'s store when its age due falls, in calendar hours, for ordering ahead.
 
@@ -320,6 +318,7 @@ class UnitRunner:
             if failed is not None:
                 for p in failed:
                     self._fail(p)
+                self.failed_now = failed  # (in position order: the stop's failed positions)
                 return _FAILURE
             if self.pending and self._job_ready(now):
                 return _PLANNED
@@ -378,7 +377,7 @@ class UnitRunner:
         # a planned job holds a crew request to give up first).
         waits = not (self.repair_free and not self.crew_asked)
         self._go_down(WAITING_SPARE if waits else REPAIR)
-        failed = [p for p in self.positions if p.failed]
+        failed = self.failed_now
         req = None
         if waits:
             if self.crew_asked:  # a planned job was queuing for a crew: give it up for now
@@ -401,17 +400,9 @@ class UnitRunner:
         duration = self.ctx.crews_spec.unplanned_repair.quantile(failed[0].stop_u)
         if duration > 0.0:
             yield env.timeout(duration)
-            self._worked(duration)
         self._renew(work)
         crews.release(req, duration)
-        self._go_up()
-
-    def _worked(self, duration: float) -> None:
-        """A crew worked ``duration`` hours, up to now (booked as labour)."""
-        now = self.env.now
-        start = now - duration
-        if now > start:
-            self.labour_spans.extend((start, now))
+        self._go_up(duration)
 
     def _planned_stop(self) -> Generator[simpy.Event, Any, None]:
         env = self.env
@@ -432,10 +423,9 @@ class UnitRunner:
         duration = self.ctx.crews_spec.planned_repair.quantile(lead.stop_u)
         if duration > 0.0:
             yield env.timeout(duration)
-            self._worked(duration)
         self._renew(work)
         self.ctx.crews.release(req, duration)
-        self._go_up()
+        self._go_up(duration)
 
     def _work_list(self, failed: list[PositionState]) -> list[tuple[PositionState, str]]:
         """Positions changed in this stop: failed, planned with spares, opportunistic."""
@@ -456,8 +446,11 @@ class UnitRunner:
         return work
 
     def _renew(self, work: list[tuple[PositionState, str]]) -> None:
+        """Change the bearings of ``work``: each position's next life starts now."""
         now = self.env.now
+        clock = self.clock_op
         counts = self.counts
+        sampler = self.ctx.life_sampler
         for p, kind in work:
             if kind == "planned":
                 p.planned += 1
@@ -469,7 +462,10 @@ class UnitRunner:
                 self.change_times.append(now)
             if self.log is not None:
                 self.log(now, self.id, p.id, kind)
-            self.install(p)
+            # its k-th life (k >= 1), drawn by the one install rule
+            p.fit(clock, now, float(sampler(self.id, p.id, p.k)) if sampler is not None else None)
+            if p.store.order_ahead and p.age_due_h < INF:
+                self.announce_age_due(p)
         if self.pending:
             self.pending = [p for p in self.pending if p.pending]
             self.start_at = min((p.start_at for p in self.pending), default=INF)
