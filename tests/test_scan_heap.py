@@ -109,3 +109,56 @@ def test_outdated_entries_are_skipped() -> None:
     failed, _due, defects, nxt = h.scan(31.0)
     assert [p.slot for p in failed] == [0, 1, 2] and [p.slot for p in defects] == [2]  # type: ignore[union-attr]
     assert nxt == float("inf")
+
+
+def _slots(xs: list | None) -> list[int] | None:  # type: ignore[type-arg]
+    return None if xs is None else [p.slot for p in xs]
+
+
+def _reference_scan(positions: list, clock: float) -> tuple:  # type: ignore[type-arg]
+    """The scan's rule read literally from its docstring, on copies of the fields."""
+    failed, due, defects, nxt = [], [], [], float("inf")
+    for p in positions:
+        if not p["seen"] and p["defect"] <= clock:
+            p["seen"] = True
+            defects.append(p["slot"])
+        if p["fail"] <= clock:
+            failed.append(p["slot"])
+            continue
+        if p["due"] <= clock:
+            p["due"] = float("inf")
+            due.append(p["slot"])
+        nxt = min([nxt, p["fail"], p["due"]] + ([] if p["seen"] else [p["defect"]]))
+    return failed or None, due or None, defects or None, nxt
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.lists(st.tuples(st.sampled_from([0.0, 5.0, 10.0, 12.5]), st.sampled_from([0.0, 2.5]),
+                          st.sampled_from([3.0, 10.0, 40.0, float("inf")]), st.booleans()),
+                min_size=1, max_size=6),
+       st.sampled_from([0.0, 5.0, 10.0, 11.0]))
+def test_the_scan_passes_positions_by_their_next_event_exactly(
+        rows: list[tuple[float, float, float, bool]], clock: float) -> None:
+    """The linear scan, which passes a position whose next_op lies ahead in one
+    comparison, gives what the rule gives position by position (failed, due and
+    defects in position order, the next event's clock), and leaves every position
+    not failed with next_op = min(unseen defect, failure, age due)."""
+    from types import SimpleNamespace
+
+    from fleetsim.sim.scan_heap import next_op
+    from fleetsim.sim.setup import scan
+
+    ps, refs = [], []
+    for slot, (defect, pf, due, seen) in enumerate(rows):
+        p = SimpleNamespace(slot=slot, defect_op=defect, fail_op=defect + pf, due_op=due,
+                            defect_seen=seen and defect <= clock)
+        p.next_op = next_op(p)
+        ps.append(p)
+        refs.append({"slot": slot, "defect": defect, "fail": defect + pf, "due": due,
+                     "seen": p.defect_seen})
+    failed, due, defects, nxt = scan(ps, clock)  # type: ignore[arg-type]
+    assert (_slots(failed), _slots(due), _slots(defects), nxt) == _reference_scan(refs, clock)
+    for p, r in zip(ps, refs, strict=True):
+        assert (p.defect_seen, p.due_op) == (r["seen"], r["due"])
+        if p.fail_op > clock:
+            assert p.next_op == next_op(p)
