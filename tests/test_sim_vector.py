@@ -179,6 +179,23 @@ def test_clocks_closer_than_the_sort_keys_rounding_are_still_ordered() -> None:
     np.testing.assert_array_equal(sc, [5.0, c, np.nextafter(c, np.inf)])
 
 
+@pytest.mark.parametrize("clock", [[1e-300, 2e-300, 0.0], [0.0, 0.0, 0.0], [np.inf, 1.0, 2.0],
+                                   [3.0, -1.0, 2.0], [np.nan, 1.0, 2.0]])
+def test_the_one_sort_falls_back_on_clocks_it_cannot_pack(clock: list[float]) -> None:
+    """Clocks far below an hour's fraction (no power-of-two step fits), all zero,
+    infinite, negative or NaN: the one sort either packs them exactly or leaves
+    them to the two sorts; the order is numpy's (unit, clock) lexsort."""
+    from fleetsim.sim.cycles import _by_unit_then_clock
+
+    unit, c = np.array([1, 0, 1]), np.array(clock)
+    with pytest.MonkeyPatch.context() as mp:
+        mp.setattr(cycles, "ONE_SORT_MIN", 0)
+        order, su, sc = _by_unit_then_clock(unit, c)
+    expected = np.lexsort((c, unit))
+    np.testing.assert_array_equal(su, unit[expected])
+    np.testing.assert_array_equal(sc, c[expected])
+
+
 @settings(max_examples=80, deadline=None)
 @given(st.integers(1, 5), st.integers(1, 40), st.integers(0, 2**32 - 1))
 def test_the_stop_order_is_the_four_key_lexsort(P: int, units: int, seed: int) -> None:

@@ -228,9 +228,11 @@ def _by_unit_then_clock(unit: np.ndarray, clock: np.ndarray
         top, low = float(clock.max()), float(clock.min())
         index_bits = (n - 1).bit_length()
         clock_bits = 63 - index_bits - max(1, int(unit.max()).bit_length())
-        if math.isfinite(top) and low >= 0.0 and clock_bits >= _CLOCK_BITS_MIN:
-            # clock · 2^(bits − e) < 2^bits for every clock (top < 2^e); truncation floors
-            steps = (clock * 2.0 ** (clock_bits - math.frexp(top)[1])).astype(np.int64)
+        # clock · 2^(bits − e) < 2^bits for every clock (top < 2^e); truncation floors
+        shift = clock_bits - math.frexp(top)[1] if math.isfinite(top) else 0
+        if (math.isfinite(top) and low >= 0.0 and clock_bits >= _CLOCK_BITS_MIN
+                and shift < 1000):  # (clocks of a few 1e-300 h: the two sorts)
+            steps = (clock * 2.0 ** shift).astype(np.int64)
             key = np.left_shift(unit, clock_bits, dtype=np.int64)
             key |= steps
             key <<= index_bits
