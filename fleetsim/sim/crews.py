@@ -37,6 +37,8 @@ class CrewPool:
         Number of crews, or None for unlimited.
     """
 
+    __slots__ = ("env", "resource", "busy_h")
+
     def __init__(self, env: simpy.Environment, count: int | None) -> None:
         self.env = env
         self.resource = simpy.PriorityResource(env, count) if count is not None else None

@@ -23,7 +23,7 @@ from fleetsim.sim.tally import group_down_key
 from fleetsim.sim.years import YearBook
 
 
-@dataclass
+@dataclass(slots=True)
 class _State:
     name: str
     need: int
@@ -49,6 +49,7 @@ class GroupTracker:
     """
 
     FLEET = "fleet"
+    __slots__ = ("states", "hold", "any_hold", "waiting", "unit_groups", "by_groups", "fleet")
 
     def __init__(self, groups: list[tuple[str, int, list[int]]], n_units: int,
                  hold_planned: list[bool] | None = None, book: YearBook | None = None) -> None:

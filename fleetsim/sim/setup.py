@@ -46,7 +46,7 @@ INF = math.inf
 LifeSampler = Callable[[str, str, int], float]
 
 
-@dataclass
+@dataclass(slots=True)
 class SimContext:
     """What all units of one replication share."""
 

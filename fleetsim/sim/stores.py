@@ -128,6 +128,7 @@ class UnlimitedSupply:
 
     limited = False
     order_ahead = False
+    __slots__ = ("bearing_id", "stats", "env", "book", "_issued")
 
     def __init__(self, bearing_id: str, env: simpy.Environment | None = None,
                  book: YearBook | None = None) -> None:

@@ -70,6 +70,16 @@ class UnitRunner:
         The unit's name.
     """
 
+    # (slots: the hot path reads and writes these on every event)
+    __slots__ = (
+        "ctx", "env", "counts", "log", "machine", "id", "index", "share", "positions", "heap",
+        "clock_op", "t_sync", "running", "pending", "failed_now", "start_at", "crew_asked",
+        "crew_req", "wake", "_timer", "_timer_at", "_timer_op", "phase", "phase_t", "phase_h",
+        "stops", "failures", "down_since", "discount", "book", "failure_times", "change_times",
+        "inspection_times", "down_spans", "labour_spans", "random_stops", "opportunistic",
+        "holds", "quiet", "repair_free",
+    )  # fmt: skip
+
     def __init__(
         self,
         ctx: SimContext,
