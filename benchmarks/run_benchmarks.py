@@ -169,6 +169,9 @@ def _ratio(runs: dict[str, list[float]], a: str, b: str) -> float:
 
 def throughput(sizes: list[int], des_max: int) -> dict:
     out: dict = {"engines": {}, "yardsticks": {}}
+    for policy in POLICIES.values():  # warm up: the first run of each pays for imports and caches
+        vector_run(fleet(8, policy, repair_h=8.0), 0)
+        des_run(fleet(8, policy, repair_h=8.0), 0)
     print("\nThroughput (position-years per second; repair 8 h, zero for yardstick runs)")
     print(f"{'engine':<8} {'policy':<15} {'positions':>9} {'pos-yr/s':>12}")
     for n in sizes:
