@@ -120,5 +120,6 @@ def draw_pf(machine: Machine, u: np.ndarray | None, pos: np.ndarray) -> np.ndarr
     return out
 
 
-def stop_hours(d: Duration, u: np.ndarray) -> np.ndarray:
-    return np.full(u.shape, d.value_h) if d.kind == "fixed" else d.quantiles(u)
+def stop_hours(d: Duration, u: np.ndarray) -> np.ndarray | float:
+    """Stop durations in hours for stop quantiles ``u`` (a fixed duration: one number)."""
+    return d.value_h if d.kind == "fixed" else d.quantiles(u)
