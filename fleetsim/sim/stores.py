@@ -71,6 +71,10 @@ class Claim:
         self.ahead: Ahead | None = None  # the spare ordered ahead that it waits for
 
 
+#: The claim every request to unlimited supply gets: filled at once, never changed.
+FILLED = Claim(None, filled=True)
+
+
 class Ahead:
     """One spare ordered ahead for one announced planned change.
 
@@ -142,9 +146,10 @@ class UnlimitedSupply:
     def demand(
         self, unit: str, position: str, notify: Callable[[], None] | None, failure: bool = False
     ) -> Claim:
-        """Issue a spare at once."""
+        """Issue a spare at once (the claim returned is the one shared filled claim:
+        nothing ever changes a claim of unlimited supply)."""
         self.issue(self.env.now if self.env is not None else 0.0)
-        return Claim(notify, filled=True)
+        return FILLED
 
     def issue(self, now: float) -> None:
         """Issue a spare at calendar hour ``now`` without a claim (the quiet units call it
