@@ -148,18 +148,19 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
     end = t0 + d
     live = t0 < H  # stops the horizon reaches (and every event in them)
     done = end < H  # stops whose changes are made within the horizon
-    if stop_of is None:
-        ev_live, ev_done, ev_t0, ev_end = live, done, t0, end
-    else:
-        ev_live, ev_done, ev_t0, ev_end = live[stop_of], done[stop_of], t0[stop_of], end[stop_of]
+    ev_live, ev_t0 = (live, t0) if stop_of is None else (live[stop_of], t0[stop_of])
     # counts and the year book, with the DES's conventions
-    failed_ev = e_fail & ev_live
+    every_failed = bool(e_fail.all())  # (run-to-failure: no planned change to count)
+    t_live = ev_t0[ev_live]
+    failed_ev = ev_live if every_failed else e_fail & ev_live
     s.failures += np.bincount(e_unit[failed_ev], minlength=U)
-    book.at_many(FAILURES, ev_t0[failed_ev])
-    s.issue(e_pos[ev_live], ev_t0[ev_live])  # asked for at the failure or the due age
-    planned_ev = ~e_fail & ev_done
-    s.planned += float(planned_ev.sum())
-    book.at_many(CHANGES, ev_end[planned_ev])
+    book.at_many(FAILURES, t_live if every_failed else ev_t0[failed_ev])
+    s.issue(e_pos[ev_live], t_live)  # asked for at the failure or the due age
+    if not every_failed:
+        ev_done, ev_end = (done, end) if stop_of is None else (done[stop_of], end[stop_of])
+        planned_ev = ~e_fail & ev_done
+        s.planned += float(np.count_nonzero(planned_ev))
+        book.at_many(CHANGES, ev_end[planned_ev])
     if not instant:
         shown = np.minimum(end, H)
         held = np.where(live, shown - t0, 0.0)
