@@ -162,3 +162,15 @@ def test_the_scan_passes_positions_by_their_next_event_exactly(
         assert (p.defect_seen, p.due_op) == (r["seen"], r["due"])
         if p.fail_op > clock:
             assert p.next_op == next_op(p)
+
+
+def test_the_shared_filled_claim_of_unlimited_supply_is_never_changed() -> None:
+    """Unlimited supply hands every request the one filled claim; after mixed policies
+    (planned, opportunistic, condition responses) on unlimited spares it is unchanged."""
+    from fleetsim.sim.stores import FILLED
+
+    sc = CASES["mixed policies, random stops"]
+    assert not sc.stores  # every bearing from unlimited supply
+    res = simulate(sc, 3, keep_events=False)
+    assert res.counts["failures"] > 0 and res.counts["planned"] > 0
+    assert (FILLED.filled, FILLED.notify, FILLED.expedited, FILLED.ahead) == (True, None, False, None)

@@ -230,11 +230,7 @@ def scan(
                 due.append(p)
         elif due_op < nxt:
             nxt = due_op
-        # next_op(p), inlined: what has come is marked or cleared now
-        t = INF if p.defect_seen else p.defect_op
-        if fail_op < t:
-            t = fail_op
-        p.next_op = p.due_op if p.due_op < t else t
+        p.next_op = next_op(p)  # what has come is marked or cleared now
     return failed, due, defects, nxt
 
 
