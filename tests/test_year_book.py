@@ -245,4 +245,11 @@ def test_stops_with_crew_hours_book_what_down_and_over_book_apart(
     two.down_many(s, e, 0.7)
     two.over_many("labour_h", s[worked], e[worked])
     assert one.amount == two.amount and one.pv == two.pv
+    # queued in two parts (the lane path's steps; a part without crew hours may say
+    # None): the same sums
+    queued, half = YearBook(H, Discount(rate)), len(rows) // 2
+    queued.down_later(s[:half], e[:half], 0.7,
+                      worked=worked[:half] if worked[:half].any() else None)
+    queued.down_later(s[half:], e[half:], 0.7, worked=worked[half:])
+    assert queued.amount == one.amount and queued.pv == one.pv
     assert ("labour_h" in one.amount) == bool(worked.any())

@@ -47,7 +47,6 @@ from fleetsim.sim.tally import (
     CHANGES,
     FAILURES,
     INSPECTIONS,
-    LABOUR_H,
     BearingTally,
     GroupTally,
     MachineTally,
@@ -277,9 +276,10 @@ class _Lanes:
         held = shown - t0
         s.down_repair_h += float(held[n_fail > 0].sum())
         s.down_planned_h += float(held[n_fail == 0].sum())
-        self.book.down_later(t0, shown, self.share)
-        s.stopped(u, t0, shown)
         done = end < self.H  # the changes count when the stop ends inside the horizon
+        # crews worked the stops ended within the horizon: their hours are crew hours
+        self.book.down_later(t0, shown, self.share, worked=done)
+        s.stopped(u, t0, shown)
         n_planned = pend.sum(axis=1)
         s.planned += float(n_planned[done].sum())
         if opp is not None:
@@ -289,7 +289,6 @@ class _Lanes:
         else:
             n_changes = n_planned
         self.book.at_later(CHANGES, np.repeat(end[done], n_changes[done]))
-        self.book.over_later(LABOUR_H, t0[done], end[done])
         # calendar jobs that fell inside the stop: block dates ask for what is not being
         # changed; inspections of a stopped unit are skipped
         whole = np.zeros((self.U, self.P), dtype=bool)

@@ -64,7 +64,8 @@ class YearBook:
         #: events and intervals not booked yet (see :meth:`journal`), by (kind, key, share)
         self._journal: dict[tuple[str, str, float], list[float]] = {}
         #: arrays not booked yet (see :meth:`at_later`): (what, key, arrays...)
-        self._later: list[tuple[str, str, np.ndarray, np.ndarray | None, float]] = []
+        self._later: list[tuple[str, str, np.ndarray, np.ndarray | None, float,
+                                np.ndarray | None]] = []
         self._later_n = 0
 
     @property
@@ -135,42 +136,40 @@ class YearBook:
         :meth:`at_many` per key at the end costs less than one per step.
         """
         if t_h.size:
-            self._queue(("at", key, t_h, None, 0.0))
+            self._queue(("at", key, t_h, None, 0.0, None))
 
-    def over_later(self, key: str, start_h: np.ndarray, end_h: np.ndarray) -> None:
-        """:meth:`over_many` with weight 1, booked with others of ``key`` later."""
+    def down_later(self, start_h: np.ndarray, end_h: np.ndarray, share: float,
+                   worked: np.ndarray | None = None) -> None:
+        """:meth:`down_many` (with ``worked``), booked with other stops of the same
+        ``share`` later."""
         if start_h.size:
-            self._queue(("over", key, start_h, end_h, 0.0))
+            self._queue(("down", "", start_h, end_h, share, worked))
 
-    def down_later(self, start_h: np.ndarray, end_h: np.ndarray, share: float) -> None:
-        """:meth:`down_many`, booked with other stops of the same ``share`` later."""
-        if start_h.size:
-            self._queue(("down", "", start_h, end_h, share))
-
-    def _queue(self, item: tuple[str, str, np.ndarray, np.ndarray | None, float]) -> None:
+    def _queue(self, item: tuple[str, str, np.ndarray, np.ndarray | None, float,
+                                 np.ndarray | None]) -> None:
         self._later.append(item)
         self._later_n += item[2].size
         if self._later_n > JOURNAL_BLOCK * 16:  # bounded memory in long runs
             self._settle_later()
 
     def _settle_later(self) -> None:
-        """Book what :meth:`at_later`, :meth:`over_later` and :meth:`down_later` queued:
+        """Book what :meth:`at_later` and :meth:`down_later` queued:
         one array call per kind and key, in the order queued."""
-        groups: dict[tuple[str, str, float], list[tuple[np.ndarray, np.ndarray | None]]] = {}
-        for what, key, a, b, share in self._later:
-            groups.setdefault((what, key, share), []).append((a, b))
+        groups: dict[tuple[str, str, float],
+                     list[tuple[np.ndarray, np.ndarray | None, np.ndarray | None]]] = {}
+        for what, key, a, b, share, w in self._later:
+            groups.setdefault((what, key, share), []).append((a, b, w))
         self._later.clear()
         self._later_n = 0
         for (what, key, share), parts in groups.items():
-            first = np.concatenate([a for a, _ in parts])
+            first = np.concatenate([a for a, _, _ in parts])
             if what == "at":
                 self.at_many(key, first)
                 continue
-            second = np.concatenate([b for _, b in parts])
-            if what == "over":
-                self.over_many(key, first, second)
-            else:
-                self.down_many(first, second, share)
+            second = np.concatenate([b for _, b, _ in parts])
+            worked = None if all(w is None for _, _, w in parts) else np.concatenate(
+                [np.zeros(a.size, dtype=bool) if w is None else w for a, _, w in parts])
+            self.down_many(first, second, share, worked=worked)
 
     def settle(self) -> None:
         """Book every journaled or queued event (journals in blocks, as
