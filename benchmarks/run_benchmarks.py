@@ -9,7 +9,9 @@ prints, in one run:
   process per position, nothing else), the same with the garbage collector
   paused as the DES pauses it, and a bare numpy renewal sampler — and
   fleetsim's figures as ratios to them; the vectorised engine with 8 h repairs
-  against a bare numpy sampler whose cycles are life + 8 h;
+  against a bare numpy sampler whose cycles are life + 8 h; a run-to-failure fleet
+  coupled by 2 crews and one shared (s, S) store against a bare SimPy model of
+  the same fleet (at 1,000 and 10,000 positions);
 * the speed-up of the vectorised engine over the discrete-event engine;
 * the scaling of a 200-replication study from one to two workers, beside
   what two processes give on this machine in the same rounds;
@@ -23,6 +25,7 @@ prints, in one run:
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import json
 import resource
 import subprocess
@@ -47,6 +50,7 @@ from fleetsim.scenario.model import (  # noqa: E402
     Policy,
     Position,
     Scenario,
+    Stock,
     Study,
 )
 
@@ -138,6 +142,75 @@ def bare_numpy(positions: int, seed: int, repair_h: float = 0.0) -> int:
     return failures
 
 
+#: The coupled fleet: this many crews and one shared store of the bearing, sized per
+#: 1,000 positions (about 230 failures a year) so that units wait now and then for both.
+COUPLED_CREWS = 2
+COUPLED_LEAD_H = 720.0
+
+
+def coupled_stock(positions: int) -> Stock:
+    """The shared store of the coupled fleet: (s, S) = (25, 60) per 1,000 positions."""
+    k = max(1, positions // 1000)
+    return Stock(initial=40 * k, reorder_point=25 * k, order_up_to=60 * k,
+                 lead_time=Duration.fixed(COUPLED_LEAD_H))
+
+
+def coupled_fleet(positions: int, repair_h: float = 8.0) -> Scenario:
+    """:func:`fleet` on run-to-failure with :data:`COUPLED_CREWS` crews and one shared store."""
+    sc = fleet(positions, Policy(), repair_h)
+    rep = Duration.fixed(repair_h)
+    return dataclasses.replace(sc, stores={"B": coupled_stock(positions)},
+                               crews=Crews(COUPLED_CREWS, rep, rep))
+
+
+def bare_simpy_coupled(positions: int, seed: int, repair_h: float = 8.0) -> int:
+    """The coupled fleet by hand in SimPy: one process per unit of four positions, a
+    ``simpy.Resource`` of crews and a ``simpy.Container`` store with (s, S) reordering.
+
+    A failure stops its unit (the other positions do not age), takes a spare (waiting
+    if the shelf is empty; the store reviews its inventory position after each demand),
+    then a crew for ``repair_h`` hours, and the unit runs again: what the engines do.
+    """
+    env = simpy.Environment()
+    rng = np.random.default_rng(seed)
+    stock = coupled_stock(positions)
+    s, big_s, lead = stock.reorder_point, stock.order_up_to, COUPLED_LEAD_H
+    crews = simpy.Resource(env, COUPLED_CREWS)
+    shelf = simpy.Container(env, init=stock.initial)
+    on_order = [0]
+    failures = [0]
+    b, eta, x0 = LIFE.shape, LIFE.scale_h, LIFE.location_h
+
+    def deliver(qty):  # type: ignore[no-untyped-def]
+        yield env.timeout(lead)
+        on_order[0] -= qty
+        yield shelf.put(qty)
+
+    def unit():  # type: ignore[no-untyped-def]
+        left = x0 + eta * rng.weibull(b, POSITIONS_PER_UNIT)  # operating hours to failure
+        while True:
+            i = int(left.argmin())
+            run = float(left[i])
+            yield env.timeout(run)
+            left -= run
+            failures[0] += 1
+            spare = shelf.get(1)
+            position = shelf.level + on_order[0] - len(shelf.get_queue)
+            if position <= s:
+                on_order[0] += big_s - position
+                env.process(deliver(big_s - position))
+            yield spare
+            with crews.request() as crew:
+                yield crew
+                yield env.timeout(repair_h)
+            left[i] = x0 + eta * rng.weibull(b)
+
+    for _ in range(max(1, positions // POSITIONS_PER_UNIT)):
+        env.process(unit())
+    env.run(until=HORIZON_H)
+    return failures[0]
+
+
 def des_run(scenario: Scenario, seed: int) -> None:
     from fleetsim.sim import simulate
 
@@ -167,7 +240,7 @@ def _ratio(runs: dict[str, list[float]], a: str, b: str) -> float:
     return float(np.median(np.array(runs[a]) / np.array(runs[b])))
 
 
-def throughput(sizes: list[int], des_max: int) -> dict:
+def throughput(sizes: list[int], des_max: int, coupled_sizes: list[int]) -> dict:
     out: dict = {"engines": {}, "yardsticks": {}}
     for policy in POLICIES.values():  # warm up: the first run of each pays for imports and caches
         vector_run(fleet(8, policy, repair_h=8.0), 0)
@@ -237,6 +310,25 @@ def throughput(sizes: list[int], des_max: int) -> dict:
         out["repairs"][n] = row
         print(f"{n:>9} {_cell(row, 'bare_numpy')} {_cell(row, 'vector')} "
               f"{_cell(row, 'vector_over_numpy', 10, '.2f')}")
+    print("\nRun-to-failure fleet coupled by 2 crews and one shared store (8 h repairs) against "
+          f"a bare SimPy model of the same fleet; medians of {YARDSTICK_ROUNDS} alternated rounds")
+    print(f"{'positions':>9} {'bare simpy':>12} {'des':>12} {'vector':>12} {'des/simpy':>10} "
+          f"{'vec/simpy':>10}")
+    out["coupled"] = {}
+    for n in coupled_sizes:
+        sc = coupled_fleet(n)
+        py = position_years(sc)
+        runs = {"vector": [], "des": [], "bare_simpy": []}
+        for _ in range(YARDSTICK_ROUNDS):
+            runs["bare_simpy"].append(py / timed(lambda i, n=n: bare_simpy_coupled(n, i), 0.3))
+            runs["vector"].append(py / timed(lambda i, sc=sc: vector_run(sc, i), 0.3))
+            runs["des"].append(py / timed(lambda i, sc=sc: des_run(sc, i), 0.3))
+        row = {k: float(np.median(v)) for k, v in runs.items()}
+        row.update(des_over_simpy=_ratio(runs, "des", "bare_simpy"),
+                   vector_over_simpy=_ratio(runs, "vector", "bare_simpy"))
+        out["coupled"][n] = row
+        print(f"{n:>9} {_cell(row, 'bare_simpy')} {_cell(row, 'des')} {_cell(row, 'vector')} "
+              f"{_cell(row, 'des_over_simpy', 10, '.2f')} {_cell(row, 'vector_over_simpy', 10, '.2f')}")
     return out
 
 
@@ -369,12 +461,13 @@ def main() -> None:
     print(f"fleetsim benchmarks — Python {sys.version.split()[0]}, numpy {np.__version__}, "
           f"simpy {simpy.__version__}")
     if args.quick:
-        figures = {"throughput": throughput([100, 1_000], des_max=1_000)}
+        figures = {"throughput": throughput([100, 1_000], des_max=1_000, coupled_sizes=[1_000])}
         figures["workers"] = worker_scaling(20, repeats=3)
         figures["memory"] = peak_memory(20, 1_000)
         figures["pump_demo"] = pump_demo(20)
     else:
-        figures = {"throughput": throughput([100, 1_000, 10_000], des_max=10_000)}
+        figures = {"throughput": throughput([100, 1_000, 10_000], des_max=10_000,
+                                             coupled_sizes=[1_000, 10_000])}
         figures["workers"] = worker_scaling(200)
         figures["memory"] = peak_memory(1_000, 10_000)
         figures["pump_demo"] = pump_demo(200)

@@ -14,6 +14,7 @@ types, random and fixed stop durations, groups and discounting.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
@@ -116,6 +117,45 @@ CASES = {
 }
 
 
+# Fleets coupled by finite stores and crews: every position run-to-failure, so the vector
+# engine draws the stops on the operating clocks and steps only the queue for spares and
+# crews (fleetsim.sim.coupled). The stocks and crews are tight enough that units wait for
+# both (checked below), lead times are random, and one store places emergency orders.
+RTF_PF = Machine("pumps", 24, 0.85, 0.0, (
+    pos("de", RTF), pos("nde", RTF, bearing="B2", factor=0.8), pos("gear", RTF, pf=False),
+), position_ages_h=tuple(
+    tuple(float(x) for x in row) for row in
+    np.random.default_rng(5).uniform(0.0, 9_000.0, size=(24, 3)).round(1)))
+RTF_FANS = Machine("fans", 30, 1.0, 0.0, (pos("a", RTF, pf=False), pos("b", RTF, pf=False)))
+RTF_ONE = Machine("drives", 10, 0.7, 0.0, (pos("only", RTF, bearing="B2"),))
+
+
+def coupled(machines: tuple[Machine, ...], *, stops: str = "random", crews: int | None = 2,
+            emergency: bool = True, groups=(), rate: float = 0.0) -> Scenario:
+    from fleetsim.scenario.model import Stock
+
+    base = scenario(machines, stops=stops, groups=groups, rate=rate)
+    b1 = Stock(initial=4, reorder_point=2, order_up_to=6,
+               lead_time=Duration("lognormal", 900.0, p90_h=2_000.0),
+               emergency_lead_time=Duration("exponential", 60.0) if emergency else None,
+               emergency_premium=400.0)
+    b2 = Stock(initial=2, reorder_point=0, order_up_to=3, lead_time=Duration.fixed(1_500.0))
+    return dataclasses.replace(base, stores={"B1": b1, "B2": b2},
+                               crews=dataclasses.replace(base.crews, count=crews))
+
+
+COUPLED = {
+    "coupled: stores and 2 crews, random stops, emergency orders": coupled((RTF_PF, RTF_FANS)),
+    "coupled: one crew, fixed stops, groups, discounting": coupled(
+        (RTF_PF, RTF_FANS, RTF_ONE), stops="fixed", crews=1, emergency=False,
+        groups=(Group("line", ("pumps",), 20, downtime_per_hour=300.0),), rate=0.05),
+    "coupled: stores alone, instant repairs": coupled((RTF_FANS, RTF_ONE), stops="none", crews=None),
+    "coupled: crews alone (unlimited spares)": dataclasses.replace(
+        coupled((RTF_PF,)), stores={}),
+}
+CASES.update(COUPLED)
+
+
 def _same(a: dict[str, float], b: dict[str, float]) -> list[str]:
     assert a.keys() == b.keys()
     return [f"{k}: des {a[k]!r} vector {b[k]!r}" for k in a
@@ -125,6 +165,7 @@ def _same(a: dict[str, float], b: dict[str, float]) -> list[str]:
 @pytest.mark.parametrize("name", list(CASES))
 def test_engines_give_identical_figures_on_the_same_seed(name: str) -> None:
     sc = CASES[name]
+    waited = {"crew": 0.0, "spares": 0.0}
     for i in range(4):
         seed = np.random.SeedSequence(2026, spawn_key=(i,))
         des = figures_of(tally_of(sc, "des", seed), sc)
@@ -132,6 +173,12 @@ def test_engines_give_identical_figures_on_the_same_seed(name: str) -> None:
         assert des["failures"] > 0
         diff = _same(des, vec)
         assert not diff, f"replication {i}: " + "; ".join(diff[:8])
+        if name in COUPLED:  # the queue was exercised: units waited for what couples them
+            waited["crew"] += des["downtime_crew_h"]
+            waited["spares"] += des["downtime_spares_h"]
+    if name in COUPLED:
+        assert waited["crew"] > 0.0 or sc.crews.count is None
+        assert waited["spares"] > 0.0 or not sc.stores
 
 
 @pytest.mark.parametrize("engine", ["des", "vector"])

@@ -269,6 +269,61 @@ def test_shared_crews_match_the_machine_repair_queue() -> None:
         assert within(est, ref, se), (est, ref, se)
 
 
+# --- the vectorised engine's coupled path against the same two closed forms ----------------------
+def test_coupled_path_stock_follows_palm() -> None:
+    """Palm's theorem as above, through the vectorised engine's path for run-to-failure
+    fleets coupled by a store (fleetsim.sim.coupled), on seeds of its own: fill rate
+    P(X ≤ S − 1) and mean on hand E[(S − X)+], X ~ Poisson(λL)."""
+    from fleetsim.sim.tally import on_hand_key
+    from fleetsim.study.engines import tally_of
+
+    n_units, theta = 1000, 100_000.0
+    lam = n_units / theta
+    lead, big_s = 300.0, 3
+    life = LifeDistribution(shape=1.0, scale_h=theta)
+    horizon = 150_000.0
+    sc = make([Machine("M", n_units, 1.0, 0.0, positions(1, life))],
+              stores={B: Stock(big_s, big_s - 1, big_s, Duration.fixed(lead))}, horizon=horizon)
+    fill, oh = [], []
+    for s in seeds(30, 141):
+        t = tally_of(sc, "vector", s)
+        fill.append(t.bearings[B].fill_rate)
+        oh.append(t.book.total(on_hand_key(B), present=False) / horizon)
+    x = stats.poisson(lam * lead)
+    k = np.arange(0, 200)
+    pk = x.pmf(k)
+    for values, ref in ((fill, float(x.cdf(big_s - 1))),
+                        (oh, float(np.sum(np.maximum(big_s - k, 0) * pk)))):
+        est, se = mean_se(values)
+        assert within(est, ref, se), (est, ref, se)
+
+
+def test_coupled_path_crews_match_the_machine_repair_queue() -> None:
+    """The M/M/c//N machine-repair queue as above (Gross & Harris), through the vectorised
+    engine's coupled path, whose crews take jobs first come, first served without events
+    (each job starts at the later of its request and the earliest free crew)."""
+    from fleetsim.study.engines import tally_of
+
+    n, c = 6, 2
+    theta, repair = 1_000.0, 250.0
+    life = LifeDistribution(shape=1.0, scale_h=theta)
+    horizon = 300_000.0
+    sc = make([Machine("M", n, 1.0, 0.0, positions(1, life))],
+              crews=Crews(c, Duration.fixed(0.0), Duration("exponential", repair)),
+              horizon=horizon)
+    down, queue = [], []
+    for s in seeds(16, 151):
+        t = tally_of(sc, "vector", s)
+        down.append(sum(t.downtime_h.values()) / horizon)
+        queue.append(t.downtime_h["crew"] / horizon)
+    p = machine_repair_distribution(n, c, repair / theta)
+    k = np.arange(n + 1)
+    for values, ref in ((down, float(np.dot(k, p))),
+                        (queue, float(np.dot(np.maximum(k - c, 0), p)))):
+        est, se = mean_se(values)
+        assert within(est, ref, se), (est, ref, se)
+
+
 # --- k-out-of-n groups ----------------------------------------------------------------------
 def test_two_out_of_three_stationary_down_share_is_the_binomial_sum() -> None:
     """Independent repairable units: unavailability q = MTTR / (MTTF + MTTR) (alternating

@@ -136,14 +136,23 @@ def test_engine_choice_says_why() -> None:
 
     life = LifeDistribution(1.5, 1e4)
 
-    def sc(units: int, **kw):  # type: ignore[no-untyped-def]
-        pos = (Position("a", "B", life, Policy()), Position("b", "B", life, Policy()))
+    def sc(units: int, policy: Policy | None = None, **kw):  # type: ignore[no-untyped-def]
+        pos = (Position("a", "B", life, Policy()), Position("b", "B", life, policy or Policy()))
         return Scenario(Study("s", 1e4, 1, 1), Costs(), {"B": Bearing("B", BearingType.BALL, 1e4)},
                         (Machine("m", units, 1.0, 0.0, pos),), **kw)
 
     assert choose_engine(sc(200))[0] == "vector"
     assert choose_engine(sc(10))[0] == "des"
-    assert "finite stores" in choose_engine(sc(200, stores={"B": Stock(1, 0, 1, D.fixed(1.0))}))[1]
-    assert "finite crews" in choose_engine(sc(200, crews=Crews(1)))[1]
+    age = Policy("age", 5e3)
+    store = {"B": Stock(1, 0, 1, D.fixed(1.0))}
+    # coupled, with a planned policy: the discrete-event engine
+    assert choose_engine(sc(200, age, stores=store)) == (
+        "des", "finite stores couple the positions: discrete-event engine")
+    assert "finite crews" in choose_engine(sc(200, age, crews=Crews(1)))[1]
     with pytest.raises(InputError, match="--engine des"):
-        choose_engine(sc(200, crews=Crews(1)), "vector")
+        choose_engine(sc(200, age, crews=Crews(1)), "vector")
+    # coupled, every position run-to-failure: the vectorised engine's coupled path, any size
+    for kw in ({"stores": store}, {"crews": Crews(1)}):
+        engine, why = choose_engine(sc(10, **kw))
+        assert engine == "vector" and "run-to-failure" in why
+        assert choose_engine(sc(10, **kw), "vector") == ("vector", "requested")

@@ -9,6 +9,7 @@ then places the stops on the calendar (see its docstring).
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -39,6 +40,86 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
     stop j of a unit starts at c_j / share + the durations of the stops before
     it (a segmented cumulative sum). Nothing is stepped event by event.
     """
+    P = len(machine.positions)
+    crews = scenario.crews
+    random_stops = crews.unplanned_repair.kind != "fixed" or crews.planned_repair.kind != "fixed"
+    s = LaneSums(machine, keep_intervals, book)
+    H = horizon_h
+    share = machine.operating_share
+    instant = (not random_stops and crews.unplanned_repair.value_h == 0.0
+               and crews.planned_repair.value_h == 0.0)
+    # With one position a unit, or stops of no duration, a stop delays nothing but its own
+    # position: its calendar time follows round by round, and no merging is needed.
+    alone = P == 1 or instant
+    if alone:
+        parts = _rounds(machine, index, scenario, streams, horizon_h, budget, alone=True)
+        if not parts:
+            return s
+        e_idx = np.concatenate([x[0] for x in parts])
+        e_fail = np.concatenate([x[2] for x in parts])
+        e_unit, e_pos = _unit_and_position(e_idx, P)
+        # every event is its own stop
+        d = np.concatenate([x[3] for x in parts])
+        t0 = np.concatenate([x[4] for x in parts])
+        st_unit, st_fail, stop_of = e_unit, e_fail, None
+    else:
+        stops = stops_on_clock(machine, index, scenario, streams, horizon_h, budget)
+        if stops is None:
+            return s
+        e_unit, e_pos, e_fail, stop_of = stops.e_unit, stops.e_pos, stops.e_fail, stops.stop_of
+        st_unit, st_fail, d = stops.unit, stops.failed, stops.duration_h
+        # calendar start of each stop: operating clock / share + earlier stops of its unit
+        before = np.cumsum(d) - d
+        first = np.ones(st_unit.size, dtype=bool)
+        first[1:] = st_unit[1:] != st_unit[:-1]
+        # ``before`` at the first stop of each stop's unit, repeated over the unit's stops
+        at = np.flatnonzero(first)
+        unit_base = np.repeat(before[at], np.diff(at, append=first.size))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            run_h = stops.clock / share if share > 0 else np.zeros_like(stops.clock)
+        t0 = run_h + (before - unit_base)
+    end = t0 + d
+    live = t0 < H  # stops the horizon reaches (and every event in them)
+    done = end < H  # stops whose changes are made within the horizon
+    ev_live, ev_t0 = (live, t0) if stop_of is None else (live[stop_of], t0[stop_of])
+    # counts and the year book, with the DES's conventions
+    every_failed = bool(e_fail.all())  # (run-to-failure: no planned change to count)
+    t_live = ev_t0[ev_live]
+    failed_ev = ev_live if every_failed else e_fail & ev_live
+    s.failures += np.bincount(e_unit[failed_ev], minlength=machine.count)
+    book.at_many(FAILURES, t_live if every_failed else ev_t0[failed_ev])
+    s.issue(e_pos[ev_live], t_live)  # asked for at the failure or the due age
+    if not every_failed:
+        ev_done, ev_end = (done, end) if stop_of is None else (done[stop_of], end[stop_of])
+        planned_ev = ~e_fail & ev_done
+        s.planned += float(np.count_nonzero(planned_ev))
+        book.at_many(CHANGES, ev_end[planned_ev])
+    if not instant:
+        shown = np.minimum(end, H)
+        held = np.where(live, shown - t0, 0.0)
+        s.down_repair_h += float(held[st_fail].sum())
+        s.down_planned_h += float(held[~st_fail].sum())
+        t0_live, shown_live = t0[live], shown[live]
+        # crews worked the stops ended within the horizon: their hours are crew hours
+        book.down_many(t0_live, shown_live, share, worked=done[live])
+        s.stopped(st_unit[live], t0_live, shown_live)
+    else:
+        t0_live = t0[live]
+        s.stopped(st_unit[live], t0_live, t0_live)
+    return s
+
+
+def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
+            horizon_h: float, budget: EventBudget | None, alone: bool
+            ) -> list[tuple[np.ndarray, ...]]:
+    """Every position's cycles on its unit's operating clock, round by round.
+
+    Round k draws the k-th life of every position still inside the horizon (row
+    k of the tables). Each part: event index (unit · P + position), operating
+    clock, failed, then, ``alone``, the stop duration and calendar start (each
+    stop delays only its own position), else the stop quantile (empty with
+    fixed durations).
+    """
     U, P = machine.count, len(machine.positions)
     n = U * P
     plan = compile_plan(machine)
@@ -48,21 +129,17 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
     T_life = streams.table(index, U, P, LIFE)
     T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
     T_stop = streams.table(index, U, P, STOP) if random_stops else None
-    s = LaneSums(machine, keep_intervals, book)
     H = horizon_h
     c_max = share * H  # no unit runs more operating hours than this within the horizon
     d_fail, d_plan = crews.unplanned_repair, crews.planned_repair
     instant = not random_stops and d_fail.value_h == 0.0 and d_plan.value_h == 0.0
-    # With one position a unit, or stops of no duration, a stop delays nothing but its own
-    # position: its calendar time follows round by round, and no merging is needed.
-    alone = P == 1 or instant
     idx = np.arange(n)
     pos = np.tile(np.arange(P), U)
     cut0 = plan.age_due_h[pos]
     a0 = machine.ages_h().reshape(-1)
     clock = np.zeros(n)  # operating clock at the current fitting of each position
     delay = np.zeros(n)  # hours the position's own earlier stops took (when alone)
-    parts: list[tuple[np.ndarray, ...]] = []  # idx, clock, failed, stop quantile, duration, start
+    parts: list[tuple[np.ndarray, ...]] = []
     k = 0
     while idx.size:
         if budget is not None:
@@ -105,75 +182,70 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
             parts.append((idx, c, failed, su))
             clock = c
         k += 1
-    if sum(x[0].size for x in parts) == 0:
-        return s
+    return [x for x in parts if x[0].size] if sum(x[0].size for x in parts) else []
+
+
+def _unit_and_position(e_idx: np.ndarray, P: int) -> tuple[np.ndarray, np.ndarray]:
+    if P & (P - 1) == 0:  # a power of two: shifts, the same values
+        return e_idx >> (P.bit_length() - 1), e_idx & (P - 1)
+    return np.divmod(e_idx, P)
+
+
+@dataclass
+class StopList:
+    """A machine type's stops on its units' operating clocks, by unit, then clock.
+
+    Events are the positions changed (``e_unit``, ``e_pos``, ``e_fail``), in
+    the order of their stops and, inside a stop, its lead first (the first
+    failed position in position order, else the first position: the DES's
+    ``stop_u`` choice); ``stop_of`` gives each event's stop. Per stop: its
+    unit, operating clock, whether any position failed, and its repair or
+    planned duration in hours.
+    """
+
+    e_unit: np.ndarray
+    e_pos: np.ndarray
+    e_fail: np.ndarray
+    stop_of: np.ndarray
+    unit: np.ndarray
+    clock: np.ndarray
+    failed: np.ndarray
+    duration_h: np.ndarray
+
+
+def stops_on_clock(machine: Machine, index: int, scenario: Scenario, streams: Streams,
+                   horizon_h: float, budget: EventBudget | None = None) -> StopList | None:
+    """The stops of every unit of ``machine`` on its operating clock (None: no stop).
+
+    Events at the same clock value of one unit are one stop, as in the
+    discrete-event engine (a failure's stop if any position failed). Where
+    the stops fall on the calendar is left to the caller: it depends on their
+    durations and, in a coupled fleet, on the waits for spares and crews.
+    """
+    parts = _rounds(machine, index, scenario, streams, horizon_h, budget, alone=False)
+    if not parts:
+        return None
+    P = len(machine.positions)
+    crews = scenario.crews
+    d_fail, d_plan = crews.unplanned_repair, crews.planned_repair
     e_idx = np.concatenate([x[0] for x in parts])
     e_fail = np.concatenate([x[2] for x in parts])
-    if P & (P - 1) == 0:  # a power of two: shifts, the same values
-        e_unit, e_pos = e_idx >> (P.bit_length() - 1), e_idx & (P - 1)
+    e_unit, e_pos = _unit_and_position(e_idx, P)
+    e_clock = np.concatenate([x[1] for x in parts])
+    order, e_unit, e_clock = _stop_order(e_unit, e_clock, e_fail, e_pos, P)
+    e_pos, e_fail = e_pos[order], e_fail[order]
+    new = np.ones(e_unit.size, dtype=bool)
+    new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
+    starts = np.flatnonzero(new)
+    stop_of = np.cumsum(new) - 1  # stop index of every event
+    st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
+    if parts[0][3].size == 0:  # fixed durations
+        d = np.where(st_fail, d_fail.value_h, d_plan.value_h)
     else:
-        e_unit, e_pos = np.divmod(e_idx, P)
-    if alone:
-        # every event is its own stop
-        d = np.concatenate([x[3] for x in parts])
-        t0 = np.concatenate([x[4] for x in parts])
-        st_unit, st_fail, stop_of = e_unit, e_fail, None
-    else:
-        e_clock = np.concatenate([x[1] for x in parts])
-        # one stop per (unit, clock value); inside a stop its lead first: the first failed
-        # position in position order, else the first position (the DES's stop_u choice)
-        order, e_unit, e_clock = _stop_order(e_unit, e_clock, e_fail, e_pos, P)
-        e_pos, e_fail = e_pos[order], e_fail[order]
-        new = np.ones(e_unit.size, dtype=bool)
-        new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
-        starts = np.flatnonzero(new)
-        stop_of = np.cumsum(new) - 1  # stop index of every event
-        st_unit, st_clock = e_unit[starts], e_clock[starts]
-        st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
-        if T_stop is None:  # fixed durations
-            d = np.where(st_fail, d_fail.value_h, d_plan.value_h)
-        else:
-            lead_u = np.concatenate([x[3] for x in parts])[order[starts]]
-            d = np.where(st_fail, stop_hours(d_fail, lead_u), stop_hours(d_plan, lead_u))
-        # calendar start of each stop: operating clock / share + earlier stops of its unit
-        before = np.cumsum(d) - d
-        first = np.ones(starts.size, dtype=bool)
-        first[1:] = st_unit[1:] != st_unit[:-1]
-        # ``before`` at the first stop of each stop's unit, repeated over the unit's stops
-        at = np.flatnonzero(first)
-        unit_base = np.repeat(before[at], np.diff(at, append=first.size))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            run_h = st_clock / share if share > 0 else np.zeros_like(st_clock)
-        t0 = run_h + (before - unit_base)
-    end = t0 + d
-    live = t0 < H  # stops the horizon reaches (and every event in them)
-    done = end < H  # stops whose changes are made within the horizon
-    ev_live, ev_t0 = (live, t0) if stop_of is None else (live[stop_of], t0[stop_of])
-    # counts and the year book, with the DES's conventions
-    every_failed = bool(e_fail.all())  # (run-to-failure: no planned change to count)
-    t_live = ev_t0[ev_live]
-    failed_ev = ev_live if every_failed else e_fail & ev_live
-    s.failures += np.bincount(e_unit[failed_ev], minlength=U)
-    book.at_many(FAILURES, t_live if every_failed else ev_t0[failed_ev])
-    s.issue(e_pos[ev_live], t_live)  # asked for at the failure or the due age
-    if not every_failed:
-        ev_done, ev_end = (done, end) if stop_of is None else (done[stop_of], end[stop_of])
-        planned_ev = ~e_fail & ev_done
-        s.planned += float(np.count_nonzero(planned_ev))
-        book.at_many(CHANGES, ev_end[planned_ev])
-    if not instant:
-        shown = np.minimum(end, H)
-        held = np.where(live, shown - t0, 0.0)
-        s.down_repair_h += float(held[st_fail].sum())
-        s.down_planned_h += float(held[~st_fail].sum())
-        t0_live, shown_live = t0[live], shown[live]
-        # crews worked the stops ended within the horizon: their hours are crew hours
-        book.down_many(t0_live, shown_live, share, worked=done[live])
-        s.stopped(st_unit[live], t0_live, shown_live)
-    else:
-        t0_live = t0[live]
-        s.stopped(st_unit[live], t0_live, t0_live)
-    return s
+        lead_u = np.concatenate([x[3] for x in parts])[order[starts]]
+        d = np.where(st_fail, stop_hours(d_fail, lead_u), stop_hours(d_plan, lead_u))
+    return StopList(e_unit, e_pos, e_fail, stop_of, e_unit[starts], e_clock[starts], st_fail,
+                    np.asarray(d, dtype=float))
 
 
 def _stop_order(unit: np.ndarray, clock: np.ndarray, failed: np.ndarray, pos: np.ndarray,

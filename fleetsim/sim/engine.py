@@ -38,15 +38,21 @@ from fleetsim.sim.records import (
     Table,
 )
 from fleetsim.sim.setup import LifeSampler, MachineSetup, SimContext
-from fleetsim.sim.stores import SpareStore, StoreStats, UnlimitedSupply
+from fleetsim.sim.stores import (
+    SpareStore,
+    StoreStats,
+    UnlimitedSupply,
+    bearing_tallies,
+    build_stores,
+    store_counts,
+)
 from fleetsim.sim.streams import Streams, as_seed_sequence
 from fleetsim.sim.tally import (
     COUNTS,
-    BearingTally,
-    GroupTally,
     MachineTally,
     Tally,
     costs_of,
+    group_tallies,
 )
 from fleetsim.sim.unit import UnitRunner, position_columns, unit_columns
 from fleetsim.sim.years import YearBook
@@ -138,17 +144,7 @@ def _run(
     recorder = Recorder(keep_events, book, sink)
     log = recorder.log if recorder.keep_events else None
 
-    bearing_ids = sorted(
-        {p.bearing_id for m in scenario.machines for p in m.positions} | set(scenario.stores)
-    )
-    stores: dict[str, SpareStore | UnlimitedSupply] = {}
-    for b, bid in enumerate(bearing_ids):
-        stock = scenario.stores.get(bid)
-        if stock is None:
-            stores[bid] = UnlimitedSupply(bid, env, book)
-        else:
-            emergency = streams.bearing(b, emergency=True) if stock.emergency_lead_time else None
-            stores[bid] = SpareStore(env, bid, stock, streams.bearing(b), emergency, log, book)
+    stores = build_stores(scenario, env, streams, book, log)
 
     unit_index: dict[str, list[int]] = {}
     n_units = sum(m.count for m in scenario.machines)
@@ -221,9 +217,7 @@ def _result(
             }
         )
     counts = recorder.counts
-    counts["stockouts"] = sum(s.stockouts for s in stats.values())
-    counts["orders"] = sum(s.orders for s in stats.values())
-    counts["emergency_orders"] = sum(s.emergency_orders for s in stats.values())
+    counts.update(store_counts(stats))
 
     group_rows = groups.finish(horizon)
     tally = _tally(scenario, horizon, recorder, unit_table, stats, group_rows)
@@ -273,18 +267,8 @@ def _tally(
         mt.failures += fails
         mt.down_h += down
         mt.lost_operating_h += lost
-    bearings = {
-        b: BearingTally(issued=float(st.issued),
-                        fill_rate=1.0 - st.stockouts / st.demands if st.demands else 1.0,
-                        stock_demands=float(st.demands - st.own_spare),
-                        stock_fill_rate=(1.0 - (st.stockouts - st.own_late) / (st.demands - st.own_spare)
-                                         if st.demands > st.own_spare else 1.0))
-        for b, st in stats.items()
-    }
-    groups = [GroupTally(str(r["group"]), bool(r["had_down"]),
-                         horizon if not math.isfinite(float(r["first_down_h"])) else float(r["first_down_h"]),
-                         float(r["down_h"]))
-              for r in group_rows]
+    bearings = bearing_tallies(stats)
+    groups = group_tallies(group_rows, horizon)
     counts = {name: float(c[name]) for name in COUNTS if name in c}
     counts["missed_defects"] = float(c["missed_defects"])
     counts["failures_after_detection"] = float(c["failures_after_detection"])

@@ -19,6 +19,9 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from functools import partial
 
+import numpy as np
+
+from fleetsim.scenario.model import Scenario
 from fleetsim.sim.tally import group_down_key
 from fleetsim.sim.years import YearBook
 
@@ -157,3 +160,47 @@ class GroupTracker:
                 }
             )
         return rows
+
+
+def replay_groups(scenario: Scenario, intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]],
+                  horizon_h: float, book: YearBook, first_stop_h: float) -> list[dict]:
+    """The rows of :meth:`GroupTracker.finish` from the units' stops, replayed in time order.
+
+    ``intervals``: ``(unit, start_h, end_h)`` arrays of the stops (units numbered
+    across machine types; a stop not ended by the horizon ends at or after it).
+    Without groups only the fleet's first down (``first_stop_h``) is reported.
+    The vectorised engine's paths use it in place of the live calls of the
+    discrete-event engine.
+    """
+    n = sum(m.count for m in scenario.machines)
+    groups = [(g.id, g.need, scenario.group_members(g)) for g in scenario.groups]
+    if not groups:
+        # The fleet is down while any unit is down; only its first down event is reported.
+        down = first_stop_h < horizon_h
+        return [{"group": "fleet", "had_down": down,
+                 "first_down_h": first_stop_h if down else math.nan, "down_h": math.nan}]
+    tracker = GroupTracker(groups, n, book=book)
+    if intervals:
+        unit = np.concatenate([iv[0] for iv in intervals])
+        start = np.concatenate([iv[1] for iv in intervals])
+        end = np.concatenate([iv[2] for iv in intervals])
+        if groups:
+            members = np.zeros(n, dtype=bool)
+            for _, _, m in groups:
+                members[m] = True
+            keep = members[unit]
+            unit, start, end = unit[keep], start[keep], end[keep]
+        # events: (time, code, unit, +1 down / -1 up); a stop of zero length restarts after
+        # every stop of the same instant, so simultaneous instant stops overlap.
+        zero = end <= start
+        times = np.concatenate([start, end])
+        codes = np.concatenate([np.ones(start.size), np.where(zero, 2, 0)])
+        units = np.concatenate([unit, unit])
+        kinds = np.concatenate([np.ones(start.size, dtype=int), -np.ones(end.size, dtype=int)])
+        order = np.lexsort((codes, times))
+        for i in order:
+            if kinds[i] > 0:
+                tracker.unit_down(int(units[i]), float(times[i]))
+            elif times[i] < horizon_h:
+                tracker.unit_up(int(units[i]), float(times[i]))
+    return tracker.finish(horizon_h)

@@ -44,8 +44,15 @@ import numpy as np
 import simpy
 from simpy.core import URGENT
 
-from fleetsim.scenario.model import Stock
-from fleetsim.sim.tally import emergency_key, issued_key, on_hand_key, ordered_key
+from fleetsim.scenario.model import Scenario, Stock
+from fleetsim.sim.streams import Streams
+from fleetsim.sim.tally import (
+    BearingTally,
+    emergency_key,
+    issued_key,
+    on_hand_key,
+    ordered_key,
+)
 from fleetsim.sim.years import YearBook
 
 
@@ -228,6 +235,10 @@ class SpareStore:
         self.kept_on_order = 0  # spares ordered ahead and on their way, kept for their change
         self.stats = StoreStats()
         self._t_last = 0.0
+        self._levels = (stock.reorder_point, stock.order_up_to)  # (s, S)
+        # the year book's journals of spares issued and of spare-hours on the shelf
+        self._issued_j = book.journal(issued_key(bearing_id)) if book is not None else None
+        self._on_hand_j = book.weighted_journal(on_hand_key(bearing_id)) if book is not None else None
         self._review()
 
     # --- bookkeeping --------------------------------------------------------------
@@ -238,14 +249,14 @@ class SpareStore:
             shelf = self.on_hand + self.kept
             self.stats.on_hand_area += shelf * dt
             self.stats.backorder_area += len(self.backorders) * dt
-            if self.book is not None and shelf:
-                self.book.over(on_hand_key(self.bearing_id), self._t_last, now, shelf)
+            if self._on_hand_j is not None and shelf:
+                self._on_hand_j.extend((self._t_last, now, shelf))
             self._t_last = now
 
     def _issued(self) -> None:
         self.stats.issued += 1
-        if self.book is not None:
-            self.book.at(issued_key(self.bearing_id), self.env.now)
+        if self._issued_j is not None:
+            self._issued_j.append(self.env.now)
 
     @property
     def inventory_position(self) -> int:
@@ -270,23 +281,24 @@ class SpareStore:
         """
         self._accrue()
         self.stats.demands += 1
-        claim = Claim(notify)
         if not failure and self.ahead:
             ahead = self.ahead.pop((unit, position), None)
             if ahead is not None:
+                claim = Claim(notify)
                 self._take_ahead(ahead, claim, unit, position)
                 return claim
         if self.on_hand > 0:
             self.on_hand -= 1
             self._issued()
-            claim.filled = True
-        else:
-            self.stats.stockouts += 1
-            self.backorders.append(claim)
-            if self.log is not None:
-                self.log(self.env.now, unit, position, "stockout")
-            if failure:
-                self.expedite(claim, unit, position)
+            self._review()
+            return FILLED  # a claim filled at once is never changed: the shared one
+        claim = Claim(notify)
+        self.stats.stockouts += 1
+        self.backorders.append(claim)
+        if self.log is not None:
+            self.log(self.env.now, unit, position, "stockout")
+        if failure:
+            self.expedite(claim, unit, position)
         self._review()
         return claim
 
@@ -418,8 +430,8 @@ class SpareStore:
 
     # --- orders -------------------------------------------------------------------
     def _review(self) -> None:
-        s, big_s = self.stock.reorder_point, self.stock.order_up_to
-        position = self.inventory_position
+        s, big_s = self._levels
+        position = self.on_hand + self.on_order - len(self.backorders)  # inventory position
         if position <= s and big_s > position:
             self.stats.orders += 1
             self._place(big_s - position, self.stock.lead_time.sample(self.lead_rng), None,
@@ -520,3 +532,49 @@ class _AheadDelivery:
 
     def __call__(self, _event: Any) -> None:
         self.store._deliver_ahead(self.ahead)
+
+
+def build_stores(scenario: Scenario, env: Any, streams: Streams, book: YearBook,
+                 log: Log | None) -> dict[str, SpareStore | UnlimitedSupply]:
+    """The store of every bearing kind of ``scenario``, in bearing-id order.
+
+    A bearing with a stock entry gets a :class:`SpareStore` drawing its lead
+    times from its own streams (index = its place in the sorted ids); the rest
+    unlimited supply. ``env`` is the clock the stores run on: SimPy's
+    environment, or anything with ``now`` and ``timeout(delay_h)`` whose
+    callbacks are fired at ``now + delay_h`` (:mod:`fleetsim.sim.coupled`).
+    """
+    bearing_ids = sorted(
+        {p.bearing_id for m in scenario.machines for p in m.positions} | set(scenario.stores)
+    )
+    stores: dict[str, SpareStore | UnlimitedSupply] = {}
+    for b, bid in enumerate(bearing_ids):
+        stock = scenario.stores.get(bid)
+        if stock is None:
+            stores[bid] = UnlimitedSupply(bid, env, book)
+        else:
+            emergency = streams.bearing(b, emergency=True) if stock.emergency_lead_time else None
+            stores[bid] = SpareStore(env, bid, stock, streams.bearing(b), emergency, log, book)
+    return stores
+
+
+def store_counts(stats: dict[str, StoreStats]) -> dict[str, int]:
+    """The tally's store counts (``stockouts``, ``orders``, ``emergency_orders``), summed."""
+    return {name: sum(getattr(s, name) for s in stats.values())
+            for name in ("stockouts", "orders", "emergency_orders")}
+
+
+def bearing_tallies(stats: dict[str, StoreStats]) -> dict[str, BearingTally]:
+    """One :class:`~fleetsim.sim.tally.BearingTally` per store: issues and fill rates.
+
+    The stock fill rate leaves out the planned demands met by their own spare
+    ordered ahead (and their stock-outs).
+    """
+    return {
+        b: BearingTally(issued=float(st.issued),
+                        fill_rate=1.0 - st.stockouts / st.demands if st.demands else 1.0,
+                        stock_demands=float(st.demands - st.own_spare),
+                        stock_fill_rate=(1.0 - (st.stockouts - st.own_late) / (st.demands - st.own_spare)
+                                         if st.demands > st.own_spare else 1.0))
+        for b, st in stats.items()
+    }

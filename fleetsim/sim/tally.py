@@ -26,6 +26,7 @@ Cost conventions (one place):
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -73,6 +74,17 @@ class GroupTally:
     had_down: bool
     first_down_h: float  # horizon when never down
     down_h: float
+
+
+def group_tallies(rows: list[dict], horizon_h: float) -> list[GroupTally]:
+    """The :class:`GroupTally` of each row of ``GroupTracker.finish`` (a group never
+    down has its first down at the horizon)."""
+    out = []
+    for r in rows:
+        first = float(r["first_down_h"])
+        out.append(GroupTally(str(r["group"]), bool(r["had_down"]),
+                              first if math.isfinite(first) else horizon_h, float(r["down_h"])))
+    return out
 
 
 # Keys of the year book (fleetsim.sim.years) that costs are charged on, shared by both engines.

@@ -38,8 +38,10 @@ import numpy as np
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.allocator import keep_freed_memory
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
+from fleetsim.sim.coupled import coupled_exact, coupled_tally
 from fleetsim.sim.cycles import renewal_cycles, renewal_exact
 from fleetsim.sim.discount import discount_for
+from fleetsim.sim.groups import replay_groups
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan, inspections_to_detect
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
@@ -48,9 +50,9 @@ from fleetsim.sim.tally import (
     FAILURES,
     INSPECTIONS,
     BearingTally,
-    GroupTally,
     MachineTally,
     Tally,
+    group_tallies,
 )
 from fleetsim.sim.years import YearBook
 
@@ -351,45 +353,6 @@ def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: 
     return lanes.sums
 
 
-def _group_rows(scenario: Scenario, intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]],
-                horizon_h: float, book: YearBook, first_stop_h: float) -> list[dict]:
-    """Replay unit stops through the group tracker of the discrete-event engine."""
-    from fleetsim.sim.groups import GroupTracker
-
-    n = sum(m.count for m in scenario.machines)
-    groups = [(g.id, g.need, scenario.group_members(g)) for g in scenario.groups]
-    if not groups:
-        # The fleet is down while any unit is down; only its first down event is reported.
-        down = first_stop_h < horizon_h
-        return [{"group": "fleet", "had_down": down,
-                 "first_down_h": first_stop_h if down else math.nan, "down_h": math.nan}]
-    tracker = GroupTracker(groups, n, book=book)
-    if intervals:
-        unit = np.concatenate([iv[0] for iv in intervals])
-        start = np.concatenate([iv[1] for iv in intervals])
-        end = np.concatenate([iv[2] for iv in intervals])
-        if groups:
-            members = np.zeros(n, dtype=bool)
-            for _, _, m in groups:
-                members[m] = True
-            keep = members[unit]
-            unit, start, end = unit[keep], start[keep], end[keep]
-        # events: (time, code, unit, +1 down / -1 up); a stop of zero length restarts after
-        # every stop of the same instant, so simultaneous instant stops overlap.
-        zero = end <= start
-        times = np.concatenate([start, end])
-        codes = np.concatenate([np.ones(start.size), np.where(zero, 2, 0)])
-        units = np.concatenate([unit, unit])
-        kinds = np.concatenate([np.ones(start.size, dtype=int), -np.ones(end.size, dtype=int)])
-        order = np.lexsort((codes, times))
-        for i in order:
-            if kinds[i] > 0:
-                tracker.unit_down(int(units[i]), float(times[i]))
-            elif times[i] < horizon_h:
-                tracker.unit_up(int(units[i]), float(times[i]))
-    return tracker.finish(horizon_h)
-
-
 def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
                     horizon_h: float | None = None) -> Tally:
     """One replication with the vectorised engine.
@@ -397,7 +360,8 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     Parameters
     ----------
     scenario
-        A scenario without finite stores or crews (:attr:`Scenario.independent_positions`).
+        A scenario without finite stores or crews (:attr:`Scenario.independent_positions`),
+        or one whose positions are all run-to-failure (:func:`~fleetsim.sim.coupled.coupled_exact`).
     seed
         The replication's seed sequence.
     horizon_h
@@ -408,15 +372,18 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     Tally
         The replication's tally, the same structure the discrete-event engine fills.
     """
-    if not scenario.independent_positions:
-        raise ValueError("the vectorised engine needs unlimited spares and crews")
-    keep_freed_memory()  # its arrays reuse freed memory (allocator.py), once per process
     if any(g.hold_planned_work for g in scenario.groups):
         raise ValueError("groups that hold planned work back need the discrete-event engine")
+    if not (scenario.independent_positions or coupled_exact(scenario)):
+        raise ValueError("the vectorised engine needs unlimited spares and crews, "
+                         "or every position on run-to-failure")
+    keep_freed_memory()  # its arrays reuse freed memory (allocator.py), once per process
     H = float(scenario.study.horizon_h if horizon_h is None else horizon_h)
     book = YearBook(H, discount_for(scenario.costs.discount_rate_per_year))
     streams = Streams(seed)
     budget = EventBudget(event_budget(scenario, H), scenario.source)
+    if not scenario.independent_positions:
+        return coupled_tally(scenario, streams, H, book, budget)
     sums = [simulate_machine(m, i, scenario, streams, H, book, budget=budget)
             for i, m in enumerate(scenario.machines)]
     machines: dict[str, MachineTally] = {}
@@ -431,7 +398,7 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
             issued[pos.bearing_id] += float(s.issued[j])
         intervals.extend((u + offset, a, b) for u, a, b in s.intervals)
         offset += m.count
-    rows = _group_rows(scenario, intervals, H, book, min(s.first_stop_h for s in sums))
+    rows = replay_groups(scenario, intervals, H, book, min(s.first_stop_h for s in sums))
     total = {name: sum(getattr(s, name) for s in sums) for name in (
         "planned", "opportunistic", "inspections", "detections", "missed_defects",
         "failures_after_detection", "down_repair_h", "down_planned_h")}
@@ -443,9 +410,7 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
         "failures_after_detection": total["failures_after_detection"],
         "orders": 0.0, "emergency_orders": 0.0, "stockouts": 0.0,
     }
-    groups = [GroupTally(str(r["group"]), bool(r["had_down"]),
-                         H if not math.isfinite(float(r["first_down_h"])) else float(r["first_down_h"]),
-                         float(r["down_h"])) for r in rows]
+    groups = group_tallies(rows, H)
     return Tally(
         horizon_h=H,
         counts=counts,

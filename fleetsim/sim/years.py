@@ -94,6 +94,11 @@ class YearBook:
         (weight 1): what ``over(key, start_h, end_h)`` books, later."""
         return self._journal_of(("over", key, 0.0))
 
+    def weighted_journal(self, key: str) -> list[float]:
+        """The list to extend with ``(start_h, end_h, weight)`` of each interval of
+        ``key``: what ``over(key, start_h, end_h, weight)`` books, later."""
+        return self._journal_of(("overw", key, 0.0))
+
     def down_journal(self, share: float) -> list[float]:
         """The list to extend with ``(start_h, end_h)`` of each stop of a unit with
         operating ``share``: what ``down(start_h, end_h, share)`` books, later."""
@@ -110,6 +115,10 @@ class YearBook:
         if kind == "at":
             self.at_many(key, np.array(entries))
             return
+        if kind == "overw":
+            rows = np.array(entries).reshape(-1, 3)
+            self.over_many(key, rows[:, 0], rows[:, 1], rows[:, 2])
+            return
         pairs = np.array(entries).reshape(-1, 2)
         if kind == "over":
             self.over_many(key, pairs[:, 0], pairs[:, 1])
@@ -122,7 +131,7 @@ class YearBook:
         journaled). The blocks fall at fixed places in each journal, so the sums do
         not depend on when this is called."""
         for what, entries in self._journal.items():
-            block = JOURNAL_BLOCK if what[0] == "at" else 2 * JOURNAL_BLOCK
+            block = JOURNAL_BLOCK * {"at": 1, "overw": 3}.get(what[0], 2)
             full = len(entries) - len(entries) % block
             if full:
                 for start in range(0, full, block):

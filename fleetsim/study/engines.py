@@ -5,7 +5,8 @@
 (:func:`fleetsim.sim.vector.simulate_vector`); both fill one
 :class:`~fleetsim.sim.tally.Tally`, reduced by the one
 :func:`fleetsim.study.figures.figures_of`. :func:`choose_engine` picks the vectorised
-engine when the scenario allows it (no finite stores or crews).
+engine when the scenario allows it: no finite stores or crews, or, with them, every
+position on run-to-failure (:mod:`fleetsim.sim.coupled`).
 """
 
 from __future__ import annotations
@@ -16,6 +17,7 @@ import numpy as np
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Scenario
+from fleetsim.sim.coupled import coupled_exact
 from fleetsim.sim.tally import Tally
 from fleetsim.study.figures import figures_of
 
@@ -45,18 +47,24 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
             raise InputError("--engine", f"group {holding[0]!r} holds planned work back, which "
                                          "only the discrete-event engine models; use --engine des")
         return "des", f"group {holding[0]!r} holds planned work back: discrete-event engine"
+    why = "finite stores" if scenario.stores else "finite crews"
+    coupled = not independent and coupled_exact(scenario)
     if requested in (None, "auto"):
         if independent and scenario.position_count >= VECTOR_MIN_POSITIONS:
             return "vector", "no finite stores or crews: positions are independent, vectorised engine"
         if independent:
             return "des", (f"positions are independent but fewer than {VECTOR_MIN_POSITIONS}: "
                            "the discrete-event engine is as fast here")
-        why = "finite stores" if scenario.stores else "finite crews"
+        if coupled:
+            return "vector", (f"{why} couple the positions, all run-to-failure: vectorised engine "
+                              "(stops drawn on the operating clocks, the queue for spares and "
+                              "crews stepped)")
         return "des", f"{why} couple the positions: discrete-event engine"
     if requested == "vector":
-        if not independent:
+        if not (independent or coupled):
             raise InputError(
-                "--engine", "the vectorised engine needs unlimited spares and crews; use --engine des"
+                "--engine", f"the vectorised engine needs unlimited spares and crews, or every "
+                            f"position on run-to-failure ({why} here); use --engine des"
             )
         return "vector", "requested"
     if requested == "des":

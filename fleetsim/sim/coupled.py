@@ -1,0 +1,342 @@
+"""The vectorised engine's path for run-to-failure fleets coupled by stores and crews.
+
+A stop freezes the ageing of every position of its unit, and under
+run-to-failure nothing else changes a position's life: so on each unit's
+*operating* clock every position is a renewal process whatever a stop lasts,
+waits for spares and crews included. This path therefore draws every machine
+type's stops on the operating clock exactly as the whole-cycle path does
+(:func:`~fleetsim.sim.cycles.stops_on_clock`: the same tables, the same
+merging of a unit's positions), and steps only what couples the units: the
+placing of those stops on the calendar, one stop at a time, in time order.
+
+The queue is the discrete-event engine's own rule, not a copy of it: the
+stores are the engine's :class:`~fleetsim.sim.stores.SpareStore` (the (s, S)
+review, lead times drawn from the same streams, emergency orders, first-come
+backorders, the year book of parts) running on :class:`_Clock` in place of
+SimPy; the fleet's down time goes through the engine's
+:class:`~fleetsim.sim.groups.GroupTracker`; the stops are booked through the
+same year-book journals. What :class:`~fleetsim.sim.unit.UnitRunner` does at a
+failure is done here in the same order: the unit stops, asks for one spare per
+failed position (in position order), waits until all are issued, asks for a
+crew (first come, first served: under run-to-failure every job is a repair),
+is repaired for the stop's duration and runs again, the crew going straight to
+the next unit in the queue. Events of one instant keep SimPy's order (the
+order they were scheduled in), so a replication gives the discrete-event
+engine's figures (``tests/test_engine_identity.py``).
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from collections.abc import Callable
+from heapq import heappop, heappush, heapreplace
+from typing import Any
+
+import numpy as np
+
+from fleetsim.scenario.model import Scenario
+from fleetsim.sim.budget import CHUNK_EVENTS, ROUND_EVENTS, EventBudget
+from fleetsim.sim.cycles import StopList, renewal_exact, stops_on_clock
+from fleetsim.sim.groups import replay_groups
+from fleetsim.sim.stores import (
+    Claim,
+    SpareStore,
+    UnlimitedSupply,
+    bearing_tallies,
+    build_stores,
+    store_counts,
+)
+from fleetsim.sim.streams import Streams
+from fleetsim.sim.tally import (
+    COUNTS,
+    FAILURES,
+    LABOUR_H,
+    MachineTally,
+    Tally,
+    group_tallies,
+)
+from fleetsim.sim.years import YearBook
+
+# kinds of the placer's events
+_ARRIVE, _WAKE, _CALLBACK = range(3)
+
+
+def coupled_exact(scenario: Scenario) -> bool:
+    """True when this path gives the discrete-event engine's figures for ``scenario``:
+    finite stores or crews, every position run-to-failure (no opportunistic changes),
+    no group that holds planned work back."""
+    if scenario.independent_positions or any(g.hold_planned_work for g in scenario.groups):
+        return False
+    return all(renewal_exact(m, scenario)
+               and all(p.policy.kind == "run-to-failure" for p in m.positions)
+               for m in scenario.machines)
+
+
+class _Timeout:
+    """What :meth:`_Clock.timeout` returns: callbacks fired when its time comes."""
+
+    __slots__ = ("callbacks",)
+
+    def __init__(self) -> None:
+        self.callbacks: list[Callable[[Any], None]] = []
+
+
+class _Clock:
+    """The clock the stores run on in place of SimPy: ``now`` and :meth:`timeout`.
+
+    Its queue holds the placer's events as ``(time, order, kind, what)``: the
+    order they were scheduled in breaks ties, as in SimPy.
+    """
+
+    __slots__ = ("now", "queue", "tick")
+
+    def __init__(self) -> None:
+        self.now = 0.0
+        self.queue: list[tuple[float, int, int, Any]] = []
+        #: the order of scheduling: 0, 1, 2, ...
+        self.tick = itertools.count().__next__
+
+    def timeout(self, delay_h: float) -> _Timeout:
+        """A wait of ``delay_h`` hours whose callbacks fire at ``now + delay_h``."""
+        w = _Timeout()
+        heappush(self.queue, (self.now + delay_h, self.tick(), _CALLBACK, w))
+        return w
+
+
+class CoupledResult:
+    """What the placer adds to a replication's tally.
+
+    Per machine type: failures and hours down (waiting for spares, for a crew,
+    under repair); the units' stops for the groups (``intervals``, when kept)
+    and the first stop of the fleet.
+    """
+
+    def __init__(self, n_machines: int) -> None:
+        self.failures = [0.0] * n_machines
+        self.spare_h = [0.0] * n_machines
+        self.crew_h = [0.0] * n_machines
+        self.repair_h = [0.0] * n_machines
+        self.intervals: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
+        self.first_stop_h = math.inf
+
+
+def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: YearBook,
+                  budget: EventBudget | None = None
+                  ) -> tuple[CoupledResult, dict[str, SpareStore | UnlimitedSupply]]:
+    """Draw every machine type's stops and place them on the calendar (module docstring).
+
+    Returns the per-machine sums and the stores (call ``finish`` for their counters).
+
+    Only arrivals at stops, spares issued from backorders and the stores' own
+    timeouts are events. The crews need none: jobs take crews first come,
+    first served, and a job asks for a crew only once its spares are at hand,
+    in time order, so each job's start is known when it asks — the later of
+    now and the earliest time a crew comes free (the recursion of Kiefer and
+    Wolfowitz for a first-come, first-served queue with several servers) —
+    and with it the end of the stop and the unit's next arrival.
+    """
+    H = horizon_h
+    clock = _Clock()
+    stores = build_stores(scenario, clock, streams, book, None)
+    n_units = sum(m.count for m in scenario.machines)
+    out = CoupledResult(len(scenario.machines))
+    failure_times = book.journal(FAILURES)
+    labour_spans = book.span_journal(LABOUR_H)
+
+    # Every stop of the fleet, unit by unit (units numbered across machine types).
+    lists: list[tuple[int, StopList]] = []
+    for mi, m in enumerate(scenario.machines):
+        stops = stops_on_clock(m, mi, scenario, streams, H, budget)
+        if stops is not None:
+            lists.append((mi, stops))
+    if not lists:
+        return out, stores
+    first_unit = np.cumsum([0] + [m.count for m in scenario.machines])
+    ev_store: list[SpareStore | UnlimitedSupply] = []
+    for mi, st in lists:
+        by_pos = [stores[p.bearing_id] for p in scenario.machines[mi].positions]
+        ev_store.extend(by_pos[j] for j in st.e_pos.tolist())
+    unit_of = np.concatenate([st.unit + first_unit[mi] for mi, st in lists])
+    stop_clock = np.concatenate([st.clock for _, st in lists]).tolist()
+    stop_dur = np.concatenate([st.duration_h for _, st in lists]).tolist()
+    per_stop = np.concatenate([np.bincount(st.stop_of, minlength=st.unit.size) for _, st in lists])
+    ev_hi_a = np.cumsum(per_stop)
+    ev_lo = (ev_hi_a - per_stop).tolist()
+    ev_hi = ev_hi_a.tolist()
+    counts = np.bincount(unit_of, minlength=n_units)  # each unit's stops are contiguous
+    u_hi = np.cumsum(counts)
+    nxt = (u_hi - counts).tolist()  # each unit's next stop
+    last = u_hi.tolist()  # and the end of its stops
+    share = [m.operating_share for m in scenario.machines for _ in range(m.count)]
+    machine_of = np.repeat(np.arange(len(scenario.machines)),
+                           [m.count for m in scenario.machines]).tolist()
+    down_journals = [book.down_journal(m.operating_share) for m in scenario.machines]
+    keep = bool(scenario.groups)
+    iv_unit: list[int] = []
+    iv_start: list[float] = []
+    iv_end: list[float] = []
+
+    down_since = [0.0] * n_units
+    waiting: list[list[Claim] | None] = [None] * n_units
+    woken = [False] * n_units
+    spare_h, crew_h, repair_h = [0.0] * n_units, [0.0] * n_units, [0.0] * n_units
+    fails = [0] * n_units
+    #: when each crew comes free (a heap); unlimited crews: none, every job starts at once
+    crews = [0.0] * scenario.crews.count if scenario.crews.count is not None else None
+    queue = clock.queue
+    tick = clock.tick
+    first_stop = math.inf
+
+    def pokes(g: int) -> Callable[[], None]:
+        def poke() -> None:  # a claim of unit g was filled: look again (once an instant)
+            if not woken[g]:
+                woken[g] = True
+                heappush(queue, (clock.now, tick(), _WAKE, g))
+        return poke
+
+    notify = [pokes(g) for g in range(n_units)]
+
+    for g in range(n_units):  # every unit starts running at hour 0
+        j = nxt[g]
+        if j < last[g]:
+            c = stop_clock[j]
+            if share[g] > 0.0:
+                heappush(queue, (c / share[g], tick(), _ARRIVE, g))
+            elif c <= 0.0:
+                heappush(queue, (0.0, tick(), _ARRIVE, g))
+
+    left = CHUNK_EVENTS  # events to the next budget count and settling of the journals
+    while queue:
+        t, _, kind, g = heappop(queue)
+        if not t < H:  # events at the horizon are not processed
+            break
+        clock.now = t
+        left -= 1
+        if not left:
+            left = CHUNK_EVENTS
+            if budget is not None:
+                budget.spend(CHUNK_EVENTS)
+            book.settle_full_blocks()
+        if kind == _ARRIVE:  # the unit fails: it stops and asks for a spare per failed position
+            down_since[g] = t
+            if t < first_stop:
+                first_stop = t
+            j = nxt[g]
+            lo, hi = ev_lo[j], ev_hi[j]
+            fails[g] += hi - lo
+            claims: list[Claim] | None = None
+            note = notify[g]
+            for e in range(lo, hi):  # (every event of a run-to-failure stop is a failure)
+                failure_times.append(t)
+                c = ev_store[e].demand("", "", note, True)
+                if not c.filled:
+                    if claims is None:
+                        claims = []
+                    claims.append(c)
+            if claims is not None:
+                waiting[g] = claims
+                continue
+        elif kind == _WAKE:  # a spare came: all of them?
+            woken[g] = False
+            w = waiting[g]
+            if w is None or not all(c.filled for c in w):
+                continue
+            waiting[g] = None
+        else:  # a store's timeout (a delivery)
+            for cb in g.callbacks:
+                cb(g)
+            continue
+        # Spares at hand at t: the job takes the crew that comes free first.
+        j = nxt[g]
+        d = stop_dur[j]
+        since = down_since[g]
+        spare_h[g] += t - since
+        if crews is None:
+            start = t
+        else:
+            free_at = crews[0]
+            start = free_at if free_at > t else t
+            heapreplace(crews, start + d)
+        up = start + d
+        if not up < H:  # still down at the horizon: no crew hours booked, as in the DES
+            if start < H:
+                crew_h[g] += start - t
+                repair_h[g] += H - start
+            else:
+                crew_h[g] += H - t
+            book.down(since, H, share[g])
+            if keep:
+                iv_unit.append(g)
+                iv_start.append(since)
+                iv_end.append(H)
+            continue
+        crew_h[g] += start - t
+        repair_h[g] += d
+        if d > 0.0 and up > start:
+            labour_spans.extend((start, up))
+        if up > since:
+            down_journals[machine_of[g]].extend((since, up))
+        if keep:
+            iv_unit.append(g)
+            iv_start.append(since)
+            iv_end.append(up)
+        j += 1
+        nxt[g] = j
+        if j < last[g]:
+            gap = stop_clock[j] - stop_clock[j - 1]
+            if share[g] > 0.0:
+                nt = up + gap / share[g]
+                if nt < H:
+                    heappush(queue, (nt, tick(), _ARRIVE, g))
+            elif gap <= 0.0:
+                heappush(queue, (up, tick(), _ARRIVE, g))
+    if budget is not None:
+        budget.spend(max(CHUNK_EVENTS - left, ROUND_EVENTS))
+
+    for g in range(n_units):  # units waiting for spares at the horizon
+        if waiting[g] is not None:
+            spare_h[g] += H - down_since[g]
+            book.down(down_since[g], H, share[g])
+            if keep:
+                iv_unit.append(g)
+                iv_start.append(down_since[g])
+                iv_end.append(H)
+    for g in range(n_units):
+        mi = machine_of[g]
+        out.failures[mi] += fails[g]
+        out.spare_h[mi] += spare_h[g]
+        out.crew_h[mi] += crew_h[g]
+        out.repair_h[mi] += repair_h[g]
+    out.first_stop_h = first_stop
+    if keep and iv_unit:
+        out.intervals.append((np.array(iv_unit, dtype=np.int64), np.array(iv_start),
+                              np.array(iv_end)))
+    return out, stores
+
+
+def coupled_tally(scenario: Scenario, streams: Streams, horizon_h: float, book: YearBook,
+                  budget: EventBudget | None = None) -> Tally:
+    """One replication's :class:`~fleetsim.sim.tally.Tally` by this path
+    (``scenario`` must pass :func:`coupled_exact`)."""
+    H = horizon_h
+    res, stores = place_coupled(scenario, streams, H, book, budget)
+    stats = {b: s.finish(H) for b, s in stores.items()}
+    machines: dict[str, MachineTally] = {}
+    for mi, m in enumerate(scenario.machines):
+        down = res.spare_h[mi] + res.crew_h[mi] + res.repair_h[mi]
+        machines[m.id] = MachineTally(units=m.count, failures=res.failures[mi], down_h=down,
+                                      lost_operating_h=down * m.operating_share)
+    counts = {name: 0.0 for name in COUNTS}
+    counts["failures"] = float(sum(res.failures))
+    counts.update({k: float(v) for k, v in store_counts(stats).items()})
+    return Tally(
+        horizon_h=H,
+        counts=counts,
+        downtime_h={"crew": float(sum(res.crew_h)), "spares": float(sum(res.spare_h)),
+                    "repair": float(sum(res.repair_h)), "planned": 0.0},
+        machines=machines,
+        bearings=bearing_tallies(stats),
+        groups=group_tallies(replay_groups(scenario, res.intervals, H, book, res.first_stop_h), H),
+        book=book,
+    )
