@@ -38,6 +38,7 @@ import numpy as np
 from fleetsim.scenario.model import Scenario
 from fleetsim.sim.budget import CHUNK_EVENTS, ROUND_EVENTS, EventBudget
 from fleetsim.sim.cycles import StopList, renewal_exact, stops_on_clock
+from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import replay_groups
 from fleetsim.sim.stores import (
     Claim,
@@ -141,8 +142,6 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
     stores = build_stores(scenario, clock, streams, book, None)
     n_units = sum(m.count for m in scenario.machines)
     out = CoupledResult(len(scenario.machines))
-    failure_times = book.journal(FAILURES)
-    labour_spans = book.span_journal(LABOUR_H)
 
     # Every stop of the fleet, unit by unit (units numbered across machine types).
     lists: list[tuple[int, StopList]] = []
@@ -158,35 +157,39 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
         by_pos = [stores[p.bearing_id] for p in scenario.machines[mi].positions]
         ev_store.extend(by_pos[j] for j in st.e_pos.tolist())
     unit_of = np.concatenate([st.unit + first_unit[mi] for mi, st in lists])
-    stop_clock = np.concatenate([st.clock for _, st in lists]).tolist()
-    stop_dur = np.concatenate([st.duration_h for _, st in lists]).tolist()
+    machine_of_stop = np.concatenate([np.full(st.unit.size, mi) for mi, st in lists])
+    dur = np.concatenate([st.duration_h for _, st in lists])
+    clock_op = np.concatenate([st.clock for _, st in lists])
     per_stop = np.concatenate([np.bincount(st.stop_of, minlength=st.unit.size) for _, st in lists])
-    ev_hi_a = np.cumsum(per_stop)
-    ev_lo = (ev_hi_a - per_stop).tolist()
-    ev_hi = ev_hi_a.tolist()
+    ev_hi = np.cumsum(per_stop)
     counts = np.bincount(unit_of, minlength=n_units)  # each unit's stops are contiguous
     u_hi = np.cumsum(counts)
-    nxt = (u_hi - counts).tolist()  # each unit's next stop
-    last = u_hi.tolist()  # and the end of its stops
-    share = [m.operating_share for m in scenario.machines for _ in range(m.count)]
-    machine_of = np.repeat(np.arange(len(scenario.machines)),
-                           [m.count for m in scenario.machines]).tolist()
-    down_journals = [book.down_journal(m.operating_share) for m in scenario.machines]
-    keep = bool(scenario.groups)
-    iv_unit: list[int] = []
-    iv_start: list[float] = []
-    iv_end: list[float] = []
-
-    down_since = [0.0] * n_units
+    u_lo = u_hi - counts
+    share_of_unit = np.repeat([m.operating_share for m in scenario.machines],
+                              [m.count for m in scenario.machines])
+    # Calendar hours from the end of each stop to the next stop of its unit (the unit runs
+    # its operating-clock gap at its share; inf after its last stop), as the DES computes
+    # them: (clock of the next stop − clock of this one) / share.
+    s_share = share_of_unit[unit_of]
+    nxt_clock = np.append(clock_op[1:], np.inf)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        gap_h = np.where(s_share > 0.0, (nxt_clock - clock_op) / s_share,
+                         np.where(nxt_clock - clock_op <= 0.0, 0.0, np.inf))
+    gap_h[u_hi[counts > 0] - 1] = np.inf
+    #: per stop: repair hours, its first event, one past its last, hours to the next stop
+    info = list(zip(dur.tolist(), (ev_hi - per_stop).tolist(), ev_hi.tolist(), gap_h.tolist(),
+                    strict=True))
+    nxt = u_lo.tolist()  # each unit's next stop
+    arrived = [0.0] * n_units  # when each unit stopped last
+    #: stop, stopped, spares at hand, crew starts: four numbers per stop given its spares
+    done: list[float] = []
+    record = done.extend
     waiting: list[list[Claim] | None] = [None] * n_units
     woken = [False] * n_units
-    spare_h, crew_h, repair_h = [0.0] * n_units, [0.0] * n_units, [0.0] * n_units
-    fails = [0] * n_units
     #: when each crew comes free (a heap); unlimited crews: none, every job starts at once
     crews = [0.0] * scenario.crews.count if scenario.crews.count is not None else None
     queue = clock.queue
     tick = clock.tick
-    first_stop = math.inf
 
     def pokes(g: int) -> Callable[[], None]:
         def poke() -> None:  # a claim of unit g was filled: look again (once an instant)
@@ -197,14 +200,14 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
 
     notify = [pokes(g) for g in range(n_units)]
 
-    for g in range(n_units):  # every unit starts running at hour 0
-        j = nxt[g]
-        if j < last[g]:
-            c = stop_clock[j]
-            if share[g] > 0.0:
-                heappush(queue, (c / share[g], tick(), _ARRIVE, g))
-            elif c <= 0.0:
-                heappush(queue, (0.0, tick(), _ARRIVE, g))
+    # every unit starts running at hour 0: its first stop comes at its clock / share
+    c0 = np.where(counts > 0, clock_op[np.minimum(u_lo, clock_op.size - 1)], np.inf)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        first_h = np.where(share_of_unit > 0.0, c0 / share_of_unit,
+                           np.where(c0 <= 0.0, 0.0, np.inf))
+    for g, t0 in enumerate(first_h.tolist()):
+        if t0 < H:
+            heappush(queue, (t0, tick(), _ARRIVE, g))
 
     left = CHUNK_EVENTS  # events to the next budget count and settling of the journals
     while queue:
@@ -218,101 +221,88 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
             if budget is not None:
                 budget.spend(CHUNK_EVENTS)
             book.settle_full_blocks()
-        if kind == _ARRIVE:  # the unit fails: it stops and asks for a spare per failed position
-            down_since[g] = t
-            if t < first_stop:
-                first_stop = t
+        if kind == 0:  # _ARRIVE: the unit fails, stops and asks for a spare per failed position
+            arrived[g] = t
             j = nxt[g]
-            lo, hi = ev_lo[j], ev_hi[j]
-            fails[g] += hi - lo
-            claims: list[Claim] | None = None
-            note = notify[g]
-            for e in range(lo, hi):  # (every event of a run-to-failure stop is a failure)
-                failure_times.append(t)
-                c = ev_store[e].demand("", "", note, True)
+            d, lo, hi, gap = info[j]
+            if hi - lo == 1:  # one failed position (nearly every stop)
+                c = ev_store[lo].demand("", "", notify[g], True)
                 if not c.filled:
-                    if claims is None:
-                        claims = []
-                    claims.append(c)
-            if claims is not None:
-                waiting[g] = claims
-                continue
-        elif kind == _WAKE:  # a spare came: all of them?
+                    waiting[g] = [c]
+                    continue
+            else:  # (every event of a stop is a failure)
+                claims = [c for c in (ev_store[e].demand("", "", notify[g], True)
+                                      for e in range(lo, hi)) if not c.filled]
+                if claims:
+                    waiting[g] = claims
+                    continue
+        elif kind == 1:  # _WAKE: a spare came: all of them?
             woken[g] = False
             w = waiting[g]
             if w is None or not all(c.filled for c in w):
                 continue
             waiting[g] = None
+            j = nxt[g]
+            d, lo, hi, gap = info[j]
         else:  # a store's timeout (a delivery)
             for cb in g.callbacks:
                 cb(g)
             continue
         # Spares at hand at t: the job takes the crew that comes free first.
-        j = nxt[g]
-        d = stop_dur[j]
-        since = down_since[g]
-        spare_h[g] += t - since
         if crews is None:
             start = t
         else:
             free_at = crews[0]
             start = free_at if free_at > t else t
             heapreplace(crews, start + d)
+        record((j, arrived[g], t, start))
         up = start + d
-        if not up < H:  # still down at the horizon: no crew hours booked, as in the DES
-            if start < H:
-                crew_h[g] += start - t
-                repair_h[g] += H - start
-            else:
-                crew_h[g] += H - t
-            book.down(since, H, share[g])
-            if keep:
-                iv_unit.append(g)
-                iv_start.append(since)
-                iv_end.append(H)
-            continue
-        crew_h[g] += start - t
-        repair_h[g] += d
-        if d > 0.0 and up > start:
-            labour_spans.extend((start, up))
-        if up > since:
-            down_journals[machine_of[g]].extend((since, up))
-        if keep:
-            iv_unit.append(g)
-            iv_start.append(since)
-            iv_end.append(up)
-        j += 1
-        nxt[g] = j
-        if j < last[g]:
-            gap = stop_clock[j] - stop_clock[j - 1]
-            if share[g] > 0.0:
-                nt = up + gap / share[g]
-                if nt < H:
-                    heappush(queue, (nt, tick(), _ARRIVE, g))
-            elif gap <= 0.0:
-                heappush(queue, (up, tick(), _ARRIVE, g))
+        if up < H:
+            nxt[g] = j + 1
+            nt = up + gap
+            if nt < H:
+                heappush(queue, (nt, tick(), _ARRIVE, g))
     if budget is not None:
         budget.spend(max(CHUNK_EVENTS - left, ROUND_EVENTS))
-
-    for g in range(n_units):  # units waiting for spares at the horizon
+    for g in range(n_units):  # units still waiting for spares at the horizon
         if waiting[g] is not None:
-            spare_h[g] += H - down_since[g]
-            book.down(down_since[g], H, share[g])
-            if keep:
-                iv_unit.append(g)
-                iv_start.append(down_since[g])
-                iv_end.append(H)
-    for g in range(n_units):
-        mi = machine_of[g]
-        out.failures[mi] += fails[g]
-        out.spare_h[mi] += spare_h[g]
-        out.crew_h[mi] += crew_h[g]
-        out.repair_h[mi] += repair_h[g]
-    out.first_stop_h = first_stop
-    if keep and iv_unit:
-        out.intervals.append((np.array(iv_unit, dtype=np.int64), np.array(iv_start),
-                              np.array(iv_end)))
+            record((nxt[g], arrived[g], math.inf, math.inf))
+    if done:
+        rows = np.fromiter(done, float, count=len(done)).reshape(-1, 4)
+        j_of = rows[:, 0].astype(np.intp)
+        _book_stops(scenario, book, out, H, rows[:, 1], rows[:, 2], rows[:, 3], dur[j_of],
+                    per_stop[j_of], unit_of[j_of], machine_of_stop[j_of])
     return out, stores
+
+
+def _book_stops(scenario: Scenario, book: YearBook, out: CoupledResult, H: float,
+                at: np.ndarray, ready: np.ndarray, start: np.ndarray, dur: np.ndarray,
+                failures: np.ndarray, unit: np.ndarray, machine: np.ndarray) -> None:
+    """Book the stops reached within the horizon, with the DES's conventions.
+
+    Per stop reached (in any order): when the unit stopped (``at``), had its spares (``ready``) and
+    had a crew (``start``; inf: not by the horizon), its repair hours, failed
+    positions, unit and machine type. Hours down are split into waiting for
+    spares, waiting for a crew and repair, each cut at the horizon; a stop
+    that ends within the horizon books its repair as crew hours, one still
+    going at the horizon books none (as the DES, which books them at the end).
+    """
+    up = start + dur
+    ready_c, start_c, up_c = np.minimum(ready, H), np.minimum(start, H), np.minimum(up, H)
+    n_m = len(scenario.machines)
+    for name, hours in (("spare_h", ready_c - at), ("crew_h", start_c - ready_c),
+                        ("repair_h", up_c - start_c)):
+        setattr(out, name, np.bincount(machine, weights=hours, minlength=n_m).tolist())
+    out.failures = np.bincount(machine, weights=failures, minlength=n_m).tolist()
+    book.at_many(FAILURES, np.repeat(at, failures))
+    for mi, m in enumerate(scenario.machines):
+        mine = machine == mi if n_m > 1 else slice(None)
+        book.down_many(at[mine], up_c[mine], m.operating_share)
+    worked = (up < H) & (up > start)  # repairs ended within the horizon (of some length)
+    book.over_many(LABOUR_H, start[worked], up[worked])
+    out.first_stop_h = float(at.min())
+    if scenario.groups:
+        out.intervals.append((unit, at, up_c))
 
 
 def coupled_tally(scenario: Scenario, streams: Streams, horizon_h: float, book: YearBook,
@@ -320,7 +310,8 @@ def coupled_tally(scenario: Scenario, streams: Streams, horizon_h: float, book: 
     """One replication's :class:`~fleetsim.sim.tally.Tally` by this path
     (``scenario`` must pass :func:`coupled_exact`)."""
     H = horizon_h
-    res, stores = place_coupled(scenario, streams, H, book, budget)
+    with gc_paused():  # (its small objects would trigger collections that find nothing)
+        res, stores = place_coupled(scenario, streams, H, book, budget)
     stats = {b: s.finish(H) for b, s in stores.items()}
     machines: dict[str, MachineTally] = {}
     for mi, m in enumerate(scenario.machines):

@@ -208,6 +208,10 @@ class SpareStore:
     """
 
     limited = True
+    # (slots: every demand reads and writes these)
+    __slots__ = ("env", "book", "bearing_id", "stock", "lead_rng", "emergency_rng", "log",
+                 "on_hand", "on_order", "backorders", "order_ahead", "ahead", "kept",
+                 "kept_on_order", "stats", "_t_last", "_levels", "_issued_j", "_on_hand_j")
 
     def __init__(
         self,
