@@ -222,3 +222,31 @@ def test_the_stop_order_is_the_four_key_lexsort(P: int, units: int, seed: int) -
             np.testing.assert_array_equal(key[got], key[expected])
         np.testing.assert_array_equal(unit_sorted, unit[expected])
         np.testing.assert_array_equal(clock_sorted, clock[expected])
+
+
+@settings(max_examples=60, deadline=None)
+@given(shape=st.floats(0.3, 12.0), due=st.floats(10.0, 80_000.0), seed=st.integers(0, 2**32 - 1),
+       lognormal=st.booleans())
+def test_lives_are_skipped_only_where_they_cannot_matter(shape: float, due: float, seed: int,
+                                                          lognormal: bool) -> None:
+    """The whole-cycle path computes a life only where its uniform can end the cycle before
+    the due age (below F(due) plus a guard): failed flags and cycle ends equal those from
+    every life, also for uniforms within a few ulps of F(due) and at the guard's edges."""
+    life = LifeDistribution(shape=min(shape, 3.0) if lognormal else shape, scale_h=20_000.0,
+                            location_h=500.0, family="lognormal" if lognormal else "weibull")
+    m = Machine("m", 1, 1.0, 0.0, (Position("a", "B1", life, Policy("age", due)),
+                                    Position("b", "B1", life, Policy())))
+    age_due = np.array([due, math.inf])
+    u_due = cycles._due_uniforms(m, age_due)
+    rng = np.random.default_rng(seed)
+    at = u_due[0]
+    near = at + np.array([-cycles._DUE_GUARD, cycles._DUE_GUARD, 0.0])
+    near = np.concatenate([near, at + np.arange(-5, 6) * np.spacing(max(at, 1e-300))])
+    u = np.clip(np.concatenate([rng.random(400), near]), 0.0, np.nextafter(1.0, 0.0))
+    p = rng.integers(0, 2, u.size)
+    cut = age_due[p]
+    clock = rng.uniform(0.0, 5e4, u.size)
+    failed, c = cycles._cycle_ends(m, u, p, cut, clock, u_due)
+    lives = cycles.draw_lives(m, u, p)
+    assert np.array_equal(failed, lives <= cut)
+    assert np.array_equal(c, clock + np.minimum(lives, cut))

@@ -139,6 +139,10 @@ def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
     a0 = machine.ages_h().reshape(-1)
     clock = np.zeros(n)  # operating clock at the current fitting of each position
     delay = np.zeros(n)  # hours the position's own earlier stops took (when alone)
+    u_due = (_due_uniforms(machine, plan.age_due_h)
+             if T_pf is None and np.isfinite(plan.age_due_h).any() else None)
+    if u_due is not None and u_due[np.isfinite(plan.age_due_h)].max() > _DUE_SHARE_MAX:
+        u_due = None  # most cycles fail before their due age: computing every life costs less
     parts: list[tuple[np.ndarray, ...]] = []
     k = 0
     while idx.size:
@@ -153,11 +157,14 @@ def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
             p, age, u = pos[idx], 0.0, T_life.row(k).reshape(-1)[idx]
             u_pf = T_pf.row(k).reshape(-1)[idx] if T_pf is not None else None
             cut = cut0[idx]
-        life = draw_lives(machine, u, p, age)
-        if u_pf is not None:
-            life = life + draw_pf(machine, u_pf, p)
-        failed = life <= cut  # a failure at the due age is a failure, as in the DES
-        c = clock + np.minimum(life, cut)
+        if u_due is not None and (k > 0 or not a0.any()):
+            failed, c = _cycle_ends(machine, u, p, cut, clock, u_due)
+        else:
+            life = draw_lives(machine, u, p, age)
+            if u_pf is not None:
+                life = life + draw_pf(machine, u_pf, p)
+            failed = life <= cut  # a failure at the due age is a failure, as in the DES
+            c = clock + np.minimum(life, cut)
         if alone:
             with np.errstate(divide="ignore", invalid="ignore"):
                 t0 = (c / share if share > 0 else np.zeros_like(c)) + delay
@@ -183,6 +190,44 @@ def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
             clock = c
         k += 1
     return [x for x in parts if x[0].size] if sum(x[0].size for x in parts) else []
+
+
+#: Uniforms this close to F(due age) have their lives computed to tell a failure at the
+#: due age from a change (far more than the few ulps the inverse transform can be off).
+_DUE_GUARD = 1e-9
+#: Above this share of cycles failing before the due age, the masks cost more than the
+#: lives they save (benchmarks/bench_sweep.py's short intervals gain, its long ones would not).
+_DUE_SHARE_MAX = 0.5
+
+
+def _due_uniforms(machine: Machine, age_due_h: np.ndarray) -> np.ndarray:
+    """Per position, the uniform whose life is its due age, F(due age) (2: never due).
+
+    Lives grow with their uniforms (inverse transform), so a uniform below it
+    (less the guard) ends its cycle in a failure and one above it (plus the
+    guard) in a change at the due age, whatever its life.
+    """
+    out = np.full(len(machine.positions), 2.0)
+    for j, pos in enumerate(machine.positions):
+        if math.isfinite(float(age_due_h[j])):
+            out[j] = float(pos.life.cdf(float(age_due_h[j])))
+    return out
+
+
+def _cycle_ends(machine: Machine, u: np.ndarray, p: np.ndarray, cut: np.ndarray,
+                clock: np.ndarray, u_due: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(failed, clock at the cycle's end) of new bearings (no P-F interval), with the
+    lives computed only where a uniform can end its cycle before the due age ``cut``
+    (:func:`_due_uniforms`): the same values as computing every life."""
+    need = np.flatnonzero(u <= u_due[p] + _DUE_GUARD)
+    failed = np.zeros(u.size, dtype=bool)
+    c = clock + cut
+    if need.size:
+        life = draw_lives(machine, u.take(need), p.take(need))
+        cut_n = cut.take(need)
+        failed[need] = life <= cut_n  # a failure at the due age is a failure, as in the DES
+        c[need] = clock.take(need) + np.minimum(life, cut_n)
+    return failed, c
 
 
 def _unit_and_position(e_idx: np.ndarray, P: int) -> tuple[np.ndarray, np.ndarray]:
