@@ -140,8 +140,10 @@ def coupled(machines: tuple[Machine, ...], *, stops: str = "random", crews: int 
                emergency_lead_time=Duration("exponential", 60.0) if emergency else None,
                emergency_premium=400.0)
     b2 = Stock(initial=2, reorder_point=0, order_up_to=3, lead_time=Duration.fixed(1_500.0))
+    # spares on the shelf cost holding (up to the horizon, after the last event too)
     return dataclasses.replace(base, stores={"B1": b1, "B2": b2},
-                               crews=dataclasses.replace(base.crews, count=crews))
+                               crews=dataclasses.replace(base.crews, count=crews),
+                               costs=dataclasses.replace(base.costs, holding_rate_per_year=0.25))
 
 
 COUPLED = {

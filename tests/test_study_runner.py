@@ -151,8 +151,10 @@ def test_engine_choice_says_why() -> None:
     assert "finite crews" in choose_engine(sc(200, age, crews=Crews(1)))[1]
     with pytest.raises(InputError, match="--engine des"):
         choose_engine(sc(200, age, crews=Crews(1)), "vector")
-    # coupled, every position run-to-failure: the vectorised engine's coupled path, any size
+    # coupled, every position run-to-failure: the vectorised engine's coupled path (on
+    # request at any size)
     for kw in ({"stores": store}, {"crews": Crews(1)}):
-        engine, why = choose_engine(sc(10, **kw))
+        engine, why = choose_engine(sc(100, **kw))
         assert engine == "vector" and "run-to-failure" in why
+        assert choose_engine(sc(10, **kw))[0] == "des"
         assert choose_engine(sc(10, **kw), "vector") == ("vector", "requested")

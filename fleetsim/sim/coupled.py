@@ -150,6 +150,7 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
         if stops is not None:
             lists.append((mi, stops))
     if not lists:
+        clock.now = H  # (nothing happens: the shelf stands still up to the horizon)
         return out, stores
     first_unit = np.cumsum([0] + [m.count for m in scenario.machines])
     ev_store: list[SpareStore | UnlimitedSupply] = []
@@ -264,6 +265,7 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
                 heappush(queue, (nt, tick(), _ARRIVE, g))
     if budget is not None:
         budget.spend(max(CHUNK_EVENTS - left, ROUND_EVENTS))
+    clock.now = H  # the run ends at the horizon (the stores accrue their shelf up to it)
     for g in range(n_units):  # units still waiting for spares at the horizon
         if waiting[g] is not None:
             record((nxt[g], arrived[g], math.inf, math.inf))
@@ -312,7 +314,7 @@ def coupled_tally(scenario: Scenario, streams: Streams, horizon_h: float, book: 
     H = horizon_h
     with gc_paused():  # (its small objects would trigger collections that find nothing)
         res, stores = place_coupled(scenario, streams, H, book, budget)
-    stats = {b: s.finish(H) for b, s in stores.items()}
+    stats = {b: s.finish(H) for b, s in stores.items()}  # (the clock stands at the horizon)
     machines: dict[str, MachineTally] = {}
     for mi, m in enumerate(scenario.machines):
         down = res.spare_h[mi] + res.crew_h[mi] + res.repair_h[mi]

@@ -55,10 +55,9 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
         if independent:
             return "des", (f"positions are independent but fewer than {VECTOR_MIN_POSITIONS}: "
                            "the discrete-event engine is as fast here")
-        if coupled:
-            return "vector", (f"{why} couple the positions, all run-to-failure: vectorised engine "
-                              "(stops drawn on the operating clocks, the queue for spares and "
-                              "crews stepped)")
+        if coupled and scenario.position_count >= VECTOR_MIN_POSITIONS:
+            return "vector", (f"{why} couple the positions, every position run-to-failure: "
+                              "vectorised engine")
         return "des", f"{why} couple the positions: discrete-event engine"
     if requested == "vector":
         if not (independent or coupled):
