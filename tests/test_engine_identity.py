@@ -223,3 +223,40 @@ def test_the_scalar_and_array_inspection_counts_agree_value_for_value(u: float, 
     many = inspections_to_detect(np.full(_FEW + 1, u), np.full(_FEW + 1, p))
     assert (many == inspection_count(u, p)).all()
     assert float(inspections_to_detect(u, p)) == inspection_count(u, p)
+
+
+@settings(max_examples=25, deadline=None, derandomize=True)
+@given(crews=st.one_of(st.none(), st.integers(1, 3)), initial=st.integers(0, 4),
+       reorder=st.integers(-1, 2), extra=st.integers(1, 3),
+       lead=st.sampled_from([Duration.fixed(0.0), Duration.fixed(700.0),
+                             Duration("exponential", 500.0)]),
+       emergency=st.sampled_from([None, Duration.fixed(0.0), Duration.fixed(40.0)]),
+       repair=st.sampled_from([Duration.fixed(0.0), Duration.fixed(9.5),
+                               Duration("exponential", 30.0)]),
+       units=st.integers(1, 12), positions=st.integers(1, 3), share=st.sampled_from([0.6, 1.0]),
+       store_all=st.booleans(), seed=st.integers(0, 2**31 - 1))
+def test_coupled_fleets_give_the_des_figures(crews: int | None, initial: int, reorder: int,
+                                             extra: int, lead: Duration,
+                                             emergency: Duration | None, repair: Duration,
+                                             units: int, positions: int, share: float,
+                                             store_all: bool, seed: int) -> None:
+    """Generated run-to-failure fleets coupled by a store and/or crews: zero and fixed lead
+    times, emergency orders that arrive at once, instant repairs (ties in one instant), one
+    or several positions a unit, part of the fleet on unlimited spares: the vectorised
+    engine's coupled path gives the DES's figures."""
+    from fleetsim.scenario.model import Stock
+
+    life = LifeDistribution(shape=1.3, scale_h=6_000.0, location_h=100.0)
+    m = Machine("m", units, share, 0.0, tuple(
+        Position(f"p{j}", "B1" if (store_all or j == 0) else "B2", life, RTF)
+        for j in range(positions)))
+    stock = Stock(initial=initial, reorder_point=reorder, order_up_to=reorder + extra,
+                  lead_time=lead, emergency_lead_time=emergency, emergency_premium=100.0)
+    base = scenario((m,))
+    sc = dataclasses.replace(base, stores={"B1": stock}, crews=Crews(crews, repair, repair),
+                             costs=dataclasses.replace(base.costs, holding_rate_per_year=0.2))
+    s = np.random.SeedSequence(seed)
+    des = figures_of(tally_of(sc, "des", s), sc)
+    vec = figures_of(tally_of(sc, "vector", s), sc)
+    diff = _same(des, vec)
+    assert not diff, "; ".join(diff[:8])
