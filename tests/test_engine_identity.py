@@ -114,6 +114,9 @@ CASES = {
     "renewal fast path (age and run-to-failure)": scenario((SIMPLE, SINGLE)),
     "lognormal lives (a family fit ranks)": scenario((LOGNORMAL,)),
     "renewal fast path, instant stops": scenario((SIMPLE,), stops="none"),
+    # both positions due at the same operating age: their changes share one stop
+    "renewal fast path, due ages in one stop": scenario((Machine("twin", 9, 1.0, 4_000.0, (
+        pos("de", AGE, pf=False), pos("nde", AGE, pf=False))),)),
 }
 
 

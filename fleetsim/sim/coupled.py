@@ -161,7 +161,9 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
     machine_of_stop = np.concatenate([np.full(st.unit.size, mi) for mi, st in lists])
     dur = np.concatenate([st.duration_h for _, st in lists])
     clock_op = np.concatenate([st.clock for _, st in lists])
-    per_stop = np.concatenate([np.bincount(st.stop_of, minlength=st.unit.size) for _, st in lists])
+    per_stop = np.concatenate([np.ones(st.unit.size, dtype=np.int64) if st.stop_of is None
+                               else np.bincount(st.stop_of, minlength=st.unit.size)
+                               for _, st in lists])
     ev_hi = np.cumsum(per_stop)
     counts = np.bincount(unit_of, minlength=n_units)  # each unit's stops are contiguous
     u_hi = np.cumsum(counts)

@@ -141,7 +141,7 @@ def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
     delay = np.zeros(n)  # hours the position's own earlier stops took (when alone)
     u_due = (_due_uniforms(machine, plan.age_due_h)
              if T_pf is None and np.isfinite(plan.age_due_h).any() else None)
-    if u_due is not None and u_due[np.isfinite(plan.age_due_h)].max() > _DUE_SHARE_MAX:
+    if u_due is not None and u_due[u_due <= 1.0].max() > _DUE_SHARE_MAX:
         u_due = None  # most cycles fail before their due age: computing every life costs less
     parts: list[tuple[np.ndarray, ...]] = []
     k = 0
@@ -200,17 +200,27 @@ _DUE_GUARD = 1e-9
 _DUE_SHARE_MAX = 0.5
 
 
+_DUE_U: dict[int, tuple[Machine, np.ndarray]] = {}
+
+
 def _due_uniforms(machine: Machine, age_due_h: np.ndarray) -> np.ndarray:
-    """Per position, the uniform whose life is its due age, F(due age) (2: never due).
+    """Per position, the uniform whose life is its due age, F(due age) (2: never due;
+    cached per machine type).
 
     Lives grow with their uniforms (inverse transform), so a uniform below it
     (less the guard) ends its cycle in a failure and one above it (plus the
     guard) in a change at the due age, whatever its life.
     """
+    hit = _DUE_U.get(id(machine))
+    if hit is not None and hit[0] is machine:
+        return hit[1]
+    if len(_DUE_U) > 256:
+        _DUE_U.clear()
     out = np.full(len(machine.positions), 2.0)
     for j, pos in enumerate(machine.positions):
         if math.isfinite(float(age_due_h[j])):
             out[j] = float(pos.life.cdf(float(age_due_h[j])))
+    _DUE_U[id(machine)] = (machine, out)
     return out
 
 
@@ -243,7 +253,8 @@ class StopList:
     Events are the positions changed (``e_unit``, ``e_pos``, ``e_fail``), in
     the order of their stops and, inside a stop, its lead first (the first
     failed position in position order, else the first position: the DES's
-    ``stop_u`` choice); ``stop_of`` gives each event's stop. Per stop: its
+    ``stop_u`` choice); ``stop_of`` gives each event's stop (None: every event is
+    a stop of its own, the usual case with continuous lives). Per stop: its
     unit, operating clock, whether any position failed, and its repair or
     planned duration in hours.
     """
@@ -251,7 +262,7 @@ class StopList:
     e_unit: np.ndarray
     e_pos: np.ndarray
     e_fail: np.ndarray
-    stop_of: np.ndarray
+    stop_of: np.ndarray | None
     unit: np.ndarray
     clock: np.ndarray
     failed: np.ndarray
@@ -279,17 +290,24 @@ def stops_on_clock(machine: Machine, index: int, scenario: Scenario, streams: St
     e_clock = np.concatenate([x[1] for x in parts])
     order, e_unit, e_clock = _stop_order(e_unit, e_clock, e_fail, e_pos, P)
     e_pos, e_fail = e_pos[order], e_fail[order]
-    new = np.ones(e_unit.size, dtype=bool)
-    new[1:] = (e_unit[1:] != e_unit[:-1]) | (e_clock[1:] != e_clock[:-1])
-    starts = np.flatnonzero(new)
-    stop_of = np.cumsum(new) - 1  # stop index of every event
-    st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
+    same = (e_unit[1:] == e_unit[:-1]) & (e_clock[1:] == e_clock[:-1])
+    if not same.any():  # every event its own stop (the usual case): no gathers
+        stop_of, starts = None, None
+        st_unit, st_clock, st_fail, lead = e_unit, e_clock, e_fail, order
+    else:
+        new = np.ones(e_unit.size, dtype=bool)
+        new[1:] = ~same
+        starts = np.flatnonzero(new)
+        stop_of = np.cumsum(new) - 1  # stop index of every event
+        st_unit, st_clock = e_unit[starts], e_clock[starts]
+        st_fail = e_fail[starts]  # the lead failed iff any position of the stop failed
+        lead = order[starts]
     if parts[0][3].size == 0:  # fixed durations
         d = np.where(st_fail, d_fail.value_h, d_plan.value_h)
     else:
-        lead_u = np.concatenate([x[3] for x in parts])[order[starts]]
+        lead_u = np.concatenate([x[3] for x in parts])[lead]
         d = np.where(st_fail, stop_hours(d_fail, lead_u), stop_hours(d_plan, lead_u))
-    return StopList(e_unit, e_pos, e_fail, stop_of, e_unit[starts], e_clock[starts], st_fail,
+    return StopList(e_unit, e_pos, e_fail, stop_of, st_unit, st_clock, st_fail,
                     np.asarray(d, dtype=float))
 
 
