@@ -13,16 +13,17 @@ The queue is the discrete-event engine's own rule, not a copy of it: the
 stores are the engine's :class:`~fleetsim.sim.stores.SpareStore` (the (s, S)
 review, lead times drawn from the same streams, emergency orders, first-come
 backorders, the year book of parts) running on :class:`_Clock` in place of
-SimPy; the fleet's down time goes through the engine's
-:class:`~fleetsim.sim.groups.GroupTracker`; the stops are booked through the
-same year-book journals. What :class:`~fleetsim.sim.unit.UnitRunner` does at a
-failure is done here in the same order: the unit stops, asks for one spare per
-failed position (in position order), waits until all are issued, asks for a
-crew (first come, first served: under run-to-failure every job is a repair),
-is repaired for the stop's duration and runs again, the crew going straight to
-the next unit in the queue. Events of one instant keep SimPy's order (the
-order they were scheduled in), so a replication gives the discrete-event
-engine's figures (``tests/test_engine_identity.py``).
+SimPy; the groups' down time is replayed through the engine's
+:class:`~fleetsim.sim.groups.GroupTracker`; the stops are booked in the year
+book with the engine's conventions. What :class:`~fleetsim.sim.unit.UnitRunner`
+does at a failure is done here in the same order: the unit stops, asks for one
+spare per failed position (in position order), waits until all are issued,
+asks for a crew (first come, first served: under run-to-failure every job is a
+repair; :class:`~fleetsim.sim.crews.CrewCalendar` gives its start without an
+event), is repaired for the stop's duration and runs again. Events of one
+instant keep SimPy's order (the order they were scheduled in), so a
+replication gives the discrete-event engine's figures
+(``tests/test_engine_identity.py``).
 """
 
 from __future__ import annotations
@@ -30,13 +31,14 @@ from __future__ import annotations
 import itertools
 import math
 from collections.abc import Callable
-from heapq import heappop, heappush, heapreplace
+from heapq import heappop, heappush
 from typing import Any
 
 import numpy as np
 
 from fleetsim.scenario.model import Scenario
 from fleetsim.sim.budget import CHUNK_EVENTS, ROUND_EVENTS, EventBudget
+from fleetsim.sim.crews import CrewCalendar
 from fleetsim.sim.cycles import StopList, renewal_exact, stops_on_clock
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import replay_groups
@@ -189,8 +191,7 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
     record = done.extend
     waiting: list[list[Claim] | None] = [None] * n_units
     woken = [False] * n_units
-    #: when each crew comes free (a heap); unlimited crews: none, every job starts at once
-    crews = [0.0] * scenario.crews.count if scenario.crews.count is not None else None
+    crew_start = CrewCalendar(scenario.crews.count).start
     queue = clock.queue
     tick = clock.tick
 
@@ -251,13 +252,7 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
             for cb in g.callbacks:
                 cb(g)
             continue
-        # Spares at hand at t: the job takes the crew that comes free first.
-        if crews is None:
-            start = t
-        else:
-            free_at = crews[0]
-            start = free_at if free_at > t else t
-            heapreplace(crews, start + d)
+        start = crew_start(t, d)  # spares at hand at t: the crew that comes free first
         record((j, arrived[g], t, start))
         up = start + d
         if up < H:
@@ -284,8 +279,9 @@ def _book_stops(scenario: Scenario, book: YearBook, out: CoupledResult, H: float
                 failures: np.ndarray, unit: np.ndarray, machine: np.ndarray) -> None:
     """Book the stops reached within the horizon, with the DES's conventions.
 
-    Per stop reached (in any order): when the unit stopped (``at``), had its spares (``ready``) and
-    had a crew (``start``; inf: not by the horizon), its repair hours, failed
+    Per stop reached (in any order): when the unit stopped (``at``), had its
+    spares (``ready``) and had a crew (``start``; inf: not by the horizon), its
+    repair hours, failed
     positions, unit and machine type. Hours down are split into waiting for
     spares, waiting for a crew and repair, each cut at the horizon; a stop
     that ends within the horizon books its repair as crew hours, one still
@@ -294,10 +290,14 @@ def _book_stops(scenario: Scenario, book: YearBook, out: CoupledResult, H: float
     up = start + dur
     ready_c, start_c, up_c = np.minimum(ready, H), np.minimum(start, H), np.minimum(up, H)
     n_m = len(scenario.machines)
-    for name, hours in (("spare_h", ready_c - at), ("crew_h", start_c - ready_c),
-                        ("repair_h", up_c - start_c)):
-        setattr(out, name, np.bincount(machine, weights=hours, minlength=n_m).tolist())
-    out.failures = np.bincount(machine, weights=failures, minlength=n_m).tolist()
+
+    def by_machine(x: np.ndarray) -> list[float]:
+        return np.bincount(machine, weights=x, minlength=n_m).tolist()
+
+    out.spare_h = by_machine(ready_c - at)
+    out.crew_h = by_machine(start_c - ready_c)
+    out.repair_h = by_machine(up_c - start_c)
+    out.failures = by_machine(failures)
     book.at_many(FAILURES, np.repeat(at, failures))
     for mi, m in enumerate(scenario.machines):
         mine = machine == mi if n_m > 1 else slice(None)

@@ -18,6 +18,7 @@ Conventions:
 from __future__ import annotations
 
 from collections.abc import Callable
+from heapq import heapreplace
 
 import simpy
 from simpy.resources.resource import PriorityRequest
@@ -75,3 +76,32 @@ class CrewPool:
         self.busy_h += worked_h
         if req is not None and self.resource is not None:
             self.resource.release(req)
+
+
+class CrewCalendar:
+    """The same crews, first come, first served, for a queue whose jobs ask in time order
+    and know their hours when they ask (every job a repair, none withdrawn).
+
+    Then no event is needed when a crew comes free: a job asking at ``now`` starts
+    at the later of ``now`` and the earliest time a crew comes free, and that crew
+    is busy until the start plus the job's hours (the recursion of Kiefer and
+    Wolfowitz for a first-come, first-served queue with several servers). It
+    gives the start :class:`CrewPool` gives such a job (the vectorised engine's
+    coupled path, :mod:`fleetsim.sim.coupled`; ``tests/test_engine_identity.py``).
+    """
+
+    __slots__ = ("free_at",)
+
+    def __init__(self, count: int | None) -> None:
+        #: when each crew comes free, a heap (None: unlimited crews, every job starts at once)
+        self.free_at = [0.0] * count if count is not None else None
+
+    def start(self, now: float, hours: float) -> float:
+        """The calendar hour the job asking at ``now`` for ``hours`` of work starts."""
+        free_at = self.free_at
+        if free_at is None:
+            return now
+        first = free_at[0]
+        start = first if first > now else now
+        heapreplace(free_at, start + hours)
+        return start

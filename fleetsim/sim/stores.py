@@ -435,7 +435,7 @@ class SpareStore:
     # --- orders -------------------------------------------------------------------
     def _review(self) -> None:
         s, big_s = self._levels
-        position = self.on_hand + self.on_order - len(self.backorders)  # inventory position
+        position = self.inventory_position
         if position <= s and big_s > position:
             self.stats.orders += 1
             self._place(big_s - position, self.stock.lead_time.sample(self.lead_rng), None,
