@@ -155,10 +155,16 @@ COUPLED = {
         (RTF_PF, RTF_FANS, RTF_ONE), stops="fixed", crews=1, emergency=False,
         groups=(Group("line", ("pumps",), 20, downtime_per_hour=300.0),), rate=0.05),
     "coupled: stores alone, instant repairs": coupled((RTF_FANS, RTF_ONE), stops="none", crews=None),
+    # under run-to-failure no unit asks for planned work: a group's hold on it changes nothing
+    "coupled: a group holding planned work back": coupled(
+        (RTF_PF, RTF_FANS), groups=(Group("held", ("pumps", "fans#3"), 18, hold_planned_work=True),)),
     "coupled: crews alone (unlimited spares)": dataclasses.replace(
         coupled((RTF_PF,)), stores={}),
 }
 CASES.update(COUPLED)
+# no planned work to hold back: the whole-cycle path
+CASES["run-to-failure under a group holding planned work back"] = scenario(
+    (RTF_FANS,), groups=(Group("held", ("fans",), 26, hold_planned_work=True),))
 
 
 def _same(a: dict[str, float], b: dict[str, float]) -> list[str]:

@@ -158,3 +158,13 @@ def test_engine_choice_says_why() -> None:
         assert engine == "vector" and "run-to-failure" in why
         assert choose_engine(sc(10, **kw))[0] == "des"
         assert choose_engine(sc(10, **kw), "vector") == ("vector", "requested")
+    # a group that holds planned work back: the DES, unless its members have no planned work
+    from fleetsim.scenario.model import Group
+
+    hold = (Group("g", ("m",), 50, hold_planned_work=True),)
+    assert choose_engine(sc(200, age, groups=hold)) == (
+        "des", "group 'g' holds planned work back: discrete-event engine")
+    with pytest.raises(InputError, match="--engine des"):
+        choose_engine(sc(200, age, groups=hold), "vector")
+    assert choose_engine(sc(200, groups=hold))[0] == "vector"
+    assert choose_engine(sc(100, groups=hold, stores=store))[0] == "vector"

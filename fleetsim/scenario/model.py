@@ -560,6 +560,19 @@ class Scenario:
         return sum(m.count * len(m.positions) for m in self.machines)
 
     @property
+    def holding_groups(self) -> list[str]:
+        """Ids of the groups whose hold on planned work can delay some: ``hold_planned_work``
+        and a member with planned work (an age, block or condition position). A unit
+        whose positions all run to failure asks for no planned stop: a hold changes
+        nothing there."""
+        held = [g for g in self.groups if g.hold_planned_work]
+        if not held:
+            return []
+        planned = [any(p.policy.kind != "run-to-failure" for p in m.positions)
+                   for m in self.machines for _ in range(m.count)]
+        return [g.id for g in held if any(planned[u] for u in self.group_members(g))]
+
+    @property
     def independent_positions(self) -> bool:
         """True when no stores or crews couple the positions (vector engine possible)."""
         return not self.stores and self.crews.count is None

@@ -67,9 +67,9 @@ _ARRIVE, _WAKE, _CALLBACK = range(3)
 
 def coupled_exact(scenario: Scenario) -> bool:
     """True when this path gives the discrete-event engine's figures for ``scenario``:
-    finite stores or crews, every position run-to-failure (no opportunistic changes),
-    no group that holds planned work back."""
-    if scenario.independent_positions or any(g.hold_planned_work for g in scenario.groups):
+    finite stores or crews, every position run-to-failure (no opportunistic changes;
+    no planned work, so no group's hold on it can bite)."""
+    if scenario.independent_positions:
         return False
     return all(renewal_exact(m, scenario)
                and all(p.policy.kind == "run-to-failure" for p in m.positions)

@@ -372,7 +372,7 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     Tally
         The replication's tally, the same structure the discrete-event engine fills.
     """
-    if any(g.hold_planned_work for g in scenario.groups):
+    if scenario.holding_groups:
         raise ValueError("groups that hold planned work back need the discrete-event engine")
     if not (scenario.independent_positions or coupled_exact(scenario)):
         raise ValueError("the vectorised engine needs unlimited spares and crews, "

@@ -41,7 +41,7 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
     (engine, reason)
     """
     independent = scenario.independent_positions
-    holding = [g.id for g in scenario.groups if g.hold_planned_work]
+    holding = scenario.holding_groups
     if holding:
         if requested == "vector":
             raise InputError("--engine", f"group {holding[0]!r} holds planned work back, which "

@@ -176,7 +176,7 @@ def policy_window(scenario: Scenario, horizon_h: float | None = None) -> PolicyW
                        and p.policy.opportunistic_share is None and p.pf_interval is None
                        for p in positions if p.policy.kind != "block")
     coupled = (not scenario.independent_positions
-               or any(g.hold_planned_work for g in scenario.groups))
+               or bool(scenario.holding_groups))
     if renewal_only and not coupled:
         warmup, reason = 0.0, "independent renewal processes start stationary: no warm-up"
     else:
