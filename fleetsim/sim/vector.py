@@ -54,6 +54,7 @@ from fleetsim.sim.tally import (
     Tally,
     group_tallies,
 )
+from fleetsim.sim.visits import detection_times, visits_before, window_index, window_visits
 from fleetsim.sim.years import YearBook
 
 _EPS = 1e-9
@@ -98,6 +99,10 @@ class _Lanes:
         self.next_insp = np.array([[r.every_h for r in plan.rounds]] * U).reshape(U, -1)
         self.has_age = bool(np.isfinite(plan.age_due_h).any())
         self.round_cols = [self._columns(r.positions) for r in plan.rounds]
+        #: visits that find nothing are counted in bulk between events (fleetsim.sim.visits;
+        #: a unit that never runs has no clock to place its windows on: visit by visit)
+        self.bulk_visits = bool(plan.rounds) and share > 0
+        self._windows: list[tuple[np.ndarray, np.ndarray]] = []
         self.block_cols = [self._columns(j.positions) for j in plan.blocks]
         uu, pp = np.indices((U, P))
         self._draw(uu.ravel(), pp.ravel(), age0.ravel())
@@ -166,13 +171,17 @@ class _Lanes:
                 t_next = t_fail  # (a new array: the steps below may write into it)
         if plan.blocks:
             np.minimum(t_next, self.next_block.min(axis=1), out=t_next)
-        if plan.rounds:
+        if self.bulk_visits:  # the next visit that finds a defect
+            np.minimum(t_next, self._next_detection(), out=t_next)
+        elif plan.rounds:
             np.minimum(t_next, self.next_insp.min(axis=1), out=t_next)
         t_plan = self.start_at.min(axis=1)
         np.minimum(t_next, t_plan, out=t_next)
         t_next = np.where(active, np.maximum(t_next, t), t)
         live = active & (t_next < H)
         new_t = np.where(live, t_next, np.where(active, H, t))
+        if self.bulk_visits:
+            self._visits_before(active, live, new_t)
         self.age += (share * (new_t - t))[:, None]
         self.t = new_t
         if not np.count_nonzero(live):
@@ -212,6 +221,44 @@ class _Lanes:
         cols = self.block_cols[j]
         old = (date[:, None] - self.fitted_cal) >= self.plan.skip_younger_h[None, :]
         self._request(lanes[:, None] & cols[None, :] & old & allowed, date, date)
+
+    def _next_detection(self) -> np.ndarray:
+        """Per lane, the calendar hour of the first visit that finds a defect if the unit
+        runs until then (inf: none); keeps each round's window indexes for
+        :meth:`_visits_before`."""
+        out = np.full(self.U, INF)
+        self._windows = []
+        t, share = self.t, self.share
+        with np.errstate(divide="ignore", invalid="ignore"):
+            for r, job in enumerate(self.plan.rounds):
+                nv = self.next_insp[:, r]
+                j_in, j_out = window_index(t, nv, job.every_h, self.defect_age, self.fail_age,
+                                           self.age, share)
+                self._windows.append((j_in, j_out))
+                watched = self.round_cols[r][None, :] & ~self.detected
+                np.minimum(out, detection_times(nv, job.every_h, j_in, j_out, self.looks,
+                                                self.looks_needed, watched), out=out)
+        return out
+
+    def _visits_before(self, active: np.ndarray, live: np.ndarray, new_t: np.ndarray) -> None:
+        """Count the visits that find nothing before each lane's next step (before the
+        horizon for lanes that end): the visits, their year book and the looks inside
+        the windows; the visit at the step itself is made by :meth:`step`."""
+        limit = np.where(live, new_t - _EPS, np.where(active, self.H, -INF))
+        for r, job in enumerate(self.plan.rounds):
+            nv = self.next_insp[:, r]
+            n = visits_before(nv, job.every_h, limit)
+            lanes = np.flatnonzero(n)
+            if not lanes.size:
+                continue
+            per = n[lanes].astype(np.int64)
+            self.sums.inspections += float(per.sum())
+            j = np.arange(int(per.sum())) - np.repeat(np.cumsum(per) - per, per)
+            self.book.at_later(INSPECTIONS, np.repeat(nv[lanes], per) + j * job.every_h)
+            j_in, j_out = self._windows[r]
+            watched = self.round_cols[r][None, :] & ~self.detected
+            self.looks += np.where(watched, window_visits(n, j_in, j_out), 0.0)
+            self.next_insp[:, r] = nv + n * job.every_h
 
     def _inspect(self, lanes: np.ndarray, r: int) -> None:
         s = self.sums
