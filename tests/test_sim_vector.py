@@ -250,3 +250,29 @@ def test_lives_are_skipped_only_where_they_cannot_matter(shape: float, due: floa
     lives = cycles.draw_lives(m, u, p)
     assert np.array_equal(failed, lives <= cut)
     assert np.array_equal(c, clock + np.minimum(lives, cut))
+
+
+def test_dropping_finished_lanes_changes_no_figure(monkeypatch: pytest.MonkeyPatch) -> None:
+    """The lane-stepping path drops the lanes of units past the horizon from its arrays
+    (fleetsim.sim.vector.COMPACT_SHARE): on every case of the identity matrix that it
+    steps, forced to drop at every step it can, the figures are those of never dropping,
+    to the last bit (the dropped lanes have no events left; the tables are read by unit)."""
+    import sys
+    from pathlib import Path
+
+    import fleetsim.sim.vector as vector
+
+    sys.path.insert(0, str(Path(__file__).parent))
+    from test_engine_identity import CASES
+
+    stepped = [sc for sc in CASES.values() if sc.independent_positions
+               and not all(cycles.renewal_exact(m, sc) for m in sc.machines)]
+    assert len(stepped) >= 4
+    for sc in stepped:
+        seeds = [np.random.SeedSequence(91, spawn_key=(i,)) for i in range(3)]
+        monkeypatch.setattr(vector, "COMPACT_SHARE", 0.0)
+        never = [figures_of(simulate_vector(sc, s), sc) for s in seeds]
+        monkeypatch.setattr(vector, "COMPACT_SHARE", 1.0)
+        monkeypatch.setattr(vector, "COMPACT_MIN", 1)
+        always = [figures_of(simulate_vector(sc, s), sc) for s in seeds]
+        assert always == never

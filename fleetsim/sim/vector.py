@@ -7,7 +7,10 @@ lane still inside the horizon, its next event (a functional failure, an age
 due, a block date, an inspection round, the start of requested planned work)
 and processes all lanes together with masks. Positions of one unit stay
 coupled exactly as in the discrete-event engine: a stop freezes the ageing of
-the whole unit.
+the whole unit. Inspection visits that find nothing are not steps: they are
+counted in bulk up to the visit that finds a defect (:mod:`fleetsim.sim.visits`).
+Lanes of units past the horizon are dropped from the arrays as they finish,
+so a late step costs what its lanes need.
 
 The engine reads what the discrete-event engine reads: the machine type's
 compiled :class:`~fleetsim.sim.schedule.MaintenancePlan` (so mixed policies
@@ -59,6 +62,15 @@ from fleetsim.sim.years import YearBook
 
 _EPS = 1e-9
 INF = math.inf
+#: When the lanes still inside the horizon are at most this share of those held, the
+#: others are dropped from the arrays (a late step then costs what its lanes need)...
+COMPACT_SHARE = 0.75
+#: ... and at least this many lanes go (below it the copying costs more than it saves).
+COMPACT_MIN = 64
+#: The per-lane state, gathered when the finished lanes are dropped.
+_LANE_STATE = ("t", "age", "fitted_cal", "k", "defect_age", "fail_age", "stop_u", "looks",
+               "looks_needed", "detected", "pending", "start_at", "next_block", "next_insp",
+               "unit")
 
 
 class _Lanes:
@@ -81,6 +93,8 @@ class _Lanes:
         self.T_stop = streams.table(index, U, P, STOP) if random_stops else None
         self.T_det = streams.table(index, U, P, DETECTION) if plan.rounds else None
         self.sums = LaneSums(machine, keep_intervals, book)
+        #: the unit of each lane (lanes of finished units are dropped, see _compact)
+        self.unit = np.arange(U)
         self.t = np.zeros(U)
         age0 = machine.ages_h()
         self.age = age0.copy()
@@ -119,14 +133,15 @@ class _Lanes:
             return
         k = self.k[u, p]
         m = self.m
-        defect = np.asarray(age) + draw_lives(m, self.T_life.take(k, u, p), p, age)
+        unit = self.unit[u]  # (the tables are by unit)
+        defect = np.asarray(age) + draw_lives(m, self.T_life.take(k, unit, p), p, age)
         self.defect_age[u, p] = defect
-        pf_u = self.T_pf.take(k, u, p) if self.T_pf is not None else None
+        pf_u = self.T_pf.take(k, unit, p) if self.T_pf is not None else None
         self.fail_age[u, p] = defect + draw_pf(m, pf_u, p)
         if self.T_stop is not None:
-            self.stop_u[u, p] = self.T_stop.take(k, u, p)
+            self.stop_u[u, p] = self.T_stop.take(k, unit, p)
         if self.T_det is not None:
-            self.looks_needed[u, p] = inspections_to_detect(self.T_det.take(k, u, p),
+            self.looks_needed[u, p] = inspections_to_detect(self.T_det.take(k, unit, p),
                                                             self.plan.detection[p])
             self.looks[u, p] = 0.0
 
@@ -156,8 +171,12 @@ class _Lanes:
         """
         H = self.H
         active = self.t < H
-        if not np.count_nonzero(active):
+        n_active = np.count_nonzero(active)
+        if not n_active:
             return False
+        if n_active <= COMPACT_SHARE * self.U and self.U - n_active >= COMPACT_MIN:
+            self._compact(active)
+            active = np.ones(self.U, dtype=bool)
         plan = self.plan
         share = self.share
         t = self.t
@@ -215,6 +234,13 @@ class _Lanes:
         if np.count_nonzero(stops):  # failures (repair) and planned work, lane by lane
             self._stop(stops, failed)
         return True
+
+    def _compact(self, active: np.ndarray) -> None:
+        """Drop the lanes of units past the horizon (their sums are in ``self.sums``)."""
+        keep = np.flatnonzero(active)
+        for name in _LANE_STATE:
+            setattr(self, name, getattr(self, name)[keep])
+        self.U = keep.size
 
     def _block_date(self, lanes: np.ndarray, j: int, positions: tuple[int, ...],
                     date: np.ndarray, allowed: np.ndarray) -> None:
@@ -288,7 +314,7 @@ class _Lanes:
         fu = failed[u]
         n_fail = fu.sum(axis=1)
         if np.count_nonzero(n_fail):
-            s.failures[u] += n_fail
+            s.failures[self.unit[u]] += n_fail
             self.book.at_later(FAILURES, np.repeat(t0, n_fail))
             watched = fu & plan.inspected[None, :]
             if np.count_nonzero(watched):
@@ -328,7 +354,7 @@ class _Lanes:
         done = end < self.H  # the changes count when the stop ends inside the horizon
         # crews worked the stops ended within the horizon: their hours are crew hours
         self.book.down_later(t0, shown, self.share, worked=done)
-        s.stopped(u, t0, shown)
+        s.stopped(self.unit[u], t0, shown)
         n_planned = pend.sum(axis=1)
         s.planned += float(n_planned[done].sum())
         if opp is not None:
