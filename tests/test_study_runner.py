@@ -141,8 +141,18 @@ def test_engine_choice_says_why() -> None:
         return Scenario(Study("s", 1e4, 1, 1), Costs(), {"B": Bearing("B", BearingType.BALL, 1e4)},
                         (Machine("m", units, 1.0, 0.0, pos),), **kw)
 
+    # by the benchmarks' crossings (fleetsim.study.engines): from 20 positions ...
     assert choose_engine(sc(200))[0] == "vector"
-    assert choose_engine(sc(10))[0] == "des"
+    assert choose_engine(sc(10))[0] == "vector"
+    assert choose_engine(sc(9))[0] == "des"
+    # ... unless a machine type stepped event by event has few units
+    block = Policy("block", 5e3)
+    assert choose_engine(sc(15, block)) == (
+        "des", "machine type 'm' has 15 units on block, condition or opportunistic policies, "
+               "which the vectorised engine steps event by event: the discrete-event engine "
+               "is faster")
+    assert choose_engine(sc(16, block))[0] == "vector"
+    assert choose_engine(sc(15, block), "vector") == ("vector", "requested")
     age = Policy("age", 5e3)
     store = {"B": Stock(1, 0, 1, D.fixed(1.0))}
     # coupled, with a planned policy: the discrete-event engine
@@ -156,8 +166,8 @@ def test_engine_choice_says_why() -> None:
     for kw in ({"stores": store}, {"crews": Crews(1)}):
         engine, why = choose_engine(sc(100, **kw))
         assert engine == "vector" and "run-to-failure" in why
-        assert choose_engine(sc(10, **kw))[0] == "des"
-        assert choose_engine(sc(10, **kw), "vector") == ("vector", "requested")
+        assert choose_engine(sc(9, **kw))[0] == "des"
+        assert choose_engine(sc(9, **kw), "vector") == ("vector", "requested")
     # a group that holds planned work back: the DES, unless its members have no planned work
     from fleetsim.scenario.model import Group
 
@@ -168,3 +178,14 @@ def test_engine_choice_says_why() -> None:
         choose_engine(sc(200, age, groups=hold), "vector")
     assert choose_engine(sc(200, groups=hold))[0] == "vector"
     assert choose_engine(sc(100, groups=hold, stores=store))[0] == "vector"
+    # few-unit machine types stepped event by event count by their share of the positions
+    def two(small_units: int):  # type: ignore[no-untyped-def]
+        big = Machine("big", 100, 1.0, 0.0, (Position("a", "B", life, Policy()),
+                                              Position("b", "B", life, Policy())))
+        small = Machine("small", small_units, 1.0, 0.0, (Position("a", "B", life, block),
+                                                          Position("b", "B", life, block)))
+        return Scenario(Study("s", 1e4, 1, 1), Costs(), {"B": Bearing("B", BearingType.BALL, 1e4)},
+                        (big, small))
+
+    assert choose_engine(two(10))[0] == "vector"  # 20 of 220 positions: under a tenth
+    assert choose_engine(two(12))[1].startswith("machine type 'small' has 12 units")  # 24 of 224

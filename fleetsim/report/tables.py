@@ -132,19 +132,27 @@ def _runs_lines(results: Sequence[StudyResult], labels: Sequence[str], width: in
     def settings(r: StudyResult) -> str:
         return (
             f"{fmt.number(r.horizon_years)} years, {fmt.plural(len(r.replications), 'replication')}, "
-            f"seed {r.seed}, engine {r.engine}"
+            f"seed {r.seed}"
         )
 
     first = results[0]
     if all(settings(r) == settings(first) for r in results):
-        text = f"Study {first.scenario.study.name!r}: {settings(first)}"
+        # the engines give the same figures on the same seed: a variant on the other
+        # engine is named, the comparison stays on common random numbers
+        engines = [r.engine for r in results]
+        main = max(sorted(set(engines)), key=engines.count)
+        others = [label for r, label in zip(results, labels, strict=True) if r.engine != main]
+        engine = f"engine {main}" + (f" ({', '.join(others)}: "
+                                     f"{next(e for e in engines if e != main)})" if others else "")
+        text = f"Study {first.scenario.study.name!r}: {settings(first)}, {engine}"
         if len(results) > 1:
             text += f", {fmt.plural(len(results), 'variant')} on common random numbers"
         return textwrap.wrap(text + ".", width) or [""]
     return [
         line
         for r, label in zip(results, labels, strict=True)
-        for line in textwrap.wrap(f"{label}: {settings(r)}.", width, subsequent_indent="  ")
+        for line in textwrap.wrap(f"{label}: {settings(r)}, engine {r.engine}.", width,
+                                  subsequent_indent="  ")
     ]
 
 

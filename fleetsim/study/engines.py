@@ -5,8 +5,11 @@
 (:func:`fleetsim.sim.vector.simulate_vector`); both fill one
 :class:`~fleetsim.sim.tally.Tally`, reduced by the one
 :func:`fleetsim.study.figures.figures_of`. :func:`choose_engine` picks the vectorised
-engine when the scenario allows it: no finite stores or crews, or, with them, every
-position on run-to-failure (:mod:`fleetsim.sim.coupled`).
+engine when the scenario allows it (no finite stores or crews, or, with them, every
+position on run-to-failure: :mod:`fleetsim.sim.coupled`) and it is the faster one, as
+``benchmarks/`` measures them: from :data:`VECTOR_MIN_POSITIONS` positions, unless
+machine types it steps event by event with few units (:data:`LANE_MIN_UNITS`) hold
+more than :data:`FEW_LANES_SHARE` of the positions.
 """
 
 from __future__ import annotations
@@ -18,12 +21,21 @@ import numpy as np
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Scenario
 from fleetsim.sim.coupled import coupled_exact
+from fleetsim.sim.cycles import renewal_exact
 from fleetsim.sim.tally import Tally
 from fleetsim.study.figures import figures_of
 
 EngineName = Literal["des", "vector"]
-#: Below this many positions the discrete-event engine is about as fast (benchmarks/).
-VECTOR_MIN_POSITIONS = 200
+#: From this many positions the vectorised engine is the faster (benchmarks/, 2 cores:
+#: 1.4-3x the discrete-event engine at 20 positions on its whole-cycle and coupled
+#: paths; below, a replication takes a millisecond or two on either).
+VECTOR_MIN_POSITIONS = 20
+#: A machine type with block, condition or opportunistic policies is stepped event by
+#: event in lanes of units; with fewer units than this its lanes are slower than the
+#: discrete-event engine (0.2x with one unit of 64 positions, 1.2-2x at 16 units of 4)...
+LANE_MIN_UNITS = 16
+#: ... which matters when such machine types hold more than this share of the positions.
+FEW_LANES_SHARE = 0.1
 
 
 def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[EngineName, str]:
@@ -50,11 +62,19 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
     why = "finite stores" if scenario.stores else "finite crews"
     coupled = not independent and coupled_exact(scenario)
     if requested in (None, "auto"):
-        if independent and scenario.position_count >= VECTOR_MIN_POSITIONS:
-            return "vector", "no finite stores or crews: positions are independent, vectorised engine"
-        if independent:
+        few = [m for m in scenario.machines
+               if m.count < LANE_MIN_UNITS and not renewal_exact(m, scenario)]
+        if independent and scenario.position_count < VECTOR_MIN_POSITIONS:
             return "des", (f"positions are independent but fewer than {VECTOR_MIN_POSITIONS}: "
                            "the discrete-event engine is as fast here")
+        if independent and (sum(m.count * len(m.positions) for m in few)
+                            > FEW_LANES_SHARE * scenario.position_count):
+            m = few[0]
+            return "des", (f"machine type {m.id!r} has {m.count} unit{'s' * (m.count != 1)} on "
+                           "block, condition or opportunistic policies, which the vectorised "
+                           "engine steps event by event: the discrete-event engine is faster")
+        if independent:
+            return "vector", "no finite stores or crews: positions are independent, vectorised engine"
         if coupled and scenario.position_count >= VECTOR_MIN_POSITIONS:
             return "vector", (f"{why} couple the positions, every position run-to-failure: "
                               "vectorised engine")
