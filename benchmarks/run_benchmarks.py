@@ -12,7 +12,9 @@ prints, in one run:
   against a bare numpy sampler whose cycles are life + 8 h; a run-to-failure fleet
   coupled by 2 crews and one shared (s, S) store against a bare SimPy model of
   the same fleet (at 1,000 and 10,000 positions);
-* the speed-up of the vectorised engine over the discrete-event engine;
+* the speed-up of the vectorised engine over the discrete-event engine, and
+  where it crosses 1 for small fleets and few-unit machine types (the figures
+  behind ``fleetsim.study.engines.choose_engine``);
 * the scaling of a 200-replication study from one to two workers, beside
   what two processes give on this machine in the same rounds;
 * the peak memory of a 1,000-replication study of 10,000 positions
@@ -332,6 +334,36 @@ def throughput(sizes: list[int], des_max: int, coupled_sizes: list[int]) -> dict
     return out
 
 
+def _shaped(units: int, positions: int, policy: Policy, coupled: bool = False) -> Scenario:
+    """The benchmark fleet reshaped: ``units`` units of ``positions`` positions."""
+    sc = coupled_fleet(1_000) if coupled else fleet(4, policy, repair_h=8.0)
+    m = sc.machines[0]
+    pos = tuple(dataclasses.replace(m.positions[0], id=f"p{j}") for j in range(positions))
+    return dataclasses.replace(sc, machines=(dataclasses.replace(m, count=units, positions=pos),))
+
+
+def crossings(rounds: int = 3) -> dict:
+    """Vectorised over discrete-event speed on small fleets and few-unit machine types."""
+    shapes = [(2, 4), (5, 4), (12, 4), (16, 4), (8, 8), (1, 64)]
+    print("\nVectorised engine ÷ discrete-event engine speed (CPU time, medians of "
+          f"{rounds} alternated rounds; above 1 the vectorised engine is faster)")
+    print(f"{'units×positions':<16}" + "".join(f"{name:>16}" for name in POLICIES)
+          + f"{'coupled r-t-f':>16}")
+    out: dict = {}
+    for units, n_pos in shapes:
+        row = []
+        for name, policy in [*POLICIES.items(), ("coupled", Policy())]:
+            sc = _shaped(units, n_pos, policy, coupled=name == "coupled")
+            vector_run(sc, 0)
+            des_run(sc, 0)
+            r = [timed(lambda i, sc=sc: des_run(sc, i), 0.15)
+                 / timed(lambda i, sc=sc: vector_run(sc, i), 0.15) for _ in range(rounds)]
+            out[f"{name}/{units}x{n_pos}"] = float(np.median(r))
+            row.append(f"{np.median(r):>16.2f}")
+        print(f"{f'{units}×{n_pos}':<16}" + "".join(row))
+    return out
+
+
 def _spin(n: int) -> int:
     x = 0
     for i in range(n):
@@ -462,12 +494,14 @@ def main() -> None:
           f"simpy {simpy.__version__}")
     if args.quick:
         figures = {"throughput": throughput([100, 1_000], des_max=1_000, coupled_sizes=[1_000])}
+        figures["crossings"] = crossings(1)
         figures["workers"] = worker_scaling(20, repeats=3)
         figures["memory"] = peak_memory(20, 1_000)
         figures["pump_demo"] = pump_demo(20)
     else:
         figures = {"throughput": throughput([100, 1_000, 10_000], des_max=10_000,
                                              coupled_sizes=[1_000, 10_000])}
+        figures["crossings"] = crossings()
         figures["workers"] = worker_scaling(200)
         figures["memory"] = peak_memory(1_000, 10_000)
         figures["pump_demo"] = pump_demo(200)
