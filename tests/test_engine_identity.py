@@ -48,6 +48,7 @@ AGE_OPP = Policy("age", 8_000.0, opportunistic_share=0.6)
 BLOCK_M = Policy("block", 9_100.0)
 BLOCK_P = Policy("block", 6_300.0, block_scope="position", skip_younger_than_h=2_000.0)
 BLOCK_OPP = Policy("block", 10_700.0, opportunistic_share=0.7)
+BLOCK_POS = Policy("block", 9_100.0, block_scope="position")
 COND_30 = Policy("condition", inspection_every_h=733.0, detection=0.7, respond_within_h=50.0)
 COND_180 = Policy("condition", inspection_every_h=4_391.0, detection=0.9)
 
@@ -114,6 +115,15 @@ CASES = {
     "renewal fast path (age and run-to-failure)": scenario((SIMPLE, SINGLE)),
     "lognormal lives (a family fit ranks)": scenario((LOGNORMAL,)),
     "renewal fast path, instant stops": scenario((SIMPLE,), stops="none"),
+    # block replacement by periods (fleetsim.sim.block_cycles): block and run-to-failure
+    # positions, both scopes, starting ages, field factors, every kind of stop
+    "block periods, random stops": scenario((Machine("blocked", 20, 0.8, 0.0, (
+        pos("a", BLOCK_M), pos("r", RTF), pos("c", BLOCK_M, bearing="B2"))),)),
+    "block periods, position scope, starting ages, fixed stops": scenario((Machine(
+        "blocked", 15, 0.6, 2_000.0, (pos("a", BLOCK_POS), pos("b", BLOCK_POS, factor=0.7),
+                                      pos("r", RTF, pf=False))),), stops="fixed"),
+    "block periods, instant stops": scenario((Machine("blocked", 12, 1.0, 0.0, (
+        pos("a", BLOCK_M), pos("r", RTF))),), stops="none"),
     # both positions due at the same operating age: their changes share one stop
     "renewal fast path, due ages in one stop": scenario((Machine("twin", 9, 1.0, 4_000.0, (
         pos("de", AGE, pf=False), pos("nde", AGE, pf=False))),)),
@@ -301,5 +311,59 @@ def test_condition_monitored_fleets_give_the_des_figures(
     vec = figures_of(tally_of(sc, "vector", s), sc)
     assert des["inspections"] > 0
     event("defects found" if des["detections"] > 0 else "none found")
+    diff = _same(des, vec)
+    assert not diff, "; ".join(diff[:8])
+
+
+@settings(max_examples=30, deadline=None, derandomize=True)
+@given(every=st.sampled_from([700.0, 2_345.6, 9_000.0, 30_000.0]),
+       scope=st.sampled_from(["machine", "position"]), rtf=st.integers(0, 2),
+       blocked=st.integers(1, 3),
+       # (fixed durations not in whole hours: see scenario())
+       repair=st.sampled_from([Duration.fixed(0.0), Duration.fixed(7.3), Duration.fixed(1_513.7),
+                               Duration("exponential", 400.0), Duration("exponential", 900.0)]),
+       planned=st.sampled_from([Duration.fixed(0.0), Duration.fixed(12.1),
+                                Duration("exponential", 30.0), Duration.fixed(812.9)]),
+       share=st.sampled_from([0.4, 0.9, 1.0]), units=st.integers(1, 12),
+       age=st.sampled_from([0.0, 5_000.0]), pf=st.booleans(), seed=st.integers(0, 2**31 - 1))
+# the two cases the lane path runs: a repair over two dates, a block stop past the next one
+@example(every=700.0, scope="machine", rtf=1, blocked=2, repair=Duration.fixed(1_513.7),
+         planned=Duration.fixed(12.1), share=1.0, units=6, age=0.0, pf=False, seed=198)
+@example(every=700.0, scope="position", rtf=1, blocked=2, repair=Duration.fixed(7.3),
+         planned=Duration.fixed(812.9), share=0.9, units=6, age=0.0, pf=True, seed=5)
+def test_block_replaced_fleets_give_the_des_figures(
+        every: float, scope: str, rtf: int, blocked: int, repair: Duration, planned: Duration,
+        share: float, units: int, age: float, pf: bool, seed: int) -> None:
+    """Generated block-replaced fleets, which the vectorised engine runs block period by
+    block period (fleetsim.sim.block_cycles): short to long intervals, run-to-failure
+    positions beside the block ones, repairs long enough to straddle a date (and two:
+    the lane path then runs it), planned stops that reach the next date, instant stops,
+    starting ages: the figures are the DES's."""
+    import fleetsim.sim.vector as vector
+
+    ran = []
+    monkey = vector.block_cycles
+
+    def spy(*a, **k):  # type: ignore[no-untyped-def]
+        out = monkey(*a, **k)
+        ran.append(out is not None)
+        return out
+
+    vector.block_cycles = spy
+    try:
+        pol = Policy("block", every, block_scope=scope)
+        m = Machine("m", units, share, age, tuple(
+            [pos(f"b{j}", pol, pf=pf) for j in range(blocked)]
+            + [pos(f"r{j}", RTF, pf=pf) for j in range(rtf)]))
+        base = scenario((m,))
+        sc = dataclasses.replace(base, crews=Crews(None, planned_repair=planned,
+                                                   unplanned_repair=repair))
+        s = np.random.SeedSequence(seed)
+        des = figures_of(tally_of(sc, "des", s), sc)
+        vec = figures_of(tally_of(sc, "vector", s), sc)
+    finally:
+        vector.block_cycles = monkey
+    assert ran
+    event("by periods" if ran[0] else "the lane path")
     diff = _same(des, vec)
     assert not diff, "; ".join(diff[:8])

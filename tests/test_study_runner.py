@@ -146,13 +146,15 @@ def test_engine_choice_says_why() -> None:
     assert choose_engine(sc(10))[0] == "vector"
     assert choose_engine(sc(9))[0] == "des"
     # ... unless a machine type stepped event by event has few units
-    block = Policy("block", 5e3)
-    assert choose_engine(sc(15, block)) == (
-        "des", "machine type 'm' has 15 units on block, condition or opportunistic policies, "
-               "which the vectorised engine steps event by event: the discrete-event engine "
-               "is faster")
-    assert choose_engine(sc(16, block))[0] == "vector"
-    assert choose_engine(sc(15, block), "vector") == ("vector", "requested")
+    cond = Policy("condition", inspection_every_h=700.0, detection=0.7)
+    assert choose_engine(sc(15, cond)) == (
+        "des", "machine type 'm' has 15 units on condition monitoring, opportunistic changes or "
+               "mixed calendar policies, which the vectorised engine steps event by event: the "
+               "discrete-event engine is faster")
+    assert choose_engine(sc(16, cond))[0] == "vector"
+    assert choose_engine(sc(15, cond), "vector") == ("vector", "requested")
+    # (one block interval beside run-to-failure runs by block periods, at any count)
+    assert choose_engine(sc(10, Policy("block", 5e3)))[0] == "vector"
     age = Policy("age", 5e3)
     store = {"B": Stock(1, 0, 1, D.fixed(1.0))}
     # coupled, with a planned policy: the discrete-event engine
@@ -182,8 +184,8 @@ def test_engine_choice_says_why() -> None:
     def two(small_units: int):  # type: ignore[no-untyped-def]
         big = Machine("big", 100, 1.0, 0.0, (Position("a", "B", life, Policy()),
                                               Position("b", "B", life, Policy())))
-        small = Machine("small", small_units, 1.0, 0.0, (Position("a", "B", life, block),
-                                                          Position("b", "B", life, block)))
+        small = Machine("small", small_units, 1.0, 0.0, (Position("a", "B", life, cond),
+                                                          Position("b", "B", life, cond)))
         return Scenario(Study("s", 1e4, 1, 1), Costs(), {"B": Bearing("B", BearingType.BALL, 1e4)},
                         (big, small))
 

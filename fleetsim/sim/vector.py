@@ -29,7 +29,9 @@ its unit's operating clock (a stop freezes the clock, whatever its duration),
 and the whole-cycle path :func:`fleetsim.sim.cycles.renewal_cycles` draws the cycles directly,
 merges each unit's events into stops and places the stops on the calendar
 with a segmented cumulative sum: repairs, planned work and several positions
-per unit stay in arrays.
+per unit stay in arrays. Block replacement on one interval beside
+run-to-failure takes the same path block period by block period
+(:func:`fleetsim.sim.block_cycles.block_cycles`).
 """
 
 from __future__ import annotations
@@ -40,6 +42,7 @@ import numpy as np
 
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.allocator import keep_freed_memory
+from fleetsim.sim.block_cycles import block_cycles, block_exact
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
 from fleetsim.sim.coupled import coupled_exact, coupled_tally
 from fleetsim.sim.cycles import renewal_cycles, renewal_exact
@@ -419,6 +422,10 @@ def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: 
     keep = bool(scenario.groups) if keep_intervals is None else keep_intervals
     if renewal_exact(machine, scenario):
         return renewal_cycles(machine, index, scenario, streams, horizon_h, book, keep, budget)
+    if block_exact(machine, scenario):
+        by_periods = block_cycles(machine, index, scenario, streams, horizon_h, book, keep, budget)
+        if by_periods is not None:
+            return by_periods
     lanes = _Lanes(machine, index, scenario, streams, horizon_h, book, keep)
     while lanes.step():
         if budget is not None:

@@ -20,6 +20,7 @@ import numpy as np
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import Scenario
+from fleetsim.sim.block_cycles import block_exact
 from fleetsim.sim.coupled import coupled_exact
 from fleetsim.sim.cycles import renewal_exact
 from fleetsim.sim.tally import Tally
@@ -30,9 +31,11 @@ EngineName = Literal["des", "vector"]
 #: 1.4-3x the discrete-event engine at 20 positions on its whole-cycle and coupled
 #: paths; below, a replication takes a millisecond or two on either).
 VECTOR_MIN_POSITIONS = 20
-#: A machine type with block, condition or opportunistic policies is stepped event by
-#: event in lanes of units; with fewer units than this its lanes are slower than the
-#: discrete-event engine (0.2x with one unit of 64 positions, 1.2-2x at 16 units of 4)...
+#: A machine type with condition monitoring, opportunistic changes or mixed calendar
+#: policies is stepped event by event in lanes of units (not run-to-failure, age or one
+#: block interval alone: those run by whole cycles); with fewer units than this its
+#: lanes are slower than the discrete-event engine (0.2x with one unit of 64 positions,
+#: 2x at 16 units of 4)...
 LANE_MIN_UNITS = 16
 #: ... which matters when such machine types hold more than this share of the positions.
 FEW_LANES_SHARE = 0.1
@@ -63,7 +66,8 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
     coupled = not independent and coupled_exact(scenario)
     if requested in (None, "auto"):
         few = [m for m in scenario.machines
-               if m.count < LANE_MIN_UNITS and not renewal_exact(m, scenario)]
+               if m.count < LANE_MIN_UNITS
+               and not (renewal_exact(m, scenario) or block_exact(m, scenario))]
         if independent and scenario.position_count < VECTOR_MIN_POSITIONS:
             return "des", (f"positions are independent but fewer than {VECTOR_MIN_POSITIONS}: "
                            "the discrete-event engine is as fast here")
@@ -71,8 +75,9 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
                             > FEW_LANES_SHARE * scenario.position_count):
             m = few[0]
             return "des", (f"machine type {m.id!r} has {m.count} unit{'s' * (m.count != 1)} on "
-                           "block, condition or opportunistic policies, which the vectorised "
-                           "engine steps event by event: the discrete-event engine is faster")
+                           "condition monitoring, opportunistic changes or mixed calendar "
+                           "policies, which the vectorised engine steps event by event: the "
+                           "discrete-event engine is faster")
         if independent:
             return "vector", "no finite stores or crews: positions are independent, vectorised engine"
         if coupled and scenario.position_count >= VECTOR_MIN_POSITIONS:
