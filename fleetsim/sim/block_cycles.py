@@ -12,8 +12,10 @@ block stop of every unit in arrays, with the discrete-event engine's rules
 (:mod:`fleetsim.sim.unit`, :mod:`fleetsim.sim.policies`):
 
 * a unit running at the date stops at once for one planned duration and has
-  every block position changed (the duration is the quantile, under the
+  every block position changed that was fitted at least its skip interval
+  before (the modified block rule; the duration is the quantile, under the
   planned-work duration, of the stop uniform of the first position's life);
+  with none to change it runs on;
 * a unit under repair at the date (a date at the restart instant counts)
   has the positions of that repair left out, and stops for the others as the
   repair ends; one whose repair runs past the horizon asks for their spares
@@ -23,7 +25,7 @@ block stop of every unit in arrays, with the discrete-event engine's rules
   for a position's k-th life), so the figures are the lane path's.
 
 It serves machine types whose positions are run-to-failure or on one block
-interval (either scope, no skip rule), without opportunistic changes, on a
+interval (either scope, any skip rule), without opportunistic changes, on a
 machine that runs (:func:`block_exact`). A replication where two events of a
 unit fall on one clock value, a repair spans two dates or a block stop
 reaches the next date returns None, and the lane path runs it instead.
@@ -47,16 +49,14 @@ INF = np.inf
 
 def block_exact(machine: Machine, scenario: Scenario) -> bool:
     """True when :func:`block_cycles` serves ``machine``: positions run-to-failure or
-    block-replaced on one interval without the skip rule, no opportunistic changes,
-    a machine that runs (operating share > 0), positions not coupled."""
+    block-replaced on one interval, no opportunistic changes, a machine that runs
+    (operating share > 0), positions not coupled."""
     plan = compile_plan(machine)
     if not plan.blocks or machine.operating_share <= 0 or not scenario.independent_positions:
         return False
     if len({job.every_h for job in plan.blocks}) != 1 or plan.opportunistic:
         return False
-    kinds = {p.policy.kind for p in machine.positions}
-    return kinds <= {"run-to-failure", "block"} and not (plan.skip_younger_h[
-        [j for j, k in enumerate(plan.kinds) if k == "block"]] > 0).any()
+    return {p.policy.kind for p in machine.positions} <= {"run-to-failure", "block"}
 
 
 class _Draws:
@@ -102,6 +102,8 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
     k = np.zeros((U, P), dtype=np.int64)  # table row of each position's current life
     age0 = machine.ages_h()
     F = draws.lives(k.ravel(), uu.ravel(), pp.ravel(), age0.ravel()).reshape(U, P)
+    fitted = np.broadcast_to(-(age0 / share), (U, P)).copy()  # calendar hour of each fit
+    skip = plan.skip_younger_h[None, :]
     S = np.zeros(U)  # calendar start of the unit's period
     C = np.zeros(U)  # its operating clock then
     active = np.ones(U, dtype=bool)
@@ -152,6 +154,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         n = np.bincount(eu * P + ep, minlength=U * P).reshape(U, P)
         F = R[np.minimum(n, R.shape[0] - 1), uu, pp]
         k += n
+        np.maximum.at(fitted, (eu, ep), end)  # fitted again as each repair ended
         # the unit's last stop: its end, clock and failed position (else: none)
         last = np.full(U, -1)
         if eu.size:
@@ -167,7 +170,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         if (straddle & (last_end >= date + every)).any() and date + every < H:
             return None  # a repair over two dates (the lane path asks at each)
         gone = straddle & (last_end >= H)  # under repair at the horizon: asks, stops no more
-        changed = np.broadcast_to(job, (U, P)) & active[:, None]
+        changed = job[None, :] & active[:, None] & (date - fitted >= skip)
         if straddle.any():
             failed_last = np.zeros((U, P), dtype=bool)
             su_ = np.flatnonzero(straddle)
@@ -199,17 +202,16 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             units = su_b[ru]
             k[units, rp] += 1
             F[units, rp] = cb[ru] + draws.lives(k[units, rp], units, rp)
+            fitted[units, rp] = eb[ru]
             S[su_b], C[su_b] = eb, cb
             active[su_b[~done]] = False
-        # units that ran through the date (no block stop: none of its positions was due)
-        # or restarted from a repair keep their start; a repair ended within the period
-        # restarts the unit at its end
+        # a unit that ran through the date (nothing to change) runs on from its last
+        # repair's end, or from the period's start
         rest = active & ~stop
         if rest.any():
             ru = np.flatnonzero(rest & has)
             S[ru], C[ru] = last_end[ru], ec[last[ru]]
         active &= ~gone
-        # failed repairs past the horizon end the unit
         date = date + every
     return _book(machine, book, keep_intervals, H, share, f_parts, b_parts, issue_parts)
 

@@ -374,7 +374,9 @@ class _Lanes:
         for j, job in enumerate(plan.blocks):
             nb = self.next_block[u, j]
             while True:
-                inside = nb <= end  # a date at the restart instant falls in the stop (as in the DES)
+                # a date at the restart instant falls in the stop (as in the DES); dates from
+                # the horizon on never come
+                inside = (nb <= end) & (nb < self.H)
                 if not np.count_nonzero(inside):
                     break
                 lanes_j = np.zeros(self.U, dtype=bool)
