@@ -24,8 +24,8 @@ block stop of every unit in arrays, with the discrete-event engine's rules
   stop ends within the horizon; lives go on by their own table rows (row k
   for a position's k-th life), so the figures are the lane path's.
 
-It serves machine types whose positions are run-to-failure or on one block
-interval (either scope, any skip rule), without opportunistic changes, on a
+It serves machine types whose positions are run-to-failure or block-replaced
+(any intervals, either scope, any skip rule), without opportunistic changes, on a
 machine that runs (:func:`block_exact`). A replication where two events of a
 unit fall on one clock value, a repair spans two dates or a block stop
 reaches the next date returns None, and the lane path runs it instead.
@@ -45,16 +45,18 @@ from fleetsim.sim.tally import CHANGES, FAILURES
 from fleetsim.sim.years import YearBook
 
 INF = np.inf
+#: Block dates of different intervals this close are one date (as on the lane path).
+_SAME_DATE_H = 1e-9
 
 
 def block_exact(machine: Machine, scenario: Scenario) -> bool:
     """True when :func:`block_cycles` serves ``machine``: positions run-to-failure or
-    block-replaced on one interval, no opportunistic changes, a machine that runs
+    block-replaced, no opportunistic changes, a machine that runs
     (operating share > 0), positions not coupled."""
     plan = compile_plan(machine)
     if not plan.blocks or machine.operating_share <= 0 or not scenario.independent_positions:
         return False
-    if len({job.every_h for job in plan.blocks}) != 1 or plan.opportunistic:
+    if plan.opportunistic:
         return False
     return {p.policy.kind for p in machine.positions} <= {"run-to-failure", "block"}
 
@@ -92,10 +94,12 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
     plan = compile_plan(machine)
     U, P = machine.count, len(machine.positions)
     H, share = horizon_h, machine.operating_share
-    every = plan.blocks[0].every_h
-    job = np.zeros(P, dtype=bool)
+    # the block calendars by interval (positions on one interval share its dates, either
+    # scope); each date is the running sum of its interval, as each calendar counts it
+    jobs: dict[float, np.ndarray] = {}
     for jb in plan.blocks:
-        job[list(jb.positions)] = True
+        jobs.setdefault(jb.every_h, np.zeros(P, dtype=bool))[list(jb.positions)] = True
+    next_date = {every: every for every in jobs}
     d_fail, d_plan = scenario.crews.unplanned_repair, scenario.crews.planned_repair
     draws = _Draws(machine, index, scenario, streams)
     uu, pp = np.indices((U, P))
@@ -112,8 +116,12 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
     f_parts: list[tuple[np.ndarray, ...]] = []
     b_parts: list[tuple[np.ndarray, ...]] = []
     issue_parts: list[tuple[np.ndarray, np.ndarray]] = []
-    date = every
     while active.any():
+        date = min(next_date.values())
+        # the calendars due at this date (within the lane path's tolerance) and the next date
+        due = [every for every, d in next_date.items() if d <= date + _SAME_DATE_H]
+        job = np.logical_or.reduce([jobs[every] for every in due])
+        after = min(next_date[e] + e if e in due else next_date[e] for e in jobs)
         cut = min(date, H)
         c_max = np.where(active, C + share * (cut - S), -INF)
         # every position's failures up to the most the unit can run before the cut
@@ -167,7 +175,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             break
         # the block date: a unit under repair then stops for the others as it ends
         straddle = active & has & (last_end >= date)
-        if (straddle & (last_end >= date + every)).any() and date + every < H:
+        if (straddle & (last_end >= after)).any() and after < H:
             return None  # a repair over two dates (the lane path asks at each)
         gone = straddle & (last_end >= H)  # under repair at the horizon: asks, stops no more
         changed = job[None, :] & active[:, None] & (date - fitted >= skip)
@@ -192,7 +200,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             dp = np.asarray(stop_hours(d_plan, draws.stop_u(k[su_b, lead], su_b, lead)),
                             dtype=float)
             eb = tb + dp
-            if (eb >= date + every).any() and date + every < H:
+            if (eb >= after).any() and after < H:
                 return None  # a block stop that reaches the next date
             n_ch = np.count_nonzero(ch, axis=1)
             b_parts.append((tb, eb, su_b, n_ch))
@@ -212,7 +220,8 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             ru = np.flatnonzero(rest & has)
             S[ru], C[ru] = last_end[ru], ec[last[ru]]
         active &= ~gone
-        date = date + every
+        for every in due:
+            next_date[every] += every
     return _book(machine, book, keep_intervals, H, share, f_parts, b_parts, issue_parts)
 
 
