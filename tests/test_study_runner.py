@@ -149,8 +149,8 @@ def test_engine_choice_says_why() -> None:
     cond = Policy("condition", inspection_every_h=700.0, detection=0.7)
     assert choose_engine(sc(15, cond)) == (
         "des", "machine type 'm' has 15 units on condition monitoring, opportunistic changes or "
-               "mixed calendar policies, which the vectorised engine steps event by event: the "
-               "discrete-event engine is faster")
+               "age and block replacement together, which the vectorised engine steps event by "
+               "event: the discrete-event engine is faster")
     assert choose_engine(sc(16, cond))[0] == "vector"
     assert choose_engine(sc(15, cond), "vector") == ("vector", "requested")
     # (one block interval beside run-to-failure runs by block periods, at any count)
