@@ -124,6 +124,9 @@ CASES = {
                                       pos("r", RTF, pf=False))),), stops="fixed"),
     "block periods, two intervals": scenario((Machine("blocked", 14, 0.85, 0.0, (
         pos("m", BLOCK_M), pos("p", BLOCK_P), pos("r", RTF))),)),
+    # two age positions fitted together fall due together: one stop
+    "block periods, age and block on one machine": scenario((Machine("blocked", 16, 0.9, 0.0, (
+        pos("b", BLOCK_M), pos("a1", AGE), pos("a2", AGE, pf=False), pos("r", RTF))),)),
     "block periods, instant stops": scenario((Machine("blocked", 12, 1.0, 0.0, (
         pos("a", BLOCK_M), pos("r", RTF))),), stops="none"),
     # both positions due at the same operating age: their changes share one stop
@@ -320,7 +323,8 @@ def test_condition_monitored_fleets_give_the_des_figures(
 @settings(max_examples=60, deadline=None, derandomize=True)
 @given(every=st.sampled_from([700.0, 2_345.6, 9_000.0, 30_000.0]),
        scope=st.sampled_from(["machine", "position"]), skip=st.sampled_from([0.0, 400.0, 3_000.0]),
-       second=st.sampled_from([None, 1_111.1, 4_200.0]),
+       second=st.sampled_from([None, 1_111.1, 4_200.0]), ages=st.integers(0, 2),
+       due=st.sampled_from([1_500.0, 6_000.0]),
        rtf=st.integers(0, 2),
        blocked=st.integers(1, 3),
        # (fixed durations not in whole hours: see scenario())
@@ -331,23 +335,24 @@ def test_condition_monitored_fleets_give_the_des_figures(
        share=st.sampled_from([0.4, 0.9, 1.0]), units=st.integers(1, 12),
        age=st.sampled_from([0.0, 5_000.0]), pf=st.booleans(), seed=st.integers(0, 2**31 - 1))
 # the two cases the lane path runs: a repair over two dates, a block stop past the next one
-@example(every=700.0, scope="machine", skip=0.0, second=None, rtf=1, blocked=2, repair=Duration.fixed(1_513.7),
+@example(every=700.0, scope="machine", skip=0.0, second=None, ages=0, due=1_500.0, rtf=1, blocked=2, repair=Duration.fixed(1_513.7),
          planned=Duration.fixed(12.1), share=1.0, units=6, age=0.0, pf=False, seed=198)
-@example(every=700.0, scope="position", skip=0.0, second=None, rtf=1, blocked=2, repair=Duration.fixed(7.3),
+@example(every=700.0, scope="position", skip=0.0, second=None, ages=0, due=1_500.0, rtf=1, blocked=2, repair=Duration.fixed(7.3),
          planned=Duration.fixed(812.9), share=0.9, units=6, age=0.0, pf=True, seed=5)
 # found by hypothesis: a repair past the horizon over the next date asked the lane path
 # for that date's spares (the DES never reaches it)
-@example(every=700.0, scope="machine", skip=0.0, second=None, rtf=1, blocked=1,
+@example(every=700.0, scope="machine", skip=0.0, second=None, ages=0, due=1_500.0, rtf=1, blocked=1,
          repair=Duration("exponential", 900.0), planned=Duration.fixed(0.0), share=0.9,
          units=1, age=5_000.0, pf=False, seed=33)
 def test_block_replaced_fleets_give_the_des_figures(
-        every: float, scope: str, skip: float, second: float | None, rtf: int, blocked: int,
+        every: float, scope: str, skip: float, second: float | None, ages: int, due: float,
+        rtf: int, blocked: int,
         repair: Duration,
         planned: Duration,
         share: float, units: int, age: float, pf: bool, seed: int) -> None:
     """Generated block-replaced fleets, which the vectorised engine runs block period by
     block period (fleetsim.sim.block_cycles): short to long intervals, the skip rule,
-    a second interval, run-to-failure
+    a second interval, age-replaced positions due together, run-to-failure
     positions beside the block ones, repairs long enough to straddle a date (and two:
     the lane path then runs it), planned stops that reach the next date, instant stops,
     starting ages: the figures are the DES's."""
@@ -368,7 +373,9 @@ def test_block_replaced_fleets_give_the_des_figures(
             [pos(f"b{j}", pol, pf=pf) for j in range(blocked)]
             + [pos(f"r{j}", RTF, pf=pf) for j in range(rtf)]
             + ([pos("other", Policy("block", second, block_scope="position"), pf=pf)]
-               if second is not None else [])))
+               if second is not None else [])
+            # age-replaced positions on one due age: their changes often share a stop
+            + [pos(f"a{j}", Policy("age", due), pf=pf) for j in range(ages)]))
         base = scenario((m,))
         sc = dataclasses.replace(base, crews=Crews(None, planned_repair=planned,
                                                    unplanned_repair=repair))

@@ -148,9 +148,9 @@ def test_engine_choice_says_why() -> None:
     # ... unless a machine type stepped event by event has few units
     cond = Policy("condition", inspection_every_h=700.0, detection=0.7)
     assert choose_engine(sc(15, cond)) == (
-        "des", "machine type 'm' has 15 units on condition monitoring, opportunistic changes or "
-               "age and block replacement together, which the vectorised engine steps event by "
-               "event: the discrete-event engine is faster")
+        "des", "machine type 'm' has 15 units on condition monitoring or opportunistic changes, "
+               "which the vectorised engine steps event by event: the discrete-event engine is "
+               "faster")
     assert choose_engine(sc(16, cond))[0] == "vector"
     assert choose_engine(sc(15, cond), "vector") == ("vector", "requested")
     # (one block interval beside run-to-failure runs by block periods, at any count)

@@ -1,14 +1,17 @@
 """The vectorised engine's whole-cycle path for block replacement.
 
-Between two block dates nothing but failures changes a unit's positions, and
-a stop freezes the unit's operating clock whatever it lasts: so over one
-block period every position is a renewal process on that clock, as on the
-whole-cycle path of :mod:`fleetsim.sim.cycles`. This path takes the periods
-one after another, every unit at once: it draws each position's failures on
-the operating clock up to the most the unit can run before the next date,
-places them on the calendar with a segmented cumulative sum of the repairs
-before them, keeps those that start before the date, and then makes the
-block stop of every unit in arrays, with the discrete-event engine's rules
+Between two block dates nothing but failures and due ages changes a unit's
+positions, and a stop freezes the unit's operating clock whatever it lasts:
+so over one block period every position is a renewal process on that clock
+(cycle = min(life to F, due age)), as on the whole-cycle path of
+:mod:`fleetsim.sim.cycles`. This path takes the periods one after another,
+every unit at once: it draws each position's cycles on the operating clock
+up to the most the unit can run before the next date, merges a unit's
+events at one clock value into one stop (a failure's if any position
+failed, led by the first failed position, else the first), places the stops
+on the calendar with a segmented cumulative sum of the stops before them,
+keeps those that start before the date, and then makes the block stop of
+every unit in arrays, with the discrete-event engine's rules
 (:mod:`fleetsim.sim.unit`, :mod:`fleetsim.sim.policies`):
 
 * a unit running at the date stops at once for one planned duration and has
@@ -16,19 +19,19 @@ block stop of every unit in arrays, with the discrete-event engine's rules
   before (the modified block rule; the duration is the quantile, under the
   planned-work duration, of the stop uniform of the first position's life);
   with none to change it runs on;
-* a unit under repair at the date (a date at the restart instant counts)
-  has the positions of that repair left out, and stops for the others as the
-  repair ends; one whose repair runs past the horizon asks for their spares
-  and stops no more;
-* spares of a block change are issued at the date; changes count when their
-  stop ends within the horizon; lives go on by their own table rows (row k
-  for a position's k-th life), so the figures are the lane path's.
+* a unit stopped at the date (a date at the restart instant counts) has the
+  positions of that stop left out, and stops for the others as it ends; one
+  stopped past the horizon asks for their spares and stops no more;
+* spares are issued at the failure, the due age or the block date; changes
+  count when their stop ends within the horizon; lives go on by their own
+  table rows (row k for a position's k-th life), so the figures are the lane
+  path's.
 
-It serves machine types whose positions are run-to-failure or block-replaced
-(any intervals, either scope, any skip rule), without opportunistic changes, on a
-machine that runs (:func:`block_exact`). A replication where two events of a
-unit fall on one clock value, a repair spans two dates or a block stop
-reaches the next date returns None, and the lane path runs it instead.
+It serves machine types whose positions are run-to-failure, age-replaced or
+block-replaced (any intervals, either scope, any skip rule), without
+opportunistic changes, on a machine that runs (:func:`block_exact`). A
+replication where a stop spans two dates or a block stop reaches the next
+date returns None, and the lane path runs it instead.
 """
 
 from __future__ import annotations
@@ -37,7 +40,7 @@ import numpy as np
 
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget
-from fleetsim.sim.cycles import _by_unit_then_clock
+from fleetsim.sim.cycles import _stop_order
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan
 from fleetsim.sim.streams import LIFE, PF, STOP, Streams
@@ -50,15 +53,15 @@ _SAME_DATE_H = 1e-9
 
 
 def block_exact(machine: Machine, scenario: Scenario) -> bool:
-    """True when :func:`block_cycles` serves ``machine``: positions run-to-failure or
-    block-replaced, no opportunistic changes, a machine that runs
+    """True when :func:`block_cycles` serves ``machine``: positions run-to-failure,
+    age- or block-replaced, no opportunistic changes, a machine that runs
     (operating share > 0), positions not coupled."""
     plan = compile_plan(machine)
     if not plan.blocks or machine.operating_share <= 0 or not scenario.independent_positions:
         return False
     if plan.opportunistic:
         return False
-    return {p.policy.kind for p in machine.positions} <= {"run-to-failure", "block"}
+    return {p.policy.kind for p in machine.positions} <= {"run-to-failure", "age", "block"}
 
 
 class _Draws:
@@ -105,15 +108,22 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
     uu, pp = np.indices((U, P))
     k = np.zeros((U, P), dtype=np.int64)  # table row of each position's current life
     age0 = machine.ages_h()
-    F = draws.lives(k.ravel(), uu.ravel(), pp.ravel(), age0.ravel()).reshape(U, P)
+    due_h = plan.age_due_h  # (inf: not age-replaced)
+    has_age = bool(np.isfinite(due_h).any())
+    life0 = draws.lives(k.ravel(), uu.ravel(), pp.ravel(), age0.ravel()).reshape(U, P)
+    due0 = np.maximum(due_h[None, :] - age0, 0.0)
+    F = np.minimum(life0, due0)  # operating clock at the end of each position's cycle
+    Ff = life0 <= due0  # ... and whether it ends in a failure
     fitted = np.broadcast_to(-(age0 / share), (U, P)).copy()  # calendar hour of each fit
     skip = plan.skip_younger_h[None, :]
     S = np.zeros(U)  # calendar start of the unit's period
     C = np.zeros(U)  # its operating clock then
     active = np.ones(U, dtype=bool)
-    # stops to book: failures (start, end, unit, position) and block stops (start, end,
-    # unit, changes), spares of block changes (position, date)
-    f_parts: list[tuple[np.ndarray, ...]] = []
+    # to book: stops of failures and due ages (start, end, unit, failed), their events
+    # (start, end, unit, position, failed), block stops (start, end, unit, changes) and
+    # spares of block changes (position, date)
+    s_parts: list[tuple[np.ndarray, ...]] = []
+    e_parts: list[tuple[np.ndarray, ...]] = []
     b_parts: list[tuple[np.ndarray, ...]] = []
     issue_parts: list[tuple[np.ndarray, np.ndarray]] = []
     while active.any():
@@ -124,8 +134,9 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         after = min(next_date[e] + e if e in due else next_date[e] for e in jobs)
         cut = min(date, H)
         c_max = np.where(active, C + share * (cut - S), -INF)
-        # every position's failures up to the most the unit can run before the cut
-        rounds = [np.where(active[:, None], F, INF)]
+        # every position's cycles (to a failure, or to its due age) up to the most the
+        # unit can run before the cut
+        rounds, ends_failed = [np.where(active[:, None], F, INF)], [Ff]
         while True:
             if budget is not None:
                 budget.spend(max(int(np.count_nonzero(rounds[-1] < c_max[:, None])),
@@ -133,41 +144,72 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             ui, pi = np.nonzero(rounds[-1] < c_max[:, None])
             if not ui.size:
                 break
+            life = draws.lives(k[ui, pi] + len(rounds), ui, pi)
             nxt = np.full((U, P), INF)
-            nxt[ui, pi] = rounds[-1][ui, pi] + draws.lives(k[ui, pi] + len(rounds), ui, pi)
+            if has_age:
+                nxt[ui, pi] = rounds[-1][ui, pi] + np.minimum(life, due_h[pi])
+                fl = np.zeros((U, P), dtype=bool)
+                fl[ui, pi] = life <= due_h[pi]  # a failure at the due age is a failure
+                ends_failed.append(fl)
+            else:
+                nxt[ui, pi] = rounds[-1][ui, pi] + life
             rounds.append(nxt)
         R = np.stack(rounds)
         er, eu, ep = np.nonzero(R < c_max[None, :, None])
         ec = R[er, eu, ep]
-        if ec.size:
-            order, su, sc = _by_unit_then_clock(eu, ec)
-            if ((su[1:] == su[:-1]) & (sc[1:] == sc[:-1])).any():
-                return None  # two events of a unit on one clock value: one stop (lane path)
-            er, eu, ep, ec = er[order], su, ep[order], sc
-            d = np.asarray(stop_hours(d_fail, draws.stop_u(k[eu, ep] + er, eu, ep)), dtype=float)
-            d = np.broadcast_to(d, ec.shape)
-            before = np.cumsum(d) - d
-            first = np.ones(eu.size, dtype=bool)
-            first[1:] = eu[1:] != eu[:-1]
-            at = np.flatnonzero(first)
-            base = np.repeat(before[at], np.diff(at, append=eu.size))
-            t0 = S[eu] + (ec - C[eu]) / share + (before - base)
-            kept = t0 < cut
-            er, eu, ep, ec, t0, d = er[kept], eu[kept], ep[kept], ec[kept], t0[kept], d[kept]
+        RF = np.stack(ends_failed) if has_age else None
+        ef = RF[er, eu, ep] if RF is not None else np.ones(ec.size, dtype=bool)
+        # events of a unit at one clock value are one stop (a failure's if any failed; its
+        # lead: the first failed position, else the first), as in the discrete-event engine
+        order, eu, ec = _stop_order(eu, ec, ef, ep, P)
+        er, ep, ef = er[order], ep[order], ef[order]
+        new = np.ones(eu.size, dtype=bool)
+        new[1:] = (eu[1:] != eu[:-1]) | (ec[1:] != ec[:-1])
+        stop_of: np.ndarray | None = None  # each event's stop (None: every event is one)
+        if new.all():  # the usual case with continuous lives and no due ages shared
+            s_unit, s_clock, s_fail, lead_p, lead_r = eu, ec, ef, ep, er
         else:
-            t0 = d = ec
+            starts = np.flatnonzero(new)
+            stop_of = np.cumsum(new) - 1
+            s_unit, s_clock, s_fail = eu[starts], ec[starts], ef[starts]
+            lead_p, lead_r = ep[starts], er[starts]
+        lead_u = draws.stop_u(k[s_unit, lead_p] + lead_r, s_unit, lead_p)
+        d = (np.where(s_fail, stop_hours(d_fail, lead_u), stop_hours(d_plan, lead_u)) if has_age
+             else stop_hours(d_fail, lead_u))  # (no due age: every stop is a failure's)
+        d = np.broadcast_to(np.asarray(d, dtype=float), s_unit.shape)
+        # calendar starts: the clock run at the share, plus the unit's earlier stops
+        before = np.cumsum(d) - d
+        first = np.ones(s_unit.size, dtype=bool)
+        first[1:] = s_unit[1:] != s_unit[:-1]
+        at = np.flatnonzero(first)
+        base = np.repeat(before[at], np.diff(at, append=s_unit.size))
+        t0 = S[s_unit] + (s_clock - C[s_unit]) / share + (before - base)
+        kept = t0 < cut  # (a prefix of each unit's stops)
+        if stop_of is None:
+            ev_kept = kept
+        else:
+            ev_kept = kept[stop_of]
+            stop_of = (np.cumsum(kept) - 1)[stop_of[ev_kept]]
+        er, eu, ep, ef = er[ev_kept], eu[ev_kept], ep[ev_kept], ef[ev_kept]
+        s_unit, s_clock, s_fail, t0, d = (s_unit[kept], s_clock[kept], s_fail[kept], t0[kept],
+                                          d[kept])
         end = t0 + d
-        f_parts.append((t0, end, eu, ep))
-        # each position's lives after the period: the first one not ended in it
+        e_t0, e_end = (t0, end) if stop_of is None else (t0[stop_of], end[stop_of])
+        s_parts.append((t0, end, s_unit, s_fail))
+        e_parts.append((e_t0, e_end, eu, ep, ef))
+        # each position's cycle after the period: the first one not ended in it
         n = np.bincount(eu * P + ep, minlength=U * P).reshape(U, P)
-        F = R[np.minimum(n, R.shape[0] - 1), uu, pp]
+        nth = np.minimum(n, R.shape[0] - 1)
+        F = R[nth, uu, pp]
+        if RF is not None:
+            Ff = RF[nth, uu, pp]
         k += n
-        np.maximum.at(fitted, (eu, ep), end)  # fitted again as each repair ended
-        # the unit's last stop: its end, clock and failed position (else: none)
+        np.maximum.at(fitted, (eu, ep), e_end)  # fitted again as each stop ended
+        # the unit's last stop: its end, clock and positions (else: none)
         last = np.full(U, -1)
-        if eu.size:
-            last_of = np.flatnonzero(np.append(eu[1:] != eu[:-1], True))
-            last[eu[last_of]] = last_of
+        if s_unit.size:
+            last_of = np.flatnonzero(np.append(s_unit[1:] != s_unit[:-1], True))
+            last[s_unit[last_of]] = last_of
         has = last >= 0
         li = np.where(has, last, 0)
         last_end = np.where(has, end[li] if end.size else 0.0, -INF)
@@ -176,14 +218,15 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         # the block date: a unit under repair then stops for the others as it ends
         straddle = active & has & (last_end >= date)
         if (straddle & (last_end >= after)).any() and after < H:
-            return None  # a repair over two dates (the lane path asks at each)
+            return None  # a stop over two dates (the lane path asks at each)
         gone = straddle & (last_end >= H)  # under repair at the horizon: asks, stops no more
         changed = job[None, :] & active[:, None] & (date - fitted >= skip)
-        if straddle.any():
-            failed_last = np.zeros((U, P), dtype=bool)
-            su_ = np.flatnonzero(straddle)
-            failed_last[su_, ep[last[su_]]] = True
-            changed = changed & ~failed_last
+        if straddle.any():  # the positions of the stop under way are left out
+            in_last = np.zeros((U, P), dtype=bool)
+            e_stop = np.arange(eu.size) if stop_of is None else stop_of
+            ev = straddle[eu] & (e_stop == last[eu])
+            in_last[eu[ev], ep[ev]] = True
+            changed = changed & ~in_last
         iu, ip = np.nonzero(changed)
         issue_parts.append((ip, np.full(ip.size, date)))
         stop = active & ~gone & changed.any(axis=1)
@@ -193,7 +236,8 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             tb = np.where(strad, last_end[su_b], date)
             # the clock at the block stop: frozen since the straddling failure, else run on
             ran_from_t = np.where(has[su_b], last_end[su_b], S[su_b])
-            ran_from_c = np.where(has[su_b], ec[li[su_b]] if ec.size else 0.0, C[su_b])
+            ran_from_c = np.where(has[su_b], s_clock[li[su_b]] if s_clock.size else 0.0,
+                                  C[su_b])
             cb = np.where(strad, ran_from_c, ran_from_c + share * (date - ran_from_t))
             ch = changed[su_b]
             lead = np.argmax(ch, axis=1)  # the first position changed
@@ -209,7 +253,9 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             ru, rp = np.nonzero(ch & done[:, None])
             units = su_b[ru]
             k[units, rp] += 1
-            F[units, rp] = cb[ru] + draws.lives(k[units, rp], units, rp)
+            life = draws.lives(k[units, rp], units, rp)
+            F[units, rp] = cb[ru] + np.minimum(life, due_h[rp])
+            Ff[units, rp] = life <= due_h[rp]
             fitted[units, rp] = eb[ru]
             S[su_b], C[su_b] = eb, cb
             active[su_b[~done]] = False
@@ -218,23 +264,26 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         rest = active & ~stop
         if rest.any():
             ru = np.flatnonzero(rest & has)
-            S[ru], C[ru] = last_end[ru], ec[last[ru]]
+            S[ru], C[ru] = last_end[ru], s_clock[last[ru]]
         active &= ~gone
         for every in due:
             next_date[every] += every
-    return _book(machine, book, keep_intervals, H, share, f_parts, b_parts, issue_parts)
+    return _book(machine, book, keep_intervals, H, share, s_parts, e_parts, b_parts, issue_parts)
 
 
 def _book(machine: Machine, book: YearBook, keep_intervals: bool, H: float, share: float,
-          f_parts: list[tuple[np.ndarray, ...]], b_parts: list[tuple[np.ndarray, ...]],
+          s_parts: list[tuple[np.ndarray, ...]], e_parts: list[tuple[np.ndarray, ...]],
+          b_parts: list[tuple[np.ndarray, ...]],
           issue_parts: list[tuple[np.ndarray, np.ndarray]]) -> LaneSums:
     """Book the stops with the lane path's conventions."""
     s = LaneSums(machine, keep_intervals, book)
-    t0, end, eu, ep = (np.concatenate([x[i] for x in f_parts]) for i in range(4))
-    eu, ep = eu.astype(np.intp), ep.astype(np.intp)
-    s.failures += np.bincount(eu, minlength=machine.count)
-    book.at_many(FAILURES, t0)
-    s.issue(ep, t0)
+    t0, end, su, sf = (np.concatenate([x[i] for x in s_parts]) for i in range(4))
+    et0, eend, eu, ep, ef = (np.concatenate([x[i] for x in e_parts]) for i in range(5))
+    eu, ep, su = eu.astype(np.intp), ep.astype(np.intp), su.astype(np.intp)
+    s.failures += np.bincount(eu[ef], minlength=machine.count)
+    book.at_many(FAILURES, et0[ef])
+    s.issue(ep, et0)  # asked for at the failure or the due age
+    planned = ~ef & (eend < H)  # changes at the due age count when their stop ends in time
     if b_parts:
         tb, eb, ub, nb = (np.concatenate([x[i] for x in b_parts]) for i in range(4))
     else:
@@ -244,14 +293,14 @@ def _book(machine: Machine, book: YearBook, keep_intervals: bool, H: float, shar
     it = np.concatenate([x[1] for x in issue_parts]) if issue_parts else np.zeros(0)
     s.issue(ip.astype(np.intp), it)
     done_b = eb < H
-    s.planned += float(nb[done_b].sum())
-    book.at_many(CHANGES, np.repeat(eb[done_b], nb[done_b]))
+    s.planned += float(nb[done_b].sum()) + float(np.count_nonzero(planned))
+    book.at_many(CHANGES, np.concatenate([eend[planned], np.repeat(eb[done_b], nb[done_b])]))
     starts = np.concatenate([t0, tb])
     ends = np.concatenate([end, eb])
     shown = np.minimum(ends, H)
     held = shown - starts
-    s.down_repair_h += float(held[:t0.size].sum())
-    s.down_planned_h += float(held[t0.size:].sum())
+    s.down_repair_h += float(held[:t0.size][sf].sum())
+    s.down_planned_h += float(held[:t0.size][~sf].sum()) + float(held[t0.size:].sum())
     book.down_many(starts, shown, share, worked=ends < H)
-    s.stopped(np.concatenate([eu, ub.astype(np.intp)]), starts, shown)
+    s.stopped(np.concatenate([su, ub.astype(np.intp)]), starts, shown)
     return s

@@ -31,9 +31,9 @@ EngineName = Literal["des", "vector"]
 #: 1.4-3x the discrete-event engine at 20 positions on its whole-cycle and coupled
 #: paths; below, a replication takes a millisecond or two on either).
 VECTOR_MIN_POSITIONS = 20
-#: A machine type with condition monitoring, opportunistic changes or age and block
-#: replacement together is stepped event by event in lanes of units (run-to-failure
-#: beside age, or beside block, runs by whole cycles); with fewer units than this its
+#: A machine type with condition monitoring or opportunistic changes is stepped event by
+#: event in lanes of units (run-to-failure, age and block replacement run by whole
+#: cycles); with fewer units than this its
 #: lanes are slower than the discrete-event engine (0.2x with one unit of 64 positions,
 #: 2x at 16 units of 4)...
 LANE_MIN_UNITS = 16
@@ -75,9 +75,9 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
                             > FEW_LANES_SHARE * scenario.position_count):
             m = few[0]
             return "des", (f"machine type {m.id!r} has {m.count} unit{'s' * (m.count != 1)} on "
-                           "condition monitoring, opportunistic changes or age and block "
-                           "replacement together, which the vectorised engine steps event by "
-                           "event: the discrete-event engine is faster")
+                           "condition monitoring or opportunistic changes, which the "
+                           "vectorised engine steps event by event: the discrete-event engine "
+                           "is faster")
         if independent:
             return "vector", "no finite stores or crews: positions are independent, vectorised engine"
         if coupled and scenario.position_count >= VECTOR_MIN_POSITIONS:
