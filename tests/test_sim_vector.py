@@ -276,3 +276,22 @@ def test_dropping_finished_lanes_changes_no_figure(monkeypatch: pytest.MonkeyPat
         monkeypatch.setattr(vector, "COMPACT_MIN", 1)
         always = [figures_of(simulate_vector(sc, s), sc) for s in seeds]
         assert always == never
+
+
+@pytest.mark.parametrize("policy", [Policy("block", 0.01),
+                                    Policy("condition", inspection_every_h=1 / 60, detection=0.5)],
+                         ids=["a block date every 36 s", "an inspection every minute"])
+def test_storms_of_calendar_events_stop_at_the_budget(policy: Policy,
+                                                      monkeypatch: pytest.MonkeyPatch) -> None:
+    """Calendar events far denser than any plant's stop at the event budget as in the DES
+    (fleetsim.sim.budget, each date or visit one event): the block dates that fall inside
+    one stop (8 h here, 800 dates) and the visits counted in bulk between a lane's events
+    are counted too, the visits before any array of their dates is made."""
+    from fleetsim.sim import budget
+
+    # more than a step a stop can count (11,000 stops × 64): the dates inside must count
+    monkeypatch.setattr(budget, "MIN_EVENTS", 2_000_000)
+    sc = fleet(policy, units=5, repair=Duration.fixed(8.0), pf=Duration.fixed(720.0))
+    assert budget.event_budget(sc, H) == 2_000_000
+    with pytest.raises(budget.EventBudgetExceeded, match="far shorter than the horizon"):
+        simulate_vector(sc, np.random.SeedSequence(1))

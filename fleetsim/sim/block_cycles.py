@@ -133,6 +133,8 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         job = np.logical_or.reduce([jobs[every] for every in due])
         after = min(next_date[e] + e if e in due else next_date[e] for e in jobs)
         cut = min(date, H)
+        if budget is not None:  # the date is an event of every unit still running
+            budget.spend(max(int(np.count_nonzero(active)), ROUND_EVENTS))
         c_max = np.where(active, C + share * (cut - S), -INF)
         # every position's cycles (to a failure, or to its due age) up to the most the
         # unit can run before the cut

@@ -80,8 +80,12 @@ class _Lanes:
     """State of all units of one machine type in one replication (the general path)."""
 
     def __init__(self, machine: Machine, index: int, scenario: Scenario, streams: Streams,
-                 horizon_h: float, book: YearBook, keep_intervals: bool) -> None:
+                 horizon_h: float, book: YearBook, keep_intervals: bool,
+                 budget: EventBudget | None = None) -> None:
         self.m = machine
+        #: counts what a step does beyond one event a lane: visits counted in bulk, block
+        #: dates inside a stop (each one event of the discrete-event engine)
+        self.budget = budget
         self.H = horizon_h
         self.book = book
         plan = self.plan = compile_plan(machine)
@@ -281,6 +285,8 @@ class _Lanes:
             if not lanes.size:
                 continue
             per = n[lanes].astype(np.int64)
+            if self.budget is not None:  # (before the arrays of their dates are made)
+                self.budget.spend(int(per.sum()))
             self.sums.inspections += float(per.sum())
             j = np.arange(int(per.sum())) - np.repeat(np.cumsum(per) - per, per)
             self.book.at_later(INSPECTIONS, np.repeat(nv[lanes], per) + j * job.every_h)
@@ -377,8 +383,11 @@ class _Lanes:
                 # a date at the restart instant falls in the stop (as in the DES); dates from
                 # the horizon on never come
                 inside = (nb <= end) & (nb < self.H)
-                if not np.count_nonzero(inside):
+                n_inside = int(np.count_nonzero(inside))
+                if not n_inside:
                     break
+                if self.budget is not None:
+                    self.budget.spend(max(n_inside, ROUND_EVENTS))
                 lanes_j = np.zeros(self.U, dtype=bool)
                 lanes_j[u[inside]] = True
                 date = np.full(self.U, INF)
@@ -428,7 +437,7 @@ def simulate_machine(machine: Machine, index: int, scenario: Scenario, streams: 
         by_periods = block_cycles(machine, index, scenario, streams, horizon_h, book, keep, budget)
         if by_periods is not None:
             return by_periods
-    lanes = _Lanes(machine, index, scenario, streams, horizon_h, book, keep)
+    lanes = _Lanes(machine, index, scenario, streams, horizon_h, book, keep, budget)
     while lanes.step():
         if budget is not None:
             budget.spend(max(machine.count, ROUND_EVENTS))
