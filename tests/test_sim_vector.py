@@ -286,12 +286,44 @@ def test_storms_of_calendar_events_stop_at_the_budget(policy: Policy,
     """Calendar events far denser than any plant's stop at the event budget as in the DES
     (fleetsim.sim.budget, each date or visit one event): the block dates that fall inside
     one stop (8 h here, 800 dates) and the visits counted in bulk between a lane's events
-    are counted too, the visits before any array of their dates is made."""
+    are counted too, the visits before any array of their dates is made. (The check of
+    the calendars before the run, below, is left out here: it would stop them first.)"""
+    import fleetsim.sim.vector as vector
     from fleetsim.sim import budget
 
+    monkeypatch.setattr(vector, "check_calendar", lambda *a: None)
     # more than a step a stop can count (11,000 stops × 64): the dates inside must count
     monkeypatch.setattr(budget, "MIN_EVENTS", 2_000_000)
     sc = fleet(policy, units=5, repair=Duration.fixed(8.0), pf=Duration.fixed(720.0))
     assert budget.event_budget(sc, H) == 2_000_000
     with pytest.raises(budget.EventBudgetExceeded, match="far shorter than the horizon"):
         simulate_vector(sc, np.random.SeedSequence(1))
+
+
+@pytest.mark.parametrize("engine", ["des", "vector"])
+def test_calendars_past_the_budget_stop_before_the_run(engine: str,
+                                                       monkeypatch: pytest.MonkeyPatch) -> None:
+    """Block dates every 1/16 h and inspections every 1/4 h are 1,402,560 + 350,640 events
+    a unit over ten years (87,660 h), whatever the lives: both engines say so before
+    they simulate anything (the run itself is replaced by a failure here)."""
+    import fleetsim.sim.engine as des_engine
+    import fleetsim.sim.vector as vector
+    from fleetsim.sim import budget, simulate
+
+    def ran(*a, **k):  # type: ignore[no-untyped-def]
+        raise AssertionError("the replication ran")
+
+    for mod, name in ((des_engine, "run_within_budget"), (des_engine, "step_quiet_fleet"),
+                      (vector, "simulate_machine")):
+        monkeypatch.setattr(mod, name, ran)
+    pos = (Position("b", "B1", LIFE, Policy("block", 0.0625)),
+           Position("c", "B1", LIFE, Policy("condition", inspection_every_h=0.25, detection=0.5),
+                    pf_interval=Duration.fixed(500.0)))
+    sc = Scenario(Study("t", H, 1, 1), COSTS, {"B1": Bearing("B1", BearingType.BALL, 1e4)},
+                  (Machine("m", 3, 1.0, 0.0, pos),))
+    assert budget.calendar_events(sc, H) == 3 * (1_402_560 + 350_640)
+    with pytest.raises(budget.EventBudgetExceeded, match="more than 1,000,000 events"):
+        if engine == "des":
+            simulate(sc, np.random.SeedSequence(1), keep_events=False)
+        else:
+            simulate_vector(sc, np.random.SeedSequence(1))

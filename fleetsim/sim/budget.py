@@ -35,6 +35,25 @@ MIN_EVENTS = 1_000_000
 ROUND_EVENTS = 64
 
 
+def calendar_events(scenario: Scenario, horizon_h: float) -> int:
+    """The block dates and inspection visits of every unit within the horizon: events both
+    engines meet whatever the lives (the discrete-event engine's calendars fire each one)."""
+    from fleetsim.sim.schedule import compile_plan
+
+    total = 0
+    for m in scenario.machines:
+        plan = compile_plan(m)
+        total += m.count * sum(int(horizon_h // job.every_h) for job in (*plan.blocks, *plan.rounds))
+    return total
+
+
+def check_calendar(scenario: Scenario, horizon_h: float, limit: int) -> None:
+    """Raise :class:`EventBudgetExceeded` at once when the calendars alone exceed ``limit``
+    (a block date or an inspection every few seconds), instead of after ``limit`` events."""
+    if calendar_events(scenario, horizon_h) > limit:
+        raise exceeded(limit, scenario.source)
+
+
 class EventBudgetExceeded(InputError):
     """A replication needed more events than its budget."""
 

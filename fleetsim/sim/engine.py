@@ -22,7 +22,7 @@ import simpy
 
 from fleetsim.errors import InputError
 from fleetsim.scenario.model import HOURS_PER_YEAR, Scenario
-from fleetsim.sim.budget import event_budget, run_within_budget
+from fleetsim.sim.budget import check_calendar, event_budget, run_within_budget
 from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import discount_for
 from fleetsim.sim.event_log import EventFile
@@ -169,6 +169,7 @@ def _run(
             plans.append(setup.plan)
 
     budget = event_budget(scenario, horizon)
+    check_calendar(scenario, horizon, budget)
     if QUIET_PROCESS and QUIET_STEPPER and all(u.quiet for u in units):
         step_quiet_fleet(units, horizon, budget, scenario.source, every=book.settle_full_blocks)
     else:

@@ -43,7 +43,7 @@ import numpy as np
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.allocator import keep_freed_memory
 from fleetsim.sim.block_cycles import block_cycles, block_exact
-from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, event_budget
+from fleetsim.sim.budget import ROUND_EVENTS, EventBudget, check_calendar, event_budget
 from fleetsim.sim.coupled import coupled_exact, coupled_tally
 from fleetsim.sim.cycles import renewal_cycles, renewal_exact
 from fleetsim.sim.discount import discount_for
@@ -473,6 +473,7 @@ def simulate_vector(scenario: Scenario, seed: np.random.SeedSequence,
     book = YearBook(H, discount_for(scenario.costs.discount_rate_per_year))
     streams = Streams(seed)
     budget = EventBudget(event_budget(scenario, H), scenario.source)
+    check_calendar(scenario, H, budget.limit)
     if not scenario.independent_positions:
         return coupled_tally(scenario, streams, H, book, budget)
     sums = [simulate_machine(m, i, scenario, streams, H, book, budget=budget)
