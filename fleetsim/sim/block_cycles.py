@@ -40,7 +40,7 @@ import numpy as np
 
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget
-from fleetsim.sim.cycles import _stop_order
+from fleetsim.sim.cycles import _stop_order, earlier_stops_h
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan
 from fleetsim.sim.streams import LIFE, PF, STOP, Streams
@@ -180,12 +180,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
              else stop_hours(d_fail, lead_u))  # (no due age: every stop is a failure's)
         d = np.broadcast_to(np.asarray(d, dtype=float), s_unit.shape)
         # calendar starts: the clock run at the share, plus the unit's earlier stops
-        before = np.cumsum(d) - d
-        first = np.ones(s_unit.size, dtype=bool)
-        first[1:] = s_unit[1:] != s_unit[:-1]
-        at = np.flatnonzero(first)
-        base = np.repeat(before[at], np.diff(at, append=s_unit.size))
-        t0 = S[s_unit] + (s_clock - C[s_unit]) / share + (before - base)
+        t0 = S[s_unit] + (s_clock - C[s_unit]) / share + earlier_stops_h(s_unit, d)
         kept = t0 < cut  # (a prefix of each unit's stops)
         if stop_of is None:
             ev_kept = kept
@@ -229,7 +224,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             ev = straddle[eu] & (e_stop == last[eu])
             in_last[eu[ev], ep[ev]] = True
             changed = changed & ~in_last
-        iu, ip = np.nonzero(changed)
+        ip = np.nonzero(changed)[1]
         issue_parts.append((ip, np.full(ip.size, date)))
         stop = active & ~gone & changed.any(axis=1)
         su_b = np.flatnonzero(stop)

@@ -69,15 +69,9 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         e_unit, e_pos, e_fail, stop_of = stops.e_unit, stops.e_pos, stops.e_fail, stops.stop_of
         st_unit, st_fail, d = stops.unit, stops.failed, stops.duration_h
         # calendar start of each stop: operating clock / share + earlier stops of its unit
-        before = np.cumsum(d) - d
-        first = np.ones(st_unit.size, dtype=bool)
-        first[1:] = st_unit[1:] != st_unit[:-1]
-        # ``before`` at the first stop of each stop's unit, repeated over the unit's stops
-        at = np.flatnonzero(first)
-        unit_base = np.repeat(before[at], np.diff(at, append=first.size))
         with np.errstate(divide="ignore", invalid="ignore"):
             run_h = stops.clock / share if share > 0 else np.zeros_like(stops.clock)
-        t0 = run_h + (before - unit_base)
+        t0 = run_h + earlier_stops_h(st_unit, d)
     end = t0 + d
     live = t0 < H  # stops the horizon reaches (and every event in them)
     done = end < H  # stops whose changes are made within the horizon
@@ -107,6 +101,17 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
         t0_live = t0[live]
         s.stopped(st_unit[live], t0_live, t0_live)
     return s
+
+
+def earlier_stops_h(unit: np.ndarray, duration_h: np.ndarray) -> np.ndarray:
+    """Per stop, the hours of the earlier stops of its unit (stops sorted by unit, then
+    time): a cumulative sum restarted at each unit's first stop."""
+    before = np.cumsum(duration_h) - duration_h
+    first = np.ones(unit.size, dtype=bool)
+    first[1:] = unit[1:] != unit[:-1]
+    # ``before`` at the first stop of each stop's unit, repeated over the unit's stops
+    at = np.flatnonzero(first)
+    return before - np.repeat(before[at], np.diff(at, append=first.size))
 
 
 def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
