@@ -191,3 +191,11 @@ def test_engine_choice_says_why() -> None:
 
     assert choose_engine(two(10))[0] == "vector"  # 20 of 220 positions: under a tenth
     assert choose_engine(two(12))[1].startswith("machine type 'small' has 12 units")  # 24 of 224
+    # a study's variants: the base's engine and why, a variant on the other engine named
+    from fleetsim.study.engines import choose_engines
+
+    assert choose_engines([("base", sc(9)), ("same", sc(8)), ("big", sc(200))]) == (
+        "des", "positions are independent but fewer than 20: the discrete-event engine is as "
+               "fast here; big: no finite stores or crews: positions are independent, "
+               "vectorised engine")
+    assert choose_engines([("base", sc(200)), ("also", sc(300))]) == choose_engine(sc(200))

@@ -249,7 +249,7 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
     _check_options(replications, seed, workers, cluster, out)
     _check_pdf(pdf)
     from fleetsim.scenario.loader import text_digest
-    from fleetsim.study import choose_engine
+    from fleetsim.study.engines import choose_engines
     from fleetsim.study.variants import file_variants, read_document, with_baseline
 
     document, text = read_document(scenario)
@@ -259,7 +259,7 @@ def run(scenario: str, replications: int | None, seed: int | None, out: str | No
     base = variants[0].scenario
     until = _until(until_resolved, indifference_zone, replication_budget,
                    replications or base.study.replications)
-    chosen, why = choose_engine(base, engine)
+    chosen, why = choose_engines([(v.name, v.scenario) for v in variants], engine)
     _note(quiet, f"{base.study.name}: {len(variants)} variant(s), engine {chosen} ({why})")
     if param_draws is not None:
         from fleetsim.cli.uncertainty import run_uncertain

@@ -14,6 +14,7 @@ more than :data:`FEW_LANES_SHARE` of the positions.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import Literal
 
 import numpy as np
@@ -94,6 +95,16 @@ def choose_engine(scenario: Scenario, requested: str | None = None) -> tuple[Eng
     if requested == "des":
         return "des", "requested"
     raise InputError("--engine", f"expected des, vector or auto, got {requested!r}")
+
+
+def choose_engines(variants: Sequence[tuple[str, Scenario]], requested: str | None = None
+                   ) -> tuple[EngineName, str]:
+    """:func:`choose_engine` for a study's variants (the first is the base): the base's
+    engine and why, and each variant that runs on the other engine named with its reason."""
+    chosen, why = choose_engine(variants[0][1], requested)
+    others = [f"{name}: {reason}" for name, sc in variants[1:]
+              for engine, reason in [choose_engine(sc, requested)] if engine != chosen]
+    return chosen, "; ".join([why, *others])
 
 
 def replicate(payload: tuple[Scenario, EngineName, float], seed: np.random.SeedSequence) -> dict[str, float]:
