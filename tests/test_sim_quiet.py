@@ -87,6 +87,7 @@ def both(sc: Scenario, seed: int, monkeypatch: pytest.MonkeyPatch):  # type: ign
     fast = simulate(sc, seed)
     with monkeypatch.context() as m:
         m.setattr(engine, "QUIET_STEPPER", False)
+        m.setattr(engine, "LEAN", False)  # SimPy itself
         assert_same(simulate(sc, seed), fast)
         m.setattr(engine, "QUIET_PROCESS", False)
         general = simulate(sc, seed)
@@ -167,6 +168,7 @@ def test_the_stepper_and_simpy_stop_at_the_same_event_budget(
     def least_budget(stepper: bool) -> int:
         with monkeypatch.context() as m:
             m.setattr(engine, "QUIET_STEPPER", stepper)
+            m.setattr(engine, "LEAN", False)  # SimPy itself
             for limit in range(1, 400):
                 m.setattr(engine, "event_budget", lambda *_, limit=limit: limit)
                 try:

@@ -19,9 +19,15 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from heapq import heapreplace
+from typing import Any
 
 import simpy
 from simpy.resources.resource import PriorityRequest
+
+from fleetsim.sim.lean_env import LeanEnvironment, LeanPriorityResource, LeanRequest
+
+#: A crew request of either event loop.
+CrewRequest = PriorityRequest | LeanRequest
 
 UNPLANNED = 0
 PLANNED = 1
@@ -40,12 +46,16 @@ class CrewPool:
 
     __slots__ = ("env", "resource", "busy_h")
 
-    def __init__(self, env: simpy.Environment, count: int | None) -> None:
+    def __init__(self, env: simpy.Environment | LeanEnvironment, count: int | None) -> None:
         self.env = env
-        self.resource = simpy.PriorityResource(env, count) if count is not None else None
+        #: ``simpy.PriorityResource`` or, on the lean loop, its twin (None: unlimited)
+        self.resource: Any = (
+            None if count is None
+            else LeanPriorityResource(env, count) if isinstance(env, LeanEnvironment)
+            else simpy.PriorityResource(env, count))
         self.busy_h = 0.0
 
-    def request(self, priority: int, notify: Callable[[], None] | None = None) -> PriorityRequest | None:
+    def request(self, priority: int, notify: Callable[[], None] | None = None) -> CrewRequest | None:
         """Ask for a crew; None means granted at once (unlimited crews).
 
         ``notify`` is called when a queued request is granted.
@@ -58,11 +68,11 @@ class CrewPool:
         return req
 
     @staticmethod
-    def granted(req: PriorityRequest | None) -> bool:
+    def granted(req: CrewRequest | None) -> bool:
         """True when the request holds a crew."""
         return req is None or req.triggered
 
-    def withdraw(self, req: PriorityRequest | None) -> None:
+    def withdraw(self, req: CrewRequest | None) -> None:
         """Give up a request: leave the queue, or hand the crew back if already granted."""
         if req is None or self.resource is None:
             return
@@ -71,7 +81,7 @@ class CrewPool:
         else:
             req.cancel()
 
-    def release(self, req: PriorityRequest | None, worked_h: float) -> None:
+    def release(self, req: CrewRequest | None, worked_h: float) -> None:
         """Hand a crew back after ``worked_h`` hours of work."""
         self.busy_h += worked_h
         if req is not None and self.resource is not None:

@@ -1,7 +1,8 @@
 """Run one replication of a fleet scenario with the discrete-event engine.
 
-:func:`simulate` builds a fresh ``simpy.Environment``, the stores, the crews
-and one process per machine unit, runs them from calendar hour 0 to the
+:func:`simulate` builds a fresh event loop (:class:`~fleetsim.sim.lean_env.LeanEnvironment`,
+SimPy's rules without its machinery, or ``simpy.Environment`` itself with :data:`LEAN`
+off), the stores, the crews and one process per machine unit, runs them from calendar hour 0 to the
 horizon and returns a :class:`~fleetsim.sim.records.ReplicationResult`.
 There is no global state: replications can run side by side, in threads or
 processes, and the same seed always gives the same result.
@@ -28,6 +29,7 @@ from fleetsim.sim.discount import discount_for
 from fleetsim.sim.event_log import EventFile
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
+from fleetsim.sim.lean_env import LeanEnvironment
 from fleetsim.sim.policies import start_calendar_policies
 from fleetsim.sim.quiet import quiet_process, step_quiet_fleet
 from fleetsim.sim.records import (
@@ -63,6 +65,9 @@ QUIET_PROCESS = True
 #: Step a fleet of quiet units from :func:`~fleetsim.sim.quiet.step_quiet_fleet`'s own heap
 #: of wake-up times, without SimPy (tests turn it off to check it against SimPy).
 QUIET_STEPPER = True
+#: Run the other fleets on :class:`~fleetsim.sim.lean_env.LeanEnvironment`, SimPy's rules
+#: without its general machinery (tests turn it off to check it against SimPy).
+LEAN = True
 
 
 def _check(horizon_h: float) -> None:
@@ -138,7 +143,7 @@ def _run(
     sink: EventFile | None = None,
 ) -> ReplicationResult:
     streams = Streams(root)
-    env = simpy.Environment()
+    env: simpy.Environment | LeanEnvironment = LeanEnvironment() if LEAN else simpy.Environment()
     discount = discount_for(scenario.costs.discount_rate_per_year)
     book = YearBook(horizon, discount)
     recorder = Recorder(keep_events, book, sink)
@@ -177,9 +182,12 @@ def _run(
             if unit.quiet and QUIET_PROCESS:
                 env.process(quiet_process(unit))
             else:
-                env.process(unit.run())
+                env.process(unit.run())  # type: ignore[arg-type]  # (either loop's events)
                 start_calendar_policies(env, unit, plan)
-        run_within_budget(env, horizon, budget, scenario.source, every=book.settle_full_blocks)
+        if isinstance(env, LeanEnvironment):
+            env.run_within(horizon, budget, scenario.source, every=book.settle_full_blocks)
+        else:
+            run_within_budget(env, horizon, budget, scenario.source, every=book.settle_full_blocks)
     return _result(scenario, root, horizon, recorder, units, stores, groups, ctx.crews.busy_h)
 
 

@@ -27,14 +27,15 @@ from typing import Any
 
 import simpy
 
+from fleetsim.sim.lean_env import AnyEvent, LeanEnvironment
 from fleetsim.sim.schedule import INF, MaintenancePlan
 from fleetsim.sim.setup import PositionState
 from fleetsim.sim.unit import UnitRunner
 
 
 def _block_calendar(
-    env: simpy.Environment, unit: UnitRunner, interval_h: float, positions: list[PositionState]
-) -> Generator[simpy.Event, Any, None]:
+    env: simpy.Environment | LeanEnvironment, unit: UnitRunner, interval_h: float, positions: list[PositionState]
+) -> Generator[AnyEvent, Any, None]:
     ahead = [p for p in positions if p.store.order_ahead]
     while True:
         for p in ahead:  # the next block date is known now: order its spares ahead
@@ -44,21 +45,23 @@ def _block_calendar(
 
 
 def _inspection_round(
-    env: simpy.Environment, unit: UnitRunner, every_h: float, positions: list[PositionState]
-) -> Generator[simpy.Event, Any, None]:
+    env: simpy.Environment | LeanEnvironment, unit: UnitRunner, every_h: float, positions: list[PositionState]
+) -> Generator[AnyEvent, Any, None]:
     while True:
         yield env.timeout(every_h)
         unit.inspect(positions)
 
 
-def start_calendar_policies(env: simpy.Environment, unit: UnitRunner, plan: MaintenancePlan) -> None:
+def start_calendar_policies(env: simpy.Environment | LeanEnvironment, unit: UnitRunner, plan: MaintenancePlan) -> None:
     """Start the block calendars and inspection rounds of one unit (from its machine's plan),
     and announce the first age dues to stores that order ahead."""
     for p in unit.positions:
         if p.store.order_ahead and p.age_due_h < INF:
             unit.announce_age_due(p)
+    # (each loop's processes yield its own events: SimPy's types name only SimPy's)
     for job in plan.blocks:
-        env.process(_block_calendar(env, unit, job.every_h, [unit.positions[j] for j in job.positions]))
+        env.process(_block_calendar(env, unit, job.every_h,  # type: ignore[arg-type]
+                                    [unit.positions[j] for j in job.positions]))
     for job in plan.rounds:
-        env.process(_inspection_round(env, unit, job.every_h,
+        env.process(_inspection_round(env, unit, job.every_h,  # type: ignore[arg-type]
                                       [unit.positions[j] for j in job.positions]))

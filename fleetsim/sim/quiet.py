@@ -35,6 +35,7 @@ from typing import TYPE_CHECKING, Any
 import simpy
 
 from fleetsim.sim.budget import CHUNK_EVENTS, exceeded
+from fleetsim.sim.lean_env import LeanEnvironment
 from fleetsim.sim.setup import INF, scan
 from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
 
@@ -66,7 +67,7 @@ def quiet_process(u: UnitRunner, driver: QuietClock | None = None) -> Generator[
     With ``driver`` None it is a SimPy process of ``u.env`` (it yields timeouts);
     with a :class:`QuietClock` it yields its delays in hours to :func:`step_quiet_fleet`.
     """
-    env: simpy.Environment | QuietClock = u.env if driver is None else driver
+    env: simpy.Environment | LeanEnvironment | QuietClock = u.env if driver is None else driver
     positions = u.positions
     share = u.share
     counts = u.counts

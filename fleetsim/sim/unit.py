@@ -42,11 +42,9 @@ from __future__ import annotations
 from collections.abc import Generator
 from typing import Any
 
-import simpy
-from simpy.resources.resource import PriorityRequest
-
 from fleetsim.sim import scan_heap
-from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool
+from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool, CrewRequest
+from fleetsim.sim.lean_env import AnyEvent
 from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext, scan
 
 _FAILURE, _PLANNED = 0, 1
@@ -112,9 +110,9 @@ class UnitRunner:
         self.failed_now: list[PositionState] = []
         self.start_at = INF
         self.crew_asked = False
-        self.crew_req: PriorityRequest | None = None
-        self.wake: simpy.Event | None = None
-        self._timer: simpy.Event | None = None
+        self.crew_req: CrewRequest | None = None
+        self.wake: AnyEvent | None = None
+        self._timer: AnyEvent | None = None
         self._timer_at = INF
         self._timer_op: float | None = None
         self.phase = RUNNING
@@ -161,7 +159,7 @@ class UnitRunner:
         self._timer = t
         self._timer_at = at
 
-    def _timer_fired(self, ev: simpy.Event) -> None:
+    def _timer_fired(self, ev: AnyEvent) -> None:
         if ev is not self._timer:
             return  # superseded
         self._timer = None
@@ -298,7 +296,7 @@ class UnitRunner:
             self._poke()
 
     # --- the process ---------------------------------------------------------------
-    def run(self) -> Generator[simpy.Event, Any, None]:
+    def run(self) -> Generator[AnyEvent, Any, None]:
         """The unit's SimPy process: run, stop, repair, run again, ..."""
         while True:
             stop = yield from self._run()
@@ -307,7 +305,7 @@ class UnitRunner:
             else:
                 yield from self._planned_stop()
 
-    def _run(self) -> Generator[simpy.Event, Any, int]:
+    def _run(self) -> Generator[AnyEvent, Any, int]:
         env = self.env
         positions = self.positions
         share = self.share
@@ -380,7 +378,7 @@ class UnitRunner:
             return False
         return True
 
-    def _corrective_stop(self) -> Generator[simpy.Event, Any, None]:
+    def _corrective_stop(self) -> Generator[AnyEvent, Any, None]:
         env = self.env
         crews = self.ctx.crews
         # With unlimited spares and crews nothing can keep the repair waiting (unless
@@ -414,7 +412,7 @@ class UnitRunner:
         crews.release(req, duration)
         self._go_up(duration)
 
-    def _planned_stop(self) -> Generator[simpy.Event, Any, None]:
+    def _planned_stop(self) -> Generator[AnyEvent, Any, None]:
         env = self.env
         self._go_down(PLANNED_WORK)
         if self.log is not None:

@@ -1,0 +1,218 @@
+"""The discrete-event engine's event loop without SimPy's general machinery.
+
+:class:`LeanEnvironment` runs the engine's processes (:class:`~fleetsim.sim.unit.UnitRunner`,
+the calendars of :mod:`fleetsim.sim.policies`, the stores of :mod:`fleetsim.sim.stores`)
+unchanged, with SimPy's rules for the few kinds of event they use:
+
+* the queue is ordered by (time, priority, order of scheduling), with SimPy's
+  two priorities (``URGENT`` before ``NORMAL`` at one instant);
+* an event's callbacks run when it is taken from the queue, in the order they
+  were added; a timeout is scheduled when it is made, an event when it succeeds;
+* a process starts with an ``URGENT`` event at the instant it is made and
+  resumes when the event it yielded is processed (at once, if that event has
+  been processed already);
+* :class:`LeanPriorityResource` is ``simpy.PriorityResource``: requests wait in
+  the order (priority, time of request, order of request), a new request and a
+  processed release each look at the head of the queue only, a grant and a
+  release are events of their own.
+
+So a replication gives SimPy's figures bit for bit
+(``tests/test_sim_lean_env.py`` runs both on the engine-identity scenarios),
+while an event costs a tuple on a heap and a few attribute reads: no
+``Timeout``/``Initialize`` class hierarchy, no failure handling, no
+interruption. The engine runs on it by default (:data:`fleetsim.sim.engine.LEAN`);
+anything needing more of SimPy (``simpy.Event`` subclasses scheduled with
+:meth:`LeanEnvironment.schedule` work too) keeps working, as the lean loop
+calls an event's callbacks exactly as SimPy's ``step`` does.
+"""
+
+from __future__ import annotations
+
+from bisect import insort
+from collections.abc import Callable, Generator
+from heapq import heappop, heappush
+from itertools import count
+from typing import Any
+
+import simpy
+from simpy.events import NORMAL, PENDING, URGENT
+
+from fleetsim.sim.budget import CHUNK_EVENTS, exceeded
+
+
+class LeanEvent:
+    """An event: ``callbacks`` (None once processed), ``triggered``, :meth:`succeed`."""
+
+    __slots__ = ("env", "callbacks", "_value", "_ok")
+
+    def __init__(self, env: LeanEnvironment) -> None:
+        self.env = env
+        #: (None once processed, as in SimPy)
+        self.callbacks: list[Callable[[Any], None]] = []
+        self._value: Any = PENDING
+        self._ok = True
+
+    @property
+    def triggered(self) -> bool:
+        """True once the event has succeeded (it may not have been processed yet)."""
+        return self._value is not PENDING
+
+    def succeed(self, value: Any = None) -> LeanEvent:
+        """Trigger the event now (its callbacks run when it is taken from the queue)."""
+        if self._value is not PENDING:
+            raise RuntimeError(f"{self!r} has already been triggered")
+        self._value = value
+        env = self.env
+        heappush(env._queue, (env.now, NORMAL, env._eid(), self))
+        return self
+
+
+#: An event of either loop (what the engine's processes yield).
+AnyEvent = simpy.Event | LeanEvent
+
+
+class LeanProcess(LeanEvent):
+    """A generator stepped from event to event (the event itself: triggered when it ends)."""
+
+    __slots__ = ("_generator",)
+
+    def __init__(self, env: LeanEnvironment, generator: Generator[Any, Any, Any]) -> None:
+        super().__init__(env)
+        self._generator = generator
+        start = LeanEvent(env)  # SimPy's Initialize: URGENT, at once
+        start._value = None
+        start.callbacks.append(self._resume)
+        heappush(env._queue, (env.now, URGENT, env._eid(), start))
+
+    def _resume(self, event: Any) -> None:
+        send = self._generator.send
+        while True:
+            try:
+                event = send(event._value)
+            except StopIteration as stop:
+                self._value = stop.value
+                env = self.env
+                heappush(env._queue, (env.now, NORMAL, env._eid(), self))
+                return
+            if event.callbacks is not None:
+                event.callbacks.append(self._resume)
+                return
+
+
+class LeanRequest(LeanEvent):
+    """A request for a crew of :class:`LeanPriorityResource` (SimPy's ``PriorityRequest``)."""
+
+    __slots__ = ("resource", "key")
+
+    def __init__(self, resource: LeanPriorityResource, priority: int) -> None:
+        super().__init__(resource.env)
+        self.resource = resource
+        self.key = (priority, resource.env.now)
+        # after the requests of equal key: SimPy appends and sorts stably
+        insort(resource.put_queue, self, key=_key)
+        resource._trigger_put()
+
+    def cancel(self) -> None:
+        """Leave the queue (a request not granted yet)."""
+        if self._value is PENDING:
+            self.resource.put_queue.remove(self)
+
+
+def _key(r: LeanRequest) -> tuple[int, float]:
+    return r.key
+
+
+class LeanPriorityResource:
+    """``simpy.PriorityResource`` on a :class:`LeanEnvironment` (module docstring)."""
+
+    __slots__ = ("env", "capacity", "users", "put_queue")
+
+    def __init__(self, env: LeanEnvironment, capacity: int) -> None:
+        self.env = env
+        self.capacity = capacity
+        self.users: list[LeanRequest] = []
+        self.put_queue: list[LeanRequest] = []
+
+    def request(self, priority: int = 0) -> LeanRequest:
+        """Ask for one unit of the resource."""
+        return LeanRequest(self, priority)
+
+    def release(self, request: LeanRequest) -> LeanEvent:
+        """Hand ``request``'s unit back; the queue's head is looked at when the release
+        is processed (as SimPy's ``Release`` does)."""
+        try:
+            self.users.remove(request)
+        except ValueError:
+            pass
+        ev = LeanEvent(self.env)
+        ev.callbacks.append(self._released)
+        ev.succeed()
+        return ev
+
+    def _released(self, _event: Any) -> None:
+        self._trigger_put()
+
+    def _trigger_put(self) -> None:
+        # SimPy's Resource._trigger_put: only the head of the queue is tried
+        queue = self.put_queue
+        if queue and len(self.users) < self.capacity:
+            head = queue.pop(0)
+            self.users.append(head)
+            head.succeed()
+
+
+class LeanEnvironment:
+    """The clock and event queue (module docstring): ``now``, :meth:`timeout`,
+    :meth:`event`, :meth:`process`, :meth:`schedule`, :meth:`run_within`."""
+
+    __slots__ = ("now", "_queue", "_eid")
+
+    def __init__(self) -> None:
+        self.now = 0.0
+        self._queue: list[tuple[float, int, int, Any]] = []
+        self._eid = count().__next__
+
+    def timeout(self, delay: float, value: Any = None) -> LeanEvent:
+        """An event processed ``delay`` hours from now."""
+        ev = LeanEvent(self)
+        ev._value = value
+        heappush(self._queue, (self.now + delay, NORMAL, self._eid(), ev))
+        return ev
+
+    def event(self) -> LeanEvent:
+        """An event to trigger later with :meth:`LeanEvent.succeed`."""
+        return LeanEvent(self)
+
+    def process(self, generator: Generator[Any, Any, Any]) -> LeanProcess:
+        """Start ``generator`` as a process (its first step comes at once, ``URGENT``)."""
+        return LeanProcess(self, generator)
+
+    def schedule(self, event: Any, priority: int = NORMAL, delay: float = 0.0) -> None:
+        """Put ``event`` on the queue ``delay`` hours from now (SimPy's ``schedule``)."""
+        heappush(self._queue, (self.now + delay, priority, self._eid(), event))
+
+    def run_within(self, horizon_h: float, limit: int, source: str = "scenario",
+                   every: Callable[[], None] | None = None) -> None:
+        """Process every event before ``horizon_h`` (events at the horizon are not),
+        stopping with :class:`~fleetsim.sim.budget.EventBudgetExceeded` after ``limit``
+        events; ``every`` is called after each
+        :data:`~fleetsim.sim.budget.CHUNK_EVENTS` events. The counting is
+        :func:`~fleetsim.sim.budget.run_within_budget`'s (the stop at the horizon is
+        one of the events)."""
+        queue = self._queue
+        left = limit
+        while left > 0:
+            chunk = CHUNK_EVENTS if left > CHUNK_EVENTS else left
+            for _ in range(chunk):
+                if not queue or not queue[0][0] < horizon_h:
+                    self.now = horizon_h
+                    return
+                t, _, _, event = heappop(queue)
+                self.now = t
+                callbacks, event.callbacks = event.callbacks, None
+                for callback in callbacks:
+                    callback(event)
+            left -= chunk
+            if every is not None:
+                every()
+        raise exceeded(limit, source)
