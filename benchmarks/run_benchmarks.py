@@ -334,6 +334,37 @@ def throughput(sizes: list[int], des_max: int, coupled_sizes: list[int]) -> dict
     return out
 
 
+def lean_loop(sizes: list[int], rounds: int = YARDSTICK_ROUNDS) -> dict:
+    """The discrete-event engine on its lean event loop against the same engine on SimPy
+    (``engine.LEAN``), on the coupled fleet with planned work (which only the DES runs)."""
+    import fleetsim.sim.engine as engine
+
+    print("\nPlanned work under 2 crews and one shared store (8 h stops; only the DES runs it): "
+          f"the DES on its lean event loop against the DES on SimPy; medians of {rounds} "
+          "alternated rounds (the two give the same run, bit for bit)")
+    print(f"{'policy':<15} {'positions':>9} {'on simpy':>12} {'lean':>12} {'lean/simpy':>10}")
+    out: dict = {}
+    for name in ("age", "block", "condition"):
+        for n in sizes:
+            sc = coupled_fleet(n)
+            m = sc.machines[0]
+            sc = dataclasses.replace(sc, machines=(dataclasses.replace(m, positions=tuple(
+                dataclasses.replace(p, policy=POLICIES[name]) for p in m.positions)),))
+            py = position_years(sc)
+            runs: dict[str, list[float]] = {"simpy": [], "lean": []}
+            for _ in range(rounds):
+                for key, lean in (("simpy", False), ("lean", True)):
+                    engine.LEAN = lean
+                    runs[key].append(py / timed(lambda i, sc=sc: des_run(sc, i), 0.3))
+            engine.LEAN = True
+            row = {k: float(np.median(v)) for k, v in runs.items()}
+            row["lean_over_simpy"] = _ratio(runs, "lean", "simpy")
+            out[f"{name}/{n}"] = row
+            print(f"{name:<15} {n:>9} {_cell(row, 'simpy')} {_cell(row, 'lean')} "
+                  f"{_cell(row, 'lean_over_simpy', 10, '.2f')}")
+    return out
+
+
 def _shaped(units: int, positions: int, policy: Policy, coupled: bool = False) -> Scenario:
     """The benchmark fleet reshaped: ``units`` units of ``positions`` positions."""
     sc = coupled_fleet(1_000) if coupled else fleet(4, policy, repair_h=8.0)
@@ -495,6 +526,7 @@ def main() -> None:
     if args.quick:
         figures = {"throughput": throughput([100, 1_000], des_max=1_000, coupled_sizes=[1_000])}
         figures["crossings"] = crossings(1)
+        figures["lean_loop"] = lean_loop([1_000], rounds=3)
         figures["workers"] = worker_scaling(20, repeats=3)
         figures["memory"] = peak_memory(20, 1_000)
         figures["pump_demo"] = pump_demo(20)
@@ -502,6 +534,7 @@ def main() -> None:
         figures = {"throughput": throughput([100, 1_000, 10_000], des_max=10_000,
                                              coupled_sizes=[1_000, 10_000])}
         figures["crossings"] = crossings()
+        figures["lean_loop"] = lean_loop([1_000, 10_000], rounds=3)
         figures["workers"] = worker_scaling(200)
         figures["memory"] = peak_memory(1_000, 10_000)
         figures["pump_demo"] = pump_demo(200)
