@@ -16,26 +16,32 @@ unchanged, with SimPy's rules for the few kinds of event they use:
   processed release each look at the head of the queue only, a grant and a
   release are events of their own.
 
+Events scheduled for the current instant with NORMAL priority (every ``succeed``, a
+timeout of no delay) skip the heap: they come after everything already on it for
+this instant (scheduled earlier, so numbered lower) and among themselves first come
+first, which a FIFO gives at the cost of an append.
+
 So a replication gives SimPy's figures bit for bit
 (``tests/test_sim_lean_env.py`` runs both on the engine-identity scenarios),
-while an event costs a tuple on a heap and a few attribute reads: no
+while an event costs a heap entry (or an append) and a few attribute reads: no
 ``Timeout``/``Initialize`` class hierarchy, no failure handling, no
-interruption. The engine runs on it by default (:data:`fleetsim.sim.engine.LEAN`);
-anything needing more of SimPy (``simpy.Event`` subclasses scheduled with
-:meth:`LeanEnvironment.schedule` work too) keeps working, as the lean loop
-calls an event's callbacks exactly as SimPy's ``step`` does.
+interruption (an exception in a process goes straight up). The engine runs on it by
+default (:data:`fleetsim.sim.engine.LEAN`). A ``simpy.Event`` put on the queue with
+:meth:`LeanEnvironment.schedule` (the stores' early arrivals) works too: the loop
+runs an event's callbacks as SimPy's ``step`` does.
 """
 
 from __future__ import annotations
 
 from bisect import insort
+from collections import deque
 from collections.abc import Callable, Generator
 from heapq import heappop, heappush
 from itertools import count
 from typing import Any
 
 import simpy
-from simpy.events import NORMAL, PENDING, URGENT
+from simpy.events import NORMAL, URGENT
 
 from fleetsim.sim.budget import CHUNK_EVENTS, exceeded
 
@@ -43,27 +49,23 @@ from fleetsim.sim.budget import CHUNK_EVENTS, exceeded
 class LeanEvent:
     """An event: ``callbacks`` (None once processed), ``triggered``, :meth:`succeed`."""
 
-    __slots__ = ("env", "callbacks", "_value", "_ok")
+    __slots__ = ("env", "callbacks", "_value", "triggered")
 
     def __init__(self, env: LeanEnvironment) -> None:
         self.env = env
         #: (None once processed, as in SimPy)
         self.callbacks: list[Callable[[Any], None]] = []
-        self._value: Any = PENDING
-        self._ok = True
-
-    @property
-    def triggered(self) -> bool:
-        """True once the event has succeeded (it may not have been processed yet)."""
-        return self._value is not PENDING
+        self._value: Any = None
+        #: True once the event has succeeded (it may not have been processed yet)
+        self.triggered = False
 
     def succeed(self, value: Any = None) -> LeanEvent:
         """Trigger the event now (its callbacks run when it is taken from the queue)."""
-        if self._value is not PENDING:
+        if self.triggered:
             raise RuntimeError(f"{self!r} has already been triggered")
+        self.triggered = True
         self._value = value
-        env = self.env
-        heappush(env._queue, (env.now, NORMAL, env._eid(), self))
+        self.env._soon.append(self)
         return self
 
 
@@ -80,7 +82,7 @@ class LeanProcess(LeanEvent):
         super().__init__(env)
         self._generator = generator
         start = LeanEvent(env)  # SimPy's Initialize: URGENT, at once
-        start._value = None
+        start.triggered = True
         start.callbacks.append(self._resume)
         heappush(env._queue, (env.now, URGENT, env._eid(), start))
 
@@ -90,9 +92,9 @@ class LeanProcess(LeanEvent):
             try:
                 event = send(event._value)
             except StopIteration as stop:
+                self.triggered = True
                 self._value = stop.value
-                env = self.env
-                heappush(env._queue, (env.now, NORMAL, env._eid(), self))
+                self.env._soon.append(self)
                 return
             if event.callbacks is not None:
                 event.callbacks.append(self._resume)
@@ -114,7 +116,7 @@ class LeanRequest(LeanEvent):
 
     def cancel(self) -> None:
         """Leave the queue (a request not granted yet)."""
-        if self._value is PENDING:
+        if not self.triggered:
             self.resource.put_queue.remove(self)
 
 
@@ -165,18 +167,27 @@ class LeanEnvironment:
     """The clock and event queue (module docstring): ``now``, :meth:`timeout`,
     :meth:`event`, :meth:`process`, :meth:`schedule`, :meth:`run_within`."""
 
-    __slots__ = ("now", "_queue", "_eid")
+    __slots__ = ("now", "_queue", "_eid", "_soon")
 
     def __init__(self) -> None:
         self.now = 0.0
         self._queue: list[tuple[float, int, int, Any]] = []
         self._eid = count().__next__
+        #: NORMAL events scheduled for the current instant, in order (see run_within)
+        self._soon: deque[Any] = deque()
 
     def timeout(self, delay: float, value: Any = None) -> LeanEvent:
         """An event processed ``delay`` hours from now."""
+        if delay < 0:
+            raise ValueError(f"negative delay {delay}")
         ev = LeanEvent(self)
+        ev.triggered = True
         ev._value = value
-        heappush(self._queue, (self.now + delay, NORMAL, self._eid(), ev))
+        at = self.now + delay
+        if at == self.now:
+            self._soon.append(ev)
+        else:
+            heappush(self._queue, (at, NORMAL, self._eid(), ev))
         return ev
 
     def event(self) -> LeanEvent:
@@ -189,7 +200,11 @@ class LeanEnvironment:
 
     def schedule(self, event: Any, priority: int = NORMAL, delay: float = 0.0) -> None:
         """Put ``event`` on the queue ``delay`` hours from now (SimPy's ``schedule``)."""
-        heappush(self._queue, (self.now + delay, priority, self._eid(), event))
+        at = self.now + delay
+        if at == self.now and priority == NORMAL:
+            self._soon.append(event)
+        else:
+            heappush(self._queue, (at, priority, self._eid(), event))
 
     def run_within(self, horizon_h: float, limit: int, source: str = "scenario",
                    every: Callable[[], None] | None = None) -> None:
@@ -200,15 +215,27 @@ class LeanEnvironment:
         :func:`~fleetsim.sim.budget.run_within_budget`'s (the stop at the horizon is
         one of the events)."""
         queue = self._queue
+        soon = self._soon
+        pop_soon = soon.popleft
         left = limit
         while left > 0:
             chunk = CHUNK_EVENTS if left > CHUNK_EVENTS else left
             for _ in range(chunk):
-                if not queue or not queue[0][0] < horizon_h:
+                # The events of this instant in SimPy's order: those already on the heap
+                # (URGENT ones, and NORMAL ones scheduled at an earlier instant, so with
+                # lower scheduling numbers), then the NORMAL ones scheduled during this
+                # instant, first come first (a heap push and pop saved for each).
+                if queue and (queue[0][0] <= self.now or not soon):
+                    if not queue[0][0] < horizon_h:
+                        self.now = horizon_h
+                        return
+                    t, _, _, event = heappop(queue)
+                    self.now = t
+                elif soon:
+                    event = pop_soon()
+                else:
                     self.now = horizon_h
                     return
-                t, _, _, event = heappop(queue)
-                self.now = t
                 callbacks, event.callbacks = event.callbacks, None
                 for callback in callbacks:
                     callback(event)
