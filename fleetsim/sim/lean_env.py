@@ -33,7 +33,6 @@ runs an event's callbacks as SimPy's ``step`` does.
 
 from __future__ import annotations
 
-from bisect import insort
 from collections import deque
 from collections.abc import Callable, Generator
 from heapq import heappop, heappush
@@ -104,36 +103,38 @@ class LeanProcess(LeanEvent):
 class LeanRequest(LeanEvent):
     """A request for a crew of :class:`LeanPriorityResource` (SimPy's ``PriorityRequest``)."""
 
-    __slots__ = ("resource", "key")
+    __slots__ = ("resource", "cancelled")
 
     def __init__(self, resource: LeanPriorityResource, priority: int) -> None:
         super().__init__(resource.env)
         self.resource = resource
-        self.key = (priority, resource.env.now)
-        # after the requests of equal key: SimPy appends and sorts stably
-        insort(resource.put_queue, self, key=_key)
+        self.cancelled = False
+        # SimPy sorts by (priority, time of request), stably: first asked, first among equals
+        heappush(resource.put_queue, (priority, resource.env.now, resource.asked(), self))
         resource._trigger_put()
 
     def cancel(self) -> None:
         """Leave the queue (a request not granted yet)."""
         if not self.triggered:
-            self.resource.put_queue.remove(self)
-
-
-def _key(r: LeanRequest) -> tuple[int, float]:
-    return r.key
+            self.cancelled = True  # (dropped when it reaches the head)
 
 
 class LeanPriorityResource:
-    """``simpy.PriorityResource`` on a :class:`LeanEnvironment` (module docstring)."""
+    """``simpy.PriorityResource`` on a :class:`LeanEnvironment` (module docstring).
 
-    __slots__ = ("env", "capacity", "users", "put_queue")
+    Its queue is a heap of (priority, time of request, order of request, request);
+    a cancelled request stays on it, marked, until it comes to the head.
+    """
+
+    __slots__ = ("env", "capacity", "users", "put_queue", "asked")
 
     def __init__(self, env: LeanEnvironment, capacity: int) -> None:
         self.env = env
         self.capacity = capacity
         self.users: list[LeanRequest] = []
-        self.put_queue: list[LeanRequest] = []
+        self.put_queue: list[tuple[int, float, int, LeanRequest]] = []
+        #: numbers the requests in the order they are made
+        self.asked = count().__next__
 
     def request(self, priority: int = 0) -> LeanRequest:
         """Ask for one unit of the resource."""
@@ -157,8 +158,10 @@ class LeanPriorityResource:
     def _trigger_put(self) -> None:
         # SimPy's Resource._trigger_put: only the head of the queue is tried
         queue = self.put_queue
+        while queue and queue[0][3].cancelled:
+            heappop(queue)
         if queue and len(self.users) < self.capacity:
-            head = queue.pop(0)
+            head = heappop(queue)[3]
             self.users.append(head)
             head.succeed()
 
