@@ -1,6 +1,6 @@
 """The discrete-event engine's event loop without SimPy's general machinery.
 
-:class:`LeanEnvironment` runs the engine's processes (:class:`~fleetsim.sim.unit.UnitRunner`,
+:class:`LeanEnvironment` runs the engine's processes and callbacks (:class:`~fleetsim.sim.unit.UnitRunner`,
 the calendars of :mod:`fleetsim.sim.policies`, the stores of :mod:`fleetsim.sim.stores`)
 unchanged, with SimPy's rules for the few kinds of event they use:
 

@@ -22,46 +22,93 @@ policies run on the calendar:
 
 from __future__ import annotations
 
-from collections.abc import Generator
+from collections.abc import Callable
 from typing import Any
 
 import simpy
+from simpy.events import URGENT
 
-from fleetsim.sim.lean_env import AnyEvent, LeanEnvironment
+from fleetsim.sim.lean_env import LeanEnvironment
 from fleetsim.sim.schedule import INF, MaintenancePlan
 from fleetsim.sim.setup import PositionState
 from fleetsim.sim.unit import UnitRunner
 
-
-def _block_calendar(
-    env: simpy.Environment | LeanEnvironment, unit: UnitRunner, interval_h: float, positions: list[PositionState]
-) -> Generator[AnyEvent, Any, None]:
-    ahead = [p for p in positions if p.store.order_ahead]
-    while True:
-        for p in ahead:  # the next block date is known now: order its spares ahead
-            p.store.plan_ahead(unit.id, p.id, env.now + interval_h)
-        yield env.timeout(interval_h)
-        unit.block_date(positions)
+Clock = simpy.Environment | LeanEnvironment
 
 
-def _inspection_round(
-    env: simpy.Environment | LeanEnvironment, unit: UnitRunner, every_h: float, positions: list[PositionState]
-) -> Generator[AnyEvent, Any, None]:
-    while True:
-        yield env.timeout(every_h)
-        unit.inspect(positions)
+def _at_start(env: Clock, callback: Callable[[Any], None]) -> None:
+    """Call ``callback`` at the start, as SimPy starts a process: an ``URGENT`` event of
+    the current instant (so the calendars keep the order of events they had as
+    processes)."""
+    ev: Any = env.event()
+    if isinstance(env, LeanEnvironment):
+        ev.triggered = True
+    else:  # triggered with no value, as SimPy's Initialize
+        ev._ok = True
+        ev._value = None
+    ev.callbacks.append(callback)
+    env.schedule(ev, URGENT)
 
 
-def start_calendar_policies(env: simpy.Environment | LeanEnvironment, unit: UnitRunner, plan: MaintenancePlan) -> None:
+class _BlockCalendar:
+    """The block dates of some positions of one unit: every ``interval_h`` from the start,
+    the unit is asked for them (:meth:`UnitRunner.block_date`), and each next date is
+    announced to the stores that order ahead as soon as the previous one has passed.
+
+    A chain of timeouts with a callback rather than a process: the same events in the
+    same order, without resuming a generator at every date."""
+
+    __slots__ = ("env", "unit", "interval_h", "positions", "ahead")
+
+    def __init__(self, env: Clock, unit: UnitRunner, interval_h: float,
+                 positions: list[PositionState]) -> None:
+        self.env = env
+        self.unit = unit
+        self.interval_h = interval_h
+        self.positions = positions
+        self.ahead = [p for p in positions if p.store.order_ahead]
+        _at_start(env, self._next)
+
+    def _next(self, _event: Any) -> None:
+        env = self.env
+        for p in self.ahead:  # the next block date is known now: order its spares ahead
+            p.store.plan_ahead(self.unit.id, p.id, env.now + self.interval_h)
+        env.timeout(self.interval_h).callbacks.append(self._date)
+
+    def _date(self, event: Any) -> None:
+        self.unit.block_date(self.positions)
+        self._next(event)
+
+
+class _InspectionRound:
+    """The inspection visits of some positions of one unit, every ``every_h`` from the
+    start (:meth:`UnitRunner.inspect`); a chain of timeouts, as :class:`_BlockCalendar`."""
+
+    __slots__ = ("env", "unit", "every_h", "positions")
+
+    def __init__(self, env: Clock, unit: UnitRunner, every_h: float,
+                 positions: list[PositionState]) -> None:
+        self.env = env
+        self.unit = unit
+        self.every_h = every_h
+        self.positions = positions
+        _at_start(env, self._next)
+
+    def _next(self, _event: Any) -> None:
+        self.env.timeout(self.every_h).callbacks.append(self._visit)
+
+    def _visit(self, _event: Any) -> None:
+        self.unit.inspect(self.positions)
+        self.env.timeout(self.every_h).callbacks.append(self._visit)
+
+
+def start_calendar_policies(env: Clock, unit: UnitRunner, plan: MaintenancePlan) -> None:
     """Start the block calendars and inspection rounds of one unit (from its machine's plan),
     and announce the first age dues to stores that order ahead."""
     for p in unit.positions:
         if p.store.order_ahead and p.age_due_h < INF:
             unit.announce_age_due(p)
-    # (each loop's processes yield its own events: SimPy's types name only SimPy's)
     for job in plan.blocks:
-        env.process(_block_calendar(env, unit, job.every_h,  # type: ignore[arg-type]
-                                    [unit.positions[j] for j in job.positions]))
+        _BlockCalendar(env, unit, job.every_h, [unit.positions[j] for j in job.positions])
     for job in plan.rounds:
-        env.process(_inspection_round(env, unit, job.every_h,  # type: ignore[arg-type]
-                                      [unit.positions[j] for j in job.positions]))
+        _InspectionRound(env, unit, job.every_h, [unit.positions[j] for j in job.positions])
