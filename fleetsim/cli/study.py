@@ -62,7 +62,8 @@ def _common(fn: Callable[..., Any]) -> Callable[..., Any]:
         click.option("--out", "out", type=click.Path(file_okay=False), default=None,
                      help="Report directory (default: reports/<study name>)."),
         click.option("--engine", type=ENGINE_CHOICE, default="auto", show_default=True,
-                     help="des (SimPy), vector (independent positions only) or auto."),
+                     help="des (discrete-event: any fleet), vector (numpy: independent positions, or "
+                          "coupled ones all run-to-failure) or auto."),
         click.option("--workers", type=int, default=1, show_default=True,
                      help="Processes for the replications (0 = all cores)."),
         click.option("--cluster", default=None,
