@@ -138,9 +138,11 @@ def tied_fleets(draw: st.DrawFn) -> Scenario:
         tuple(machines), groups=groups, stores=stores, crews=crews)
 
 
-@settings(max_examples=60, deadline=None)
+@settings(max_examples=200, deadline=None)
 @given(sc=tied_fleets(), seed=st.integers(0, 2**32 - 1))
 def test_the_lean_loop_breaks_ties_as_simpy_does(sc: Scenario, seed: int) -> None:
+    """(About three examples in four put events of several units on one instant, and
+    over half of them are coupled by stores or crews: counted once, 300 examples.)"""
     with pytest.MonkeyPatch.context() as mp:
         lean, reference = runs(sc, seed, mp)
     assert_same(lean, reference)
