@@ -39,6 +39,7 @@ from fleetsim.scenario.model import (
 from fleetsim.sim import simulate
 from fleetsim.sim.lean_env import LeanEnvironment, LeanPriorityResource
 from tests.test_engine_identity import AGED, CASES, MIXED, coupled
+from tests.test_sim_quiet import assert_same  # every event, count, cost and table
 
 # fleets only the discrete-event engine runs
 DES_ONLY = {
@@ -60,15 +61,6 @@ def runs(sc: Scenario, seed: int, monkeypatch: pytest.MonkeyPatch):  # type: ign
         m.setattr(engine, "LEAN", False)
         reference = simulate(sc, seed)
     return lean, reference
-
-
-def assert_same(a, b) -> None:  # type: ignore[no-untyped-def]
-    assert a.event_log() == b.event_log()
-    assert a.counts == b.counts
-    assert a.costs == b.costs
-    assert a.crew_busy_h == b.crew_busy_h
-    for name in ("units", "positions", "spares", "groups"):
-        assert a.tables[name] == b.tables[name], name
 
 
 @pytest.mark.parametrize("name", sorted({**CASES, **DES_ONLY}))
