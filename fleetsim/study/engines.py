@@ -29,14 +29,14 @@ from fleetsim.study.figures import figures_of
 
 EngineName = Literal["des", "vector"]
 #: From this many positions the vectorised engine is the faster (benchmarks/, 2 cores:
-#: 1.4-3x the discrete-event engine at 20 positions on its whole-cycle and coupled
-#: paths; below, a replication takes a millisecond or two on either).
+#: 1.05-1.9x the discrete-event engine at 20 positions on its whole-cycle, block-period
+#: and coupled paths; below, a replication takes a millisecond or two on either).
 VECTOR_MIN_POSITIONS = 20
 #: A machine type with condition monitoring or opportunistic changes is stepped event by
 #: event in lanes of units (run-to-failure, age and block replacement run by whole
 #: cycles); with fewer units than this its
-#: lanes are slower than the discrete-event engine (0.2x with one unit of 64 positions,
-#: 2x at 16 units of 4)...
+#: lanes are slower than the discrete-event engine (condition monitoring: 0.2x with one
+#: unit of 64 positions, 0.9x at 8 units of 8, 1.6x at 16 units of 4)...
 LANE_MIN_UNITS = 16
 #: ... which matters when such machine types hold more than this share of the positions.
 FEW_LANES_SHARE = 0.1
