@@ -46,7 +46,7 @@ DES_ONLY = {
     "coupled: mixed policies, stores and 2 crews": coupled((MIXED,)),
     "coupled: mixed policies, one crew, whole-hour stops": dataclasses.replace(
         coupled((MIXED, AGED), crews=1), crews=Crews(1, Duration.fixed(8.0), Duration.fixed(4.0))),
-    "coupled: a group holding planned work back": coupled(
+    "coupled: mixed policies, a group holding planned work back": coupled(
         (MIXED,), groups=(Group("held", ("mixed",), 5, hold_planned_work=True),)),
 }
 _ahead = coupled((MIXED,))
@@ -61,6 +61,9 @@ def runs(sc: Scenario, seed: int, monkeypatch: pytest.MonkeyPatch):  # type: ign
         m.setattr(engine, "LEAN", False)
         reference = simulate(sc, seed)
     return lean, reference
+
+
+assert not set(CASES) & set(DES_ONLY)  # (one name each)
 
 
 @pytest.mark.parametrize("name", sorted({**CASES, **DES_ONLY}))
