@@ -11,7 +11,9 @@ events (1,000 events per bearing position and simulated year, and at least
 1,000,000), far above any real plant (a weekly inspection is 52 a year); past
 it the replication stops with an :class:`EventBudgetExceeded`, an
 :class:`~fleetsim.errors.InputError` naming the scenario and the likely cause.
-The discrete-event engine counts SimPy events (:func:`run_within_budget`),
+The discrete-event engine counts the events its loop steps
+(:meth:`~fleetsim.sim.lean_env.LeanEnvironment.run_within`, or SimPy's in
+:func:`run_within_budget`: the same count),
 the vectorised engine the position-events of its rounds, each round at least
 :data:`ROUND_EVENTS` (its fixed cost, whatever the number of lanes).
 """
