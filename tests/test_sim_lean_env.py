@@ -192,7 +192,10 @@ def crew_log(env, resource, jobs):  # type: ignore[no-untyped-def]
 
     for i, j in enumerate(jobs):
         env.process(job(i, *j))
-    env.run(until=50.0) if isinstance(env, simpy.Environment) else env.run_within(50.0, 10_000)
+    if isinstance(env, simpy.Environment):
+        env.run(until=50.0)
+    else:
+        env.run_within(50.0, 10_000)
     return log
 
 

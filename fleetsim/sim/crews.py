@@ -24,7 +24,7 @@ from typing import Any
 import simpy
 from simpy.resources.resource import PriorityRequest
 
-from fleetsim.sim.lean_env import LeanEnvironment, LeanPriorityResource, LeanRequest
+from fleetsim.sim.lean_env import AnyEnvironment, LeanEnvironment, LeanPriorityResource, LeanRequest
 
 #: A crew request of either event loop.
 CrewRequest = PriorityRequest | LeanRequest
@@ -46,7 +46,7 @@ class CrewPool:
 
     __slots__ = ("env", "resource", "busy_h")
 
-    def __init__(self, env: simpy.Environment | LeanEnvironment, count: int | None) -> None:
+    def __init__(self, env: AnyEnvironment, count: int | None) -> None:
         self.env = env
         #: ``simpy.PriorityResource`` or, on the lean loop, its twin (None: unlimited)
         self.resource: Any = (

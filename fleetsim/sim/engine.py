@@ -29,7 +29,7 @@ from fleetsim.sim.discount import discount_for
 from fleetsim.sim.event_log import EventFile
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
-from fleetsim.sim.lean_env import LeanEnvironment
+from fleetsim.sim.lean_env import AnyEnvironment, LeanEnvironment
 from fleetsim.sim.policies import start_calendar_policies
 from fleetsim.sim.quiet import quiet_process, step_quiet_fleet
 from fleetsim.sim.records import (
@@ -143,7 +143,7 @@ def _run(
     sink: EventFile | None = None,
 ) -> ReplicationResult:
     streams = Streams(root)
-    env: simpy.Environment | LeanEnvironment = LeanEnvironment() if LEAN else simpy.Environment()
+    env: AnyEnvironment = LeanEnvironment() if LEAN else simpy.Environment()
     discount = discount_for(scenario.costs.discount_rate_per_year)
     book = YearBook(horizon, discount)
     recorder = Recorder(keep_events, book, sink)

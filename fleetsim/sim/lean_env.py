@@ -246,3 +246,20 @@ class LeanEnvironment:
             if every is not None:
                 every()
         raise exceeded(limit, source)
+
+
+#: Either event loop.
+AnyEnvironment = simpy.Environment | LeanEnvironment
+
+
+def at_start(env: AnyEnvironment, callback: Callable[[Any], None]) -> None:
+    """Call ``callback`` at the current instant as a process starts there: from an
+    ``URGENT`` event, triggered with no value (SimPy's ``Initialize``), on either loop."""
+    ev: Any = env.event()
+    if isinstance(env, LeanEnvironment):
+        ev.triggered = True
+    else:
+        ev._ok = True
+        ev._value = None
+    ev.callbacks.append(callback)
+    env.schedule(ev, URGENT)

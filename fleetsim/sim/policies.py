@@ -22,32 +22,12 @@ policies run on the calendar:
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from typing import Any
 
-import simpy
-from simpy.events import URGENT
-
-from fleetsim.sim.lean_env import LeanEnvironment
+from fleetsim.sim.lean_env import AnyEnvironment, at_start
 from fleetsim.sim.schedule import INF, MaintenancePlan
 from fleetsim.sim.setup import PositionState
 from fleetsim.sim.unit import UnitRunner
-
-Clock = simpy.Environment | LeanEnvironment
-
-
-def _at_start(env: Clock, callback: Callable[[Any], None]) -> None:
-    """Call ``callback`` at the start, as SimPy starts a process: an ``URGENT`` event of
-    the current instant (so the calendars keep the order of events they had as
-    processes)."""
-    ev: Any = env.event()
-    if isinstance(env, LeanEnvironment):
-        ev.triggered = True
-    else:  # triggered with no value, as SimPy's Initialize
-        ev._ok = True
-        ev._value = None
-    ev.callbacks.append(callback)
-    env.schedule(ev, URGENT)
 
 
 class _BlockCalendar:
@@ -60,14 +40,14 @@ class _BlockCalendar:
 
     __slots__ = ("env", "unit", "interval_h", "positions", "ahead")
 
-    def __init__(self, env: Clock, unit: UnitRunner, interval_h: float,
+    def __init__(self, env: AnyEnvironment, unit: UnitRunner, interval_h: float,
                  positions: list[PositionState]) -> None:
         self.env = env
         self.unit = unit
         self.interval_h = interval_h
         self.positions = positions
         self.ahead = [p for p in positions if p.store.order_ahead]
-        _at_start(env, self._next)
+        at_start(env, self._next)
 
     def _next(self, _event: Any) -> None:
         env = self.env
@@ -86,13 +66,13 @@ class _InspectionRound:
 
     __slots__ = ("env", "unit", "every_h", "positions")
 
-    def __init__(self, env: Clock, unit: UnitRunner, every_h: float,
+    def __init__(self, env: AnyEnvironment, unit: UnitRunner, every_h: float,
                  positions: list[PositionState]) -> None:
         self.env = env
         self.unit = unit
         self.every_h = every_h
         self.positions = positions
-        _at_start(env, self._next)
+        at_start(env, self._next)
 
     def _next(self, _event: Any) -> None:
         self.env.timeout(self.every_h).callbacks.append(self._visit)
@@ -102,7 +82,7 @@ class _InspectionRound:
         self.env.timeout(self.every_h).callbacks.append(self._visit)
 
 
-def start_calendar_policies(env: Clock, unit: UnitRunner, plan: MaintenancePlan) -> None:
+def start_calendar_policies(env: AnyEnvironment, unit: UnitRunner, plan: MaintenancePlan) -> None:
     """Start the block calendars and inspection rounds of one unit (from its machine's plan),
     and announce the first age dues to stores that order ahead."""
     for p in unit.positions:

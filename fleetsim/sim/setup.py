@@ -16,14 +16,13 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
-import simpy
 
 from fleetsim.life import LifeDistribution
 from fleetsim.scenario.model import Crews, Machine, Position
 from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import Discount
 from fleetsim.sim.groups import GroupTracker
-from fleetsim.sim.lean_env import LeanEnvironment
+from fleetsim.sim.lean_env import AnyEnvironment
 from fleetsim.sim.records import Recorder
 from fleetsim.sim.scan_heap import next_op
 from fleetsim.sim.schedule import (
@@ -51,7 +50,7 @@ LifeSampler = Callable[[str, str, int], float]
 class SimContext:
     """What all units of one replication share."""
 
-    env: simpy.Environment | LeanEnvironment
+    env: AnyEnvironment
     recorder: Recorder
     crews: CrewPool
     crews_spec: Crews
