@@ -64,11 +64,8 @@ def scenario(machines: tuple[Machine, ...], *, stops: str = "random", groups=(),
     if stops == "random":
         crews = Crews(None, Duration("lognormal", 6.0, p90_h=15.0), Duration("exponential", 20.0))
     elif stops == "fixed":
-        # Not whole hours: with whole-hour stops and intervals, a stop can end on a
-        # calendar date up to rounding (8790.999999999998 + 5 h against a visit at
-        # 8796 h), and the engines, which sum operating hours in a different order,
-        # may then put the two instants in a different order. Exact ties are resolved
-        # alike (a date at the restart instant falls inside the stop).
+        # (Whole-hour stops, whose instants tie with visits, block dates and year ends
+        # up to a rounding, are held to the same figures in test_sim_ties.py.)
         crews = Crews(None, Duration.fixed(5.3), Duration.fixed(12.7))
     else:
         crews = Crews(None, Duration.fixed(0.0), Duration.fixed(0.0))

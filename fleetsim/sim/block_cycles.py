@@ -41,6 +41,7 @@ import numpy as np
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget
 from fleetsim.sim.cycles import _stop_order, earlier_stops_h
+from fleetsim.sim.instants import TIE_H
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan
 from fleetsim.sim.streams import LIFE, PF, STOP, Streams
@@ -48,8 +49,6 @@ from fleetsim.sim.tally import CHANGES, FAILURES
 from fleetsim.sim.years import YearBook
 
 INF = np.inf
-#: Block dates of different intervals this close are one date (as on the lane path).
-_SAME_DATE_H = 1e-9
 
 
 def block_exact(machine: Machine, scenario: Scenario) -> bool:
@@ -129,7 +128,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
     while active.any():
         date = min(next_date.values())
         # the calendars due at this date (within the lane path's tolerance) and the next date
-        due = [every for every, d in next_date.items() if d <= date + _SAME_DATE_H]
+        due = [every for every, d in next_date.items() if d <= date + TIE_H]  # one date
         job = np.logical_or.reduce([jobs[every] for every in due])
         after = min(next_date[e] + e if e in due else next_date[e] for e in jobs)
         cut = min(date, H)

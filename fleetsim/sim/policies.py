@@ -38,7 +38,7 @@ class _BlockCalendar:
     A chain of timeouts with a callback rather than a process: the same events in the
     same order, without resuming a generator at every date."""
 
-    __slots__ = ("env", "unit", "interval_h", "positions", "ahead")
+    __slots__ = ("env", "unit", "interval_h", "positions", "ahead", "next_h")
 
     def __init__(self, env: AnyEnvironment, unit: UnitRunner, interval_h: float,
                  positions: list[PositionState]) -> None:
@@ -47,12 +47,16 @@ class _BlockCalendar:
         self.interval_h = interval_h
         self.positions = positions
         self.ahead = [p for p in positions if p.store.order_ahead]
+        #: the calendar hour of the next date (:meth:`UnitRunner.date_at_hand` reads it)
+        self.next_h = interval_h
+        unit.dates.append(self)
         at_start(env, self._next)
 
     def _next(self, _event: Any) -> None:
         env = self.env
         for p in self.ahead:  # the next block date is known now: order its spares ahead
             p.store.plan_ahead(self.unit.id, p.id, env.now + self.interval_h)
+        self.next_h = env.now + self.interval_h
         env.timeout(self.interval_h).callbacks.append(self._date)
 
     def _date(self, event: Any) -> None:
@@ -64,7 +68,7 @@ class _InspectionRound:
     """The inspection visits of some positions of one unit, every ``every_h`` from the
     start (:meth:`UnitRunner.inspect`); a chain of timeouts, as :class:`_BlockCalendar`."""
 
-    __slots__ = ("env", "unit", "every_h", "positions")
+    __slots__ = ("env", "unit", "every_h", "positions", "next_h")
 
     def __init__(self, env: AnyEnvironment, unit: UnitRunner, every_h: float,
                  positions: list[PositionState]) -> None:
@@ -72,14 +76,20 @@ class _InspectionRound:
         self.unit = unit
         self.every_h = every_h
         self.positions = positions
+        #: the calendar hour of the next visit (:meth:`UnitRunner.date_at_hand` reads it)
+        self.next_h = every_h
+        unit.dates.append(self)
         at_start(env, self._next)
 
     def _next(self, _event: Any) -> None:
+        self.next_h = self.env.now + self.every_h
         self.env.timeout(self.every_h).callbacks.append(self._visit)
 
     def _visit(self, _event: Any) -> None:
         self.unit.inspect(self.positions)
-        self.env.timeout(self.every_h).callbacks.append(self._visit)
+        env = self.env  # (_next, inlined: this runs at every visit)
+        self.next_h = env.now + self.every_h
+        env.timeout(self.every_h).callbacks.append(self._visit)
 
 
 def start_calendar_policies(env: AnyEnvironment, unit: UnitRunner, plan: MaintenancePlan) -> None:

@@ -24,6 +24,8 @@ import math
 from heapq import heapify, heappop, heappush
 from typing import TYPE_CHECKING
 
+from fleetsim.sim.instants import TIE_H
+
 if TYPE_CHECKING:
     from fleetsim.sim.setup import PositionState
 
@@ -64,6 +66,7 @@ class PositionHeap:
     def scan(self, clock_op: float) -> tuple[list[PositionState] | None, list[PositionState] | None,
                                               list[PositionState] | None, float]:
         """:func:`~fleetsim.sim.setup.scan` of the unit at ``clock_op``, the same result."""
+        clock_op += TIE_H  # (events a rounding ahead have come, as in the linear scan)
         heap = self.heap
         positions = self.positions
         come: list[PositionState] = [p for p, v in self.stuck if p.ver == v]

@@ -22,6 +22,7 @@ from fleetsim.scenario.model import Crews, Machine, Position
 from fleetsim.sim.crews import CrewPool
 from fleetsim.sim.discount import Discount
 from fleetsim.sim.groups import GroupTracker
+from fleetsim.sim.instants import TIE_H
 from fleetsim.sim.lean_env import AnyEnvironment
 from fleetsim.sim.records import Recorder
 from fleetsim.sim.scan_heap import next_op
@@ -191,8 +192,10 @@ def scan(
     those whose defect appeared (marked seen), each None when empty, and the
     operating clock value of the next of these events (inf: none). A position
     whose :attr:`~PositionState.next_op` lies after ``clock_op`` has nothing come
-    and adds only that value.
+    and adds only that value. An event within :data:`~fleetsim.sim.instants.TIE_H`
+    after ``clock_op`` has come (the same instant up to rounding).
     """
+    clock_op += TIE_H
     nxt = INF
     failed: list[PositionState] | None = None
     due: list[PositionState] | None = None

@@ -44,6 +44,7 @@ from typing import Any
 
 from fleetsim.sim import scan_heap
 from fleetsim.sim.crews import PLANNED, UNPLANNED, CrewPool, CrewRequest
+from fleetsim.sim.instants import TIE_H
 from fleetsim.sim.lean_env import AnyEvent
 from fleetsim.sim.setup import INF, MachineSetup, PositionState, SimContext, scan
 
@@ -75,7 +76,7 @@ class UnitRunner:
         "crew_req", "wake", "_timer", "_timer_at", "_timer_op", "phase", "phase_t", "phase_h",
         "stops", "failures", "down_since", "discount", "book", "failure_times", "change_times",
         "inspection_times", "down_spans", "labour_spans", "random_stops", "opportunistic",
-        "holds", "quiet", "repair_free",
+        "holds", "quiet", "repair_free", "dates",
     )  # fmt: skip
 
     def __init__(
@@ -131,6 +132,8 @@ class UnitRunner:
         self.holds = ctx.groups.holds(unit_index)
         self.quiet = setup.quiet and not self.holds
         self.repair_free = setup.repair_free
+        #: the unit's block calendars and inspection rounds (each with its ``next_h``)
+        self.dates: list[Any] = []
 
     # --- clock, phases, timer ---------------------------------------------------------
     def _sync(self) -> None:
@@ -260,15 +263,23 @@ class UnitRunner:
         self._poke()
 
     def block_date(self, positions: list[PositionState]) -> None:
-        """A block date of ``positions``: request those not fitted too recently (modified block)."""
+        """A block date of ``positions``: request those not fitted too recently (modified block).
+
+        A position fitted at this instant (within :data:`TIE_H`: the stop that
+        fitted it ended on the date) was changed in that stop, which the date
+        falls in: it is not asked for again."""
         now = self.env.now
-        due = [p for p in positions if now - p.installed_cal >= p.skip_younger_h]
+        due = [p for p in positions
+               if now - p.installed_cal >= p.skip_younger_h and now - p.installed_cal > TIE_H]
         if due:
             self.request_planned(due, now)
 
     def inspect(self, positions: list[PositionState]) -> None:
-        """One inspection visit of this unit, covering ``positions`` (skipped while stopped)."""
-        if not self.running:
+        """One inspection visit of this unit, covering ``positions`` (skipped while stopped).
+
+        A visit at the instant the unit starts again (within :data:`TIE_H`) falls
+        in the stop, whichever of the two events comes first."""
+        if not self.running or self.env.now - self.phase_t <= TIE_H:
             return
         self._sync()
         now = self.env.now
@@ -328,13 +339,16 @@ class UnitRunner:
                     self._fail(p)
                 self.failed_now = failed  # (in position order: the stop's failed positions)
                 return _FAILURE
-            if self.pending and self._job_ready(now):
+            hold = self.date_at_hand(now) if self.pending else INF
+            if self.pending and hold == INF and self._job_ready(now):
                 return _PLANNED
             at, op_target = INF, None
             if nxt < INF and share > 0.0:
                 at, op_target = now + (nxt - clock) / share, nxt
             if self.pending and now < self.start_at < at:
                 at, op_target = self.start_at, None
+            if hold < at:
+                at, op_target = hold, None
             if self.quiet and at < INF:
                 self._timer = None
                 yield env.timeout(at - now)
@@ -347,6 +361,19 @@ class UnitRunner:
             if at < INF:
                 self._arm(at, op_target)
             yield self.wake
+
+    def date_at_hand(self, now: float) -> float:
+        """The next date of the unit's calendars if one falls within :data:`TIE_H` of
+        ``now`` (not yet passed), else inf.
+
+        Planned work waits for it: a visit or block date at the instant a planned
+        stop starts comes before the stop (a visit is made, a block date joins
+        the stop), even when rounding puts the stop a hair earlier.
+        """
+        for d in self.dates:
+            if d.next_h - now <= TIE_H:
+                return float(d.next_h)
+        return INF
 
     def _job_ready(self, now: float) -> bool:
         """Drive the pending planned job; True when the unit should stop for it now.
@@ -363,7 +390,7 @@ class UnitRunner:
             for p in self.pending:
                 if not p.claim.filled:  # type: ignore[union-attr]
                     return False
-            if now < self.start_at:
+            if now + TIE_H < self.start_at:  # (a start a rounding ahead has come)
                 return False
             if self.holds and not groups.may_stop(self.index, self._poke):
                 return False  # a holding group cannot spare this unit now

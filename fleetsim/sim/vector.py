@@ -48,6 +48,7 @@ from fleetsim.sim.coupled import coupled_exact, coupled_tally
 from fleetsim.sim.cycles import renewal_cycles, renewal_exact
 from fleetsim.sim.discount import discount_for
 from fleetsim.sim.groups import replay_groups
+from fleetsim.sim.instants import TIE_H
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan, inspections_to_detect
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
@@ -63,7 +64,6 @@ from fleetsim.sim.tally import (
 from fleetsim.sim.visits import detection_times, visits_before, window_index, window_visits
 from fleetsim.sim.years import YearBook
 
-_EPS = 1e-9
 INF = math.inf
 #: When the lanes still inside the horizon are at most this share of those held, the
 #: others are dropped from the arrays (a late step then costs what its lanes need)...
@@ -214,14 +214,14 @@ class _Lanes:
             return False
         now = self.t
         L = live[:, None]
-        failed = L & (self.fail_age <= self.age + _EPS)
+        failed = L & (self.fail_age <= self.age + TIE_H)
         is_fail = np.asarray(failed.any(axis=1), dtype=bool)
         # age dues become requests for now
         if self.has_age:
-            self._request(L & ~failed & (self.age >= plan.age_due_h[None, :] - _EPS), now)
+            self._request(L & ~failed & (self.age >= plan.age_due_h[None, :] - TIE_H), now)
         # block dates: request the positions of each due job that are old enough
         for j, job in enumerate(plan.blocks):
-            lanes = live & (self.next_block[:, j] <= now + _EPS)
+            lanes = live & (self.next_block[:, j] <= now + TIE_H)
             if np.count_nonzero(lanes):
                 self._block_date(lanes, j, job.positions, self.next_block[:, j].copy(),
                                  ~failed)
@@ -229,14 +229,14 @@ class _Lanes:
                                                  self.next_block[:, j])
         # inspection rounds of running units
         for r, job in enumerate(plan.rounds):
-            lanes = live & (self.next_insp[:, r] <= now + _EPS) & ~is_fail
+            lanes = live & (self.next_insp[:, r] <= now + TIE_H) & ~is_fail
             if np.count_nonzero(lanes):
                 self._inspect(lanes, r)
-            due = live & (self.next_insp[:, r] <= now + _EPS)
+            due = live & (self.next_insp[:, r] <= now + TIE_H)
             self.next_insp[:, r] = np.where(due, self.next_insp[:, r] + job.every_h,
                                             self.next_insp[:, r])
         # (the requests of this step may have moved start dates earlier)
-        is_plan = live & ~is_fail & (self.start_at.min(axis=1) <= now + _EPS)
+        is_plan = live & ~is_fail & (self.start_at.min(axis=1) <= now + TIE_H)
         stops = is_fail | is_plan
         if np.count_nonzero(stops):  # failures (repair) and planned work, lane by lane
             self._stop(stops, failed)
@@ -277,7 +277,7 @@ class _Lanes:
         """Count the visits that find nothing before each lane's next step (before the
         horizon for lanes that end): the visits, their year book and the looks inside
         the windows; the visit at the step itself is made by :meth:`step`."""
-        limit = np.where(live, new_t - _EPS, np.where(active, self.H, -INF))
+        limit = np.where(live, new_t - TIE_H, np.where(active, self.H, -INF))
         for r, job in enumerate(self.plan.rounds):
             nv = self.next_insp[:, r]
             n = visits_before(nv, job.every_h, limit)
@@ -382,7 +382,7 @@ class _Lanes:
             while True:
                 # a date at the restart instant falls in the stop (as in the DES); dates from
                 # the horizon on never come
-                inside = (nb <= end) & (nb < self.H)
+                inside = (nb <= end + TIE_H) & (nb < self.H)
                 n_inside = int(np.count_nonzero(inside))
                 if not n_inside:
                     break
@@ -397,10 +397,11 @@ class _Lanes:
             self.next_block[u, j] = nb
         for r, job in enumerate(plan.rounds):
             ni = self.next_insp[u, r]
-            late = ni <= end  # a visit at the restart instant is skipped too (as in the DES)
+            # a visit at the restart instant is skipped too (as in the DES)
+            late = ni <= end + TIE_H
             steps = np.where(late, np.floor((end - ni) / job.every_h) + 1.0, 0.0)
             ni = ni + steps * job.every_h
-            ni = np.where(late & (ni <= end), ni + job.every_h, ni)
+            ni = np.where(late & (ni <= end + TIE_H), ni + job.every_h, ni)
             self.next_insp[u, r] = ni
         self.t[u] = end
         # renewals at the end of the stop

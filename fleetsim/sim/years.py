@@ -6,7 +6,9 @@ year-by-year plan shows, two arrays over the calendar years of the horizon
 amount (events, or hours × weight for quantities accrued over time) and its
 present value at the study's discount rate (:mod:`fleetsim.sim.discount`;
 equal to the plain amount at rate 0). An event is booked in the year it
-happens; an amount accrued over an interval (downtime, spares on the shelf, a
+happens (one within :data:`~fleetsim.sim.instants.TIE_H` before a year's end
+is at the end, so in the next year: the engines may compute the same whole
+hour a rounding apart); an amount accrued over an interval (downtime, spares on the shelf, a
 group being down, crew work) is split at the year boundaries.
 
 The discrete-event engine books each event as it happens (:meth:`at`,
@@ -27,6 +29,7 @@ import numpy as np
 
 from fleetsim.scenario.model import HOURS_PER_YEAR
 from fleetsim.sim.discount import Discount
+from fleetsim.sim.instants import TIE_H
 
 #: The keys :meth:`YearBook.down` books (the same as :mod:`fleetsim.sim.tally`'s).
 DOWN_KEY, LOST_KEY, LABOUR_KEY = "down_h", "lost_operating_h", "labour_h"
@@ -213,7 +216,7 @@ class YearBook:
         a = self._amount.get(key)
         if a is None:
             a = self._rows(key)[0]
-        y = int(t_h / HOURS_PER_YEAR)
+        y = int((t_h + TIE_H) / HOURS_PER_YEAR)
         if y >= self.n:
             y = self.n - 1
         a[y] += n
@@ -303,7 +306,7 @@ class YearBook:
         t = np.asarray(t_h, dtype=float)
         if t.size == 0:
             return
-        y = np.minimum((t / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
+        y = np.minimum(((t + TIE_H) / HOURS_PER_YEAR).astype(np.int64), self.n - 1)
         if np.ndim(n) == 0:
             plain: np.ndarray = np.bincount(y, minlength=self.n).astype(float) * float(n)
             w: np.ndarray | float = float(n)
