@@ -83,6 +83,15 @@ def fleet(positions: int, policy: Policy, repair_h: float = 0.0) -> Scenario:
     )
 
 
+def on_policy(scenario: Scenario, policy: Policy) -> Scenario:
+    """``scenario`` (one machine type) with every position on ``policy``; under condition
+    monitoring the bearings get :data:`CONDITION_PF`, as in :func:`fleet`."""
+    pf = CONDITION_PF if policy.kind == "condition" else None
+    m = scenario.machines[0]
+    return dataclasses.replace(scenario, machines=(dataclasses.replace(m, positions=tuple(
+        dataclasses.replace(p, policy=policy, pf_interval=pf) for p in m.positions)),))
+
+
 def position_years(scenario: Scenario) -> float:
     return scenario.position_count * HORIZON_H / HOURS_PER_YEAR
 
@@ -346,10 +355,7 @@ def lean_loop(sizes: list[int], rounds: int = YARDSTICK_ROUNDS) -> dict:
     out: dict = {}
     for name in ("age", "block", "condition"):
         for n in sizes:
-            sc = coupled_fleet(n)
-            m = sc.machines[0]
-            sc = dataclasses.replace(sc, machines=(dataclasses.replace(m, positions=tuple(
-                dataclasses.replace(p, policy=POLICIES[name]) for p in m.positions)),))
+            sc = on_policy(coupled_fleet(n), POLICIES[name])
             py = position_years(sc)
             runs: dict[str, list[float]] = {"simpy": [], "lean": []}
             for _ in range(rounds):

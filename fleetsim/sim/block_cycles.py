@@ -41,7 +41,7 @@ import numpy as np
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget
 from fleetsim.sim.cycles import _stop_order, earlier_stops_h
-from fleetsim.sim.instants import TIE_H
+from fleetsim.sim.instants import TIE_H, last_instant
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan
 from fleetsim.sim.streams import LIFE, PF, STOP, Streams
@@ -96,6 +96,7 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
     plan = compile_plan(machine)
     U, P = machine.count, len(machine.positions)
     H, share = horizon_h, machine.operating_share
+    H_ev = last_instant(H)
     # the block calendars by interval (positions on one interval share its dates, either
     # scope); each date is the running sum of its interval, as each calendar counts it
     jobs: dict[float, np.ndarray] = {}
@@ -131,10 +132,11 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         due = [every for every, d in next_date.items() if d <= date + TIE_H]  # one date
         job = np.logical_or.reduce([jobs[every] for every in due])
         after = min(next_date[e] + e if e in due else next_date[e] for e in jobs)
-        cut = min(date, H)
+        cut = min(date, H_ev)
         if budget is not None:  # the date is an event of every unit still running
             budget.spend(max(int(np.count_nonzero(active)), ROUND_EVENTS))
-        c_max = np.where(active, C + share * (cut - S), -INF)
+        # (and a rounding past it: a stop on the date is seen, see below)
+        c_max = np.where(active, C + share * (cut + TIE_H - S), -INF)
         # every position's cycles (to a failure, or to its due age) up to the most the
         # unit can run before the cut
         rounds, ends_failed = [np.where(active[:, None], F, INF)], [Ff]
@@ -180,6 +182,8 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         d = np.broadcast_to(np.asarray(d, dtype=float), s_unit.shape)
         # calendar starts: the clock run at the share, plus the unit's earlier stops
         t0 = S[s_unit] + (s_clock - C[s_unit]) / share + earlier_stops_h(s_unit, d)
+        if date < H_ev and (np.abs(t0 - date) <= TIE_H).any():
+            return None  # a failure or due age on the date joins its stop (the lane path's rule)
         kept = t0 < cut  # (a prefix of each unit's stops)
         if stop_of is None:
             ev_kept = kept
@@ -209,14 +213,14 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
         has = last >= 0
         li = np.where(has, last, 0)
         last_end = np.where(has, end[li] if end.size else 0.0, -INF)
-        if date >= H:  # the horizon comes first: nothing more to do
+        if date >= H_ev:  # the horizon comes first: nothing more to do
             break
         # the block date: a unit under repair then stops for the others as it ends
-        straddle = active & has & (last_end >= date)
-        if (straddle & (last_end >= after)).any() and after < H:
+        straddle = active & has & (last_end >= date - TIE_H)  # (a restart on the date: in it)
+        if (straddle & (last_end >= after)).any() and after < H_ev:
             return None  # a stop over two dates (the lane path asks at each)
-        gone = straddle & (last_end >= H)  # under repair at the horizon: asks, stops no more
-        changed = job[None, :] & active[:, None] & (date - fitted >= skip)
+        gone = straddle & (last_end >= H_ev)  # under repair at the horizon: asks, stops no more
+        changed = job[None, :] & active[:, None] & (date - fitted >= skip - TIE_H)
         if straddle.any():  # the positions of the stop under way are left out
             in_last = np.zeros((U, P), dtype=bool)
             e_stop = np.arange(eu.size) if stop_of is None else stop_of
@@ -240,11 +244,11 @@ def block_cycles(machine: Machine, index: int, scenario: Scenario, streams: Stre
             dp = np.asarray(stop_hours(d_plan, draws.stop_u(k[su_b, lead], su_b, lead)),
                             dtype=float)
             eb = tb + dp
-            if (eb >= after).any() and after < H:
+            if (eb >= after).any() and after < H_ev:
                 return None  # a block stop that reaches the next date
             n_ch = np.count_nonzero(ch, axis=1)
             b_parts.append((tb, eb, su_b, n_ch))
-            done = eb < H
+            done = eb < H_ev
             # renew the changed positions of the stops ended within the horizon
             ru, rp = np.nonzero(ch & done[:, None])
             units = su_b[ru]
@@ -272,6 +276,7 @@ def _book(machine: Machine, book: YearBook, keep_intervals: bool, H: float, shar
           b_parts: list[tuple[np.ndarray, ...]],
           issue_parts: list[tuple[np.ndarray, np.ndarray]]) -> LaneSums:
     """Book the stops with the lane path's conventions."""
+    H_ev = last_instant(H)
     s = LaneSums(machine, keep_intervals, book)
     t0, end, su, sf = (np.concatenate([x[i] for x in s_parts]) for i in range(4))
     et0, eend, eu, ep, ef = (np.concatenate([x[i] for x in e_parts]) for i in range(5))
@@ -279,7 +284,7 @@ def _book(machine: Machine, book: YearBook, keep_intervals: bool, H: float, shar
     s.failures += np.bincount(eu[ef], minlength=machine.count)
     book.at_many(FAILURES, et0[ef])
     s.issue(ep, et0)  # asked for at the failure or the due age
-    planned = ~ef & (eend < H)  # changes at the due age count when their stop ends in time
+    planned = ~ef & (eend < H_ev)  # changes at the due age count when their stop ends in time
     if b_parts:
         tb, eb, ub, nb = (np.concatenate([x[i] for x in b_parts]) for i in range(4))
     else:
@@ -288,7 +293,7 @@ def _book(machine: Machine, book: YearBook, keep_intervals: bool, H: float, shar
     ip = np.concatenate([x[0] for x in issue_parts]) if issue_parts else np.zeros(0, np.intp)
     it = np.concatenate([x[1] for x in issue_parts]) if issue_parts else np.zeros(0)
     s.issue(ip.astype(np.intp), it)
-    done_b = eb < H
+    done_b = eb < H_ev
     s.planned += float(nb[done_b].sum()) + float(np.count_nonzero(planned))
     book.at_many(CHANGES, np.concatenate([eend[planned], np.repeat(eb[done_b], nb[done_b])]))
     starts = np.concatenate([t0, tb])
@@ -297,6 +302,6 @@ def _book(machine: Machine, book: YearBook, keep_intervals: bool, H: float, shar
     held = shown - starts
     s.down_repair_h += float(held[:t0.size][sf].sum())
     s.down_planned_h += float(held[:t0.size][~sf].sum()) + float(held[t0.size:].sum())
-    book.down_many(starts, shown, share, worked=ends < H)
+    book.down_many(starts, shown, share, worked=ends < H_ev)
     s.stopped(np.concatenate([su, ub.astype(np.intp)]), starts, shown)
     return s

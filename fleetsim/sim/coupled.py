@@ -42,6 +42,7 @@ from fleetsim.sim.crews import CrewCalendar
 from fleetsim.sim.cycles import StopList, renewal_exact, stops_on_clock
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import replay_groups
+from fleetsim.sim.instants import last_instant
 from fleetsim.sim.stores import (
     Claim,
     SpareStore,
@@ -140,6 +141,7 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
     and with it the end of the stop and the unit's next arrival.
     """
     H = horizon_h
+    H_ev = last_instant(H)
     clock = _Clock()
     stores = build_stores(scenario, clock, streams, book, None)
     n_units = sum(m.count for m in scenario.machines)
@@ -210,13 +212,13 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
         first_h = np.where(share_of_unit > 0.0, c0 / share_of_unit,
                            np.where(c0 <= 0.0, 0.0, np.inf))
     for g, t0 in enumerate(first_h.tolist()):
-        if t0 < H:
+        if t0 < H_ev:
             heappush(queue, (t0, tick(), _ARRIVE, g))
 
     left = CHUNK_EVENTS  # events to the next budget count and settling of the journals
     while queue:
         t, _, kind, g = heappop(queue)
-        if not t < H:  # events at the horizon are not processed
+        if not t < H_ev:  # events at the horizon are not processed
             break
         clock.now = t
         left -= 1
@@ -255,10 +257,10 @@ def place_coupled(scenario: Scenario, streams: Streams, horizon_h: float, book: 
         start = crew_start(t, d)  # spares at hand at t: the crew that comes free first
         record((j, arrived[g], t, start))
         up = start + d
-        if up < H:
+        if up < H_ev:
             nxt[g] = j + 1
             nt = up + gap
-            if nt < H:
+            if nt < H_ev:
                 heappush(queue, (nt, tick(), _ARRIVE, g))
     if budget is not None:
         budget.spend(max(CHUNK_EVENTS - left, ROUND_EVENTS))
@@ -302,7 +304,7 @@ def _book_stops(scenario: Scenario, book: YearBook, out: CoupledResult, H: float
     for mi, m in enumerate(scenario.machines):
         mine = machine == mi if n_m > 1 else slice(None)
         book.down_many(at[mine], up_c[mine], m.operating_share)
-    worked = (up < H) & (up > start)  # repairs ended within the horizon (of some length)
+    worked = (up < last_instant(H)) & (up > start)  # repairs ended within the horizon (of some length)
     book.over_many(LABOUR_H, start[worked], up[worked])
     out.first_stop_h = float(at.min())
     if scenario.groups:

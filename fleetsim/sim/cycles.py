@@ -15,6 +15,7 @@ import numpy as np
 
 from fleetsim.scenario.model import Machine, Scenario
 from fleetsim.sim.budget import ROUND_EVENTS, EventBudget
+from fleetsim.sim.instants import last_instant
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan
 from fleetsim.sim.streams import LIFE, PF, STOP, Streams
@@ -73,8 +74,9 @@ def renewal_cycles(machine: Machine, index: int, scenario: Scenario, streams: St
             run_h = stops.clock / share if share > 0 else np.zeros_like(stops.clock)
         t0 = run_h + earlier_stops_h(st_unit, d)
     end = t0 + d
-    live = t0 < H  # stops the horizon reaches (and every event in them)
-    done = end < H  # stops whose changes are made within the horizon
+    H_ev = last_instant(H)
+    live = t0 < H_ev  # stops the horizon reaches (and every event in them)
+    done = end < H_ev  # stops whose changes are made within the horizon
     ev_live, ev_t0 = (live, t0) if stop_of is None else (live[stop_of], t0[stop_of])
     # counts and the year book, with the DES's conventions
     every_failed = bool(e_fail.all())  # (run-to-failure: no planned change to count)
@@ -135,6 +137,7 @@ def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
     T_pf = streams.table(index, U, P, PF) if plan.pf_given else None
     T_stop = streams.table(index, U, P, STOP) if random_stops else None
     H = horizon_h
+    H_ev = last_instant(H)
     c_max = share * H  # no unit runs more operating hours than this within the horizon
     d_fail, d_plan = crews.unplanned_repair, crews.planned_repair
     instant = not random_stops and d_fail.value_h == 0.0 and d_plan.value_h == 0.0
@@ -180,8 +183,8 @@ def _rounds(machine: Machine, index: int, scenario: Scenario, streams: Streams,
                 d = np.where(failed, stop_hours(d_fail, su), stop_hours(d_plan, su))
             else:
                 d = np.where(failed, d_fail.value_h, d_plan.value_h)
-            inside = t0 < H
-            keep = inside & (t0 + d < H)  # renewed within the horizon: it goes on
+            inside = t0 < H_ev
+            keep = inside & (t0 + d < H_ev)  # renewed within the horizon: it goes on
             parts.append((idx[inside], c[inside], failed[inside], d[inside], t0[inside]))
             idx, clock, delay = idx[keep], c[keep], (delay + d)[keep]
         else:

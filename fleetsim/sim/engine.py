@@ -29,6 +29,7 @@ from fleetsim.sim.discount import discount_for
 from fleetsim.sim.event_log import EventFile
 from fleetsim.sim.gcpause import gc_paused
 from fleetsim.sim.groups import GroupTracker
+from fleetsim.sim.instants import last_instant
 from fleetsim.sim.lean_env import AnyEnvironment, LeanEnvironment
 from fleetsim.sim.policies import start_calendar_policies
 from fleetsim.sim.quiet import quiet_process, step_quiet_fleet
@@ -175,8 +176,9 @@ def _run(
 
     budget = event_budget(scenario, horizon)
     check_calendar(scenario, horizon, budget)
+    run_to = last_instant(horizon)  # (events a rounding before the horizon are at it)
     if QUIET_PROCESS and QUIET_STEPPER and all(u.quiet for u in units):
-        step_quiet_fleet(units, horizon, budget, scenario.source, every=book.settle_full_blocks)
+        step_quiet_fleet(units, run_to, budget, scenario.source, every=book.settle_full_blocks)
     else:
         for unit, plan in zip(units, plans, strict=True):
             if unit.quiet and QUIET_PROCESS:
@@ -185,9 +187,9 @@ def _run(
                 env.process(unit.run())  # type: ignore[arg-type]  # (either loop's events)
                 start_calendar_policies(env, unit, plan)
         if isinstance(env, LeanEnvironment):
-            env.run_within(horizon, budget, scenario.source, every=book.settle_full_blocks)
+            env.run_within(run_to, budget, scenario.source, every=book.settle_full_blocks)
         else:
-            run_within_budget(env, horizon, budget, scenario.source, every=book.settle_full_blocks)
+            run_within_budget(env, run_to, budget, scenario.source, every=book.settle_full_blocks)
     return _result(scenario, root, horizon, recorder, units, stores, groups, ctx.crews.busy_h)
 
 

@@ -9,7 +9,9 @@ whole-hour stops, intervals and lead times this happens often enough to put a
 visit, a restart or a year end on different sides of each other.
 
 Every comparison of two computed instants that decides *which comes first*
-(a visit against a restart, an event against a year end, two block dates)
+(a visit or block date against a restart or the start of planned work, a
+failure or due age against the clock, an age against an opportunistic or skip
+threshold, an event against a year end or the horizon, two block dates)
 therefore treats instants within :data:`TIE_H` of each other as equal, and
 resolves the tie by the rule the comparison documents. :data:`TIE_H` (3.6
 microseconds) is far below any duration a plan is written in, and well above
@@ -22,3 +24,13 @@ from __future__ import annotations
 
 #: Two calendar (or operating) instants closer than this, in hours, are the same instant.
 TIE_H = 1e-9
+
+
+def last_instant(horizon_h: float) -> float:
+    """The instant from which events are at the horizon, in hours: ``horizon_h − TIE_H``.
+
+    Neither engine processes an event at the horizon, nor one a rounding before
+    it; what accrues over time (hours down, on the shelf, operating) still
+    accrues up to the horizon itself.
+    """
+    return horizon_h - TIE_H

@@ -327,8 +327,9 @@ class PositionState:
         """True when the position's age has reached its opportunistic threshold.
 
         The age is on the interval's own clock: calendar hours since fitting
-        under block replacement, operating hours otherwise.
+        under block replacement, operating hours otherwise; an age a rounding
+        short of the threshold has reached it (:data:`~fleetsim.sim.instants.TIE_H`).
         """
         if self.opp_calendar:
-            return now_h - self.installed_cal >= self.opp_age_h
-        return clock_op - self.installed_op >= self.opp_age_h
+            return now_h - self.installed_cal >= self.opp_age_h - TIE_H
+        return clock_op - self.installed_op >= self.opp_age_h - TIE_H

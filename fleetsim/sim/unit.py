@@ -270,7 +270,7 @@ class UnitRunner:
         falls in: it is not asked for again."""
         now = self.env.now
         due = [p for p in positions
-               if now - p.installed_cal >= p.skip_younger_h and now - p.installed_cal > TIE_H]
+               if now - p.installed_cal >= p.skip_younger_h - TIE_H and now - p.installed_cal > TIE_H]
         if due:
             self.request_planned(due, now)
 

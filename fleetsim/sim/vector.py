@@ -48,7 +48,7 @@ from fleetsim.sim.coupled import coupled_exact, coupled_tally
 from fleetsim.sim.cycles import renewal_cycles, renewal_exact
 from fleetsim.sim.discount import discount_for
 from fleetsim.sim.groups import replay_groups
-from fleetsim.sim.instants import TIE_H
+from fleetsim.sim.instants import TIE_H, last_instant
 from fleetsim.sim.lane_arrays import LaneSums, draw_lives, draw_pf, stop_hours
 from fleetsim.sim.schedule import compile_plan, inspections_to_detect
 from fleetsim.sim.streams import DETECTION, LIFE, PF, STOP, Streams
@@ -87,6 +87,7 @@ class _Lanes:
         #: dates inside a stop (each one event of the discrete-event engine)
         self.budget = budget
         self.H = horizon_h
+        self.H_ev = last_instant(horizon_h)  # events from here on are at the horizon
         self.book = book
         plan = self.plan = compile_plan(machine)
         U, P = machine.count, len(machine.positions)
@@ -176,8 +177,8 @@ class _Lanes:
         (Tests of "any lane" use ``np.count_nonzero``: on the small arrays of one
         step it costs a third of ``.any()``, and a step makes dozens.)
         """
-        H = self.H
-        active = self.t < H
+        H, H_ev = self.H, self.H_ev
+        active = self.t < H_ev
         n_active = np.count_nonzero(active)
         if not n_active:
             return False
@@ -204,7 +205,7 @@ class _Lanes:
         t_plan = self.start_at.min(axis=1)
         np.minimum(t_next, t_plan, out=t_next)
         t_next = np.where(active, np.maximum(t_next, t), t)
-        live = active & (t_next < H)
+        live = active & (t_next < H_ev)
         new_t = np.where(live, t_next, np.where(active, H, t))
         if self.bulk_visits:
             self._visits_before(active, live, new_t)
@@ -252,7 +253,7 @@ class _Lanes:
     def _block_date(self, lanes: np.ndarray, j: int, positions: tuple[int, ...],
                     date: np.ndarray, allowed: np.ndarray) -> None:
         cols = self.block_cols[j]
-        old = (date[:, None] - self.fitted_cal) >= self.plan.skip_younger_h[None, :]
+        old = (date[:, None] - self.fitted_cal) >= self.plan.skip_younger_h[None, :] - TIE_H
         self._request(lanes[:, None] & cols[None, :] & old & allowed, date, date)
 
     def _next_detection(self) -> np.ndarray:
@@ -277,7 +278,7 @@ class _Lanes:
         """Count the visits that find nothing before each lane's next step (before the
         horizon for lanes that end): the visits, their year book and the looks inside
         the windows; the visit at the step itself is made by :meth:`step`."""
-        limit = np.where(live, new_t - TIE_H, np.where(active, self.H, -INF))
+        limit = np.where(live, new_t - TIE_H, np.where(active, self.H_ev, -INF))
         for r, job in enumerate(self.plan.rounds):
             nv = self.next_insp[:, r]
             n = visits_before(nv, job.every_h, limit)
@@ -338,7 +339,7 @@ class _Lanes:
         if plan.opportunistic:
             cal_age = t0[:, None] - self.fitted_cal[u]
             age = np.where(plan.opportunistic_calendar[None, :], cal_age, self.age[u])
-            chance = ~fu & ~pend & (age >= plan.opportunistic_age_h[None, :])
+            chance = ~fu & ~pend & (age >= plan.opportunistic_age_h[None, :] - TIE_H)
             ui, pi = np.nonzero(chance)
             s.issue(pi, t0[ui])
             opp: np.ndarray | None = chance
@@ -360,7 +361,7 @@ class _Lanes:
         held = shown - t0
         s.down_repair_h += float(held[n_fail > 0].sum())
         s.down_planned_h += float(held[n_fail == 0].sum())
-        done = end < self.H  # the changes count when the stop ends inside the horizon
+        done = end < self.H_ev  # the changes count when the stop ends inside the horizon
         # crews worked the stops ended within the horizon: their hours are crew hours
         self.book.down_later(t0, shown, self.share, worked=done)
         s.stopped(self.unit[u], t0, shown)
@@ -382,7 +383,7 @@ class _Lanes:
             while True:
                 # a date at the restart instant falls in the stop (as in the DES); dates from
                 # the horizon on never come
-                inside = (nb <= end + TIE_H) & (nb < self.H)
+                inside = (nb <= end + TIE_H) & (nb < self.H_ev)
                 n_inside = int(np.count_nonzero(inside))
                 if not n_inside:
                     break
