@@ -197,6 +197,20 @@ def test_a_due_age_on_a_block_date_is_changed_in_the_block_stop_by_both_engines(
     assert_engines_agree(sc, 1)
 
 
+def test_stops_of_zero_length_at_one_instant_overlap() -> None:
+    # Three units fitted together, age-replaced at 600 h with instant stops, lives that
+    # never end: all three stop at 600 h for no time. A group needing 2 of the 3 is
+    # down then (the stops overlap), in both engines; so is the fleet.
+    never = LifeDistribution(shape=1.5, scale_h=1e6, location_h=1e6)
+    sc = Scenario(Study("instant", 1_000.0, 1, 0), Costs(planned_replacement=100.0), BEARINGS,
+                  (Machine("m", 3, 1.0, 0.0, (Position("a", "B1", never, Policy("age", 600.0)),)),),
+                  groups=(Group("g", ("m",), 2),))
+    for engine in ("des", "vector"):
+        f = figures_of(tally_of(sc, engine, np.random.SeedSequence(1)), sc)
+        assert (f["group_down:g"], f["group_first_down_h:g"]) == (1.0, 600.0), engine
+        assert f["fleet_down"] == 1.0 and f["planned_replacements"] == 3.0
+
+
 @pytest.mark.parametrize("t", around(HOURS_PER_YEAR))
 def test_an_event_at_a_year_end_is_booked_in_the_next_year(t: float) -> None:
     for book in (YearBook(3 * HOURS_PER_YEAR, Discount(0.0)),
@@ -269,11 +283,9 @@ def whole_hour_fleets(draw: st.DrawFn) -> Scenario:
                       for _ in range(count)) if draw(st.booleans()) else None)
         machines.append(Machine(f"m{m}", count, draw(st.sampled_from([1.0, 0.9, 0.8, 0.75, 0.5])),
                                 0.0, positions, position_ages_h=ages))
-    # (whole-hour stops; zero-length ones only without groups, see test_sim_ties' note)
     grouped = draw(st.booleans())
-    low = 1 if grouped else 0
-    crews = Crews(None, Duration.fixed(float(draw(HOURS([low, 4, 8, 24])))),
-                  Duration.fixed(float(draw(HOURS([low, 4, 5, 12])))))
+    crews = Crews(None, Duration.fixed(float(draw(HOURS([0, 4, 8, 24])))),
+                  Duration.fixed(float(draw(HOURS([0, 4, 5, 12])))))
     groups = ((Group("g", tuple(m.id for m in machines),
                      max(1, sum(m.count for m in machines) - 1)),) if grouped else ())
     return Scenario(

@@ -178,8 +178,11 @@ def _run(
     check_calendar(scenario, horizon, budget)
     run_to = last_instant(horizon)  # (events a rounding before the horizon are at it)
     if QUIET_PROCESS and QUIET_STEPPER and all(u.quiet for u in units):
+        groups.later = _stepper_restarts  # (the stepper restarts them as its clock moves on)
         step_quiet_fleet(units, run_to, budget, scenario.source, every=book.settle_full_blocks)
     else:
+        if groups.by_groups:  # restarts after zero-length stops: after the instant's events
+            groups.later = lambda callback: env.timeout(0.0).callbacks.append(callback)
         for unit, plan in zip(units, plans, strict=True):
             if unit.quiet and QUIET_PROCESS:
                 env.process(quiet_process(unit))
@@ -191,6 +194,11 @@ def _run(
         else:
             run_within_budget(env, run_to, budget, scenario.source, every=book.settle_full_blocks)
     return _result(scenario, root, horizon, recorder, units, stores, groups, ctx.crews.busy_h)
+
+
+def _stepper_restarts(_callback: Any) -> None:
+    """The quiet stepper's ``GroupTracker.later``: it calls
+    :meth:`~fleetsim.sim.groups.GroupTracker.restart_deferred` itself."""
 
 
 def _result(

@@ -4,7 +4,10 @@ A group is up while at least ``need`` of its ``n`` units run; it is *down*
 while more than ``n − need`` units are stopped, for any reason (failure,
 waiting, repair or planned work). A *down event* is a transition from up to
 down, even one of zero length (a failure repaired in zero time still brought
-the group down).
+the group down). Stops of zero length at one instant overlap: each unit
+restarts after every stop of that instant (the discrete-event engine defers
+such a restart to an event after those already due at the instant; the
+replay of the vectorised engine sorts it after the instant's stops).
 
 The **fleet** is down while any group is down; a scenario without groups has
 one implicit series system instead, down while any unit is stopped. Its first
@@ -18,6 +21,7 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import partial
+from typing import Any
 
 import numpy as np
 
@@ -52,10 +56,12 @@ class GroupTracker:
     """
 
     FLEET = "fleet"
-    __slots__ = ("states", "hold", "any_hold", "waiting", "unit_groups", "by_groups", "fleet")
+    __slots__ = ("states", "hold", "any_hold", "waiting", "unit_groups", "by_groups", "fleet",
+                 "later", "down_at", "deferred")
 
     def __init__(self, groups: list[tuple[str, int, list[int]]], n_units: int,
-                 hold_planned: list[bool] | None = None, book: YearBook | None = None) -> None:
+                 hold_planned: list[bool] | None = None, book: YearBook | None = None,
+                 later: Callable[[Callable[[Any], None]], None] | None = None) -> None:
         self.states = [_State(name, need, len(members), book=book)
                        for name, need, members in groups]
         self.hold = list(hold_planned) if hold_planned is not None else [False] * len(groups)
@@ -69,6 +75,12 @@ class GroupTracker:
         # Fleet: down while any group is down (or any unit, without groups).
         self.fleet = _State(self.FLEET, 1, len(groups) if groups else n_units)
         self.fleet.need = self.fleet.size  # down as soon as one member is down
+        #: ``later(callback)`` calls back after the events already due at this instant
+        #: (the live engine's; None: restarts apply at once, as in the sorted replay)
+        self.later = later if groups else None  # (set by the engine once it has its loop)
+        #: when each unit stopped last, and restarts of zero-length stops not applied yet
+        self.down_at = [math.nan] * n_units
+        self.deferred: list[tuple[int, float]] = []
 
     @staticmethod
     def _member_down(st: _State, now: float) -> bool:
@@ -95,6 +107,7 @@ class GroupTracker:
 
     def unit_down(self, unit: int, now: float) -> None:
         """Unit ``unit`` stopped at calendar hour ``now``."""
+        self.down_at[unit] = now
         if self.by_groups:
             for g in self.unit_groups[unit]:
                 if self._member_down(self.states[g], now):
@@ -103,7 +116,22 @@ class GroupTracker:
             self._member_down(self.fleet, now)
 
     def unit_up(self, unit: int, now: float) -> None:
-        """Unit ``unit`` restarted at calendar hour ``now``."""
+        """Unit ``unit`` restarted at calendar hour ``now`` (after a stop of zero length:
+        once the events already due at this instant have run, see the module docstring)."""
+        if self.later is not None and self.down_at[unit] == now:
+            self.deferred.append((unit, now))
+            if len(self.deferred) == 1:
+                self.later(self.restart_deferred)
+            return
+        self._restart(unit, now)
+
+    def restart_deferred(self, _event: Any = None) -> None:
+        """Apply the restarts deferred after stops of zero length."""
+        deferred, self.deferred = self.deferred, []
+        for unit, now in deferred:
+            self._restart(unit, now)
+
+    def _restart(self, unit: int, now: float) -> None:
         if self.by_groups:
             for g in self.unit_groups[unit]:
                 if self._member_up(self.states[g], now):
@@ -143,6 +171,7 @@ class GroupTracker:
     def finish(self, horizon_h: float) -> list[dict[str, float | int | str | bool]]:
         """One row per group and a last row for the fleet."""
         rows: list[dict[str, float | int | str | bool]] = []
+        self.restart_deferred()  # (restarts at the horizon's last instant)
         for st in [*self.states, self.fleet]:
             down_h = st.down_h + (horizon_h - st.since if st.down else 0.0)
             if st.down and st.book is not None:

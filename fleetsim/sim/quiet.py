@@ -35,6 +35,7 @@ from typing import TYPE_CHECKING, Any
 import simpy
 
 from fleetsim.sim.budget import CHUNK_EVENTS, exceeded
+from fleetsim.sim.groups import GroupTracker
 from fleetsim.sim.lean_env import LeanEnvironment
 from fleetsim.sim.setup import INF, scan
 from fleetsim.sim.unit import PLANNED_WORK, REPAIR, RUNNING
@@ -228,6 +229,7 @@ def step_quiet_fleet(
     :func:`~fleetsim.sim.budget.run_within_budget` does.
     """
     driver = QuietClock()
+    groups = units[0].ctx.groups if units else GroupTracker([], 0)
     queue: list[tuple[float, int, Generator[Any, Any, None]]] = []
     order = 0  # SimPy's tie-break: the order in which the waits were scheduled
     left = limit
@@ -252,6 +254,8 @@ def step_quiet_fleet(
         t, _, gen = heappop(queue)
         if not t < horizon_h:  # events at the horizon are not processed
             return
+        if groups.deferred and t > driver.now:  # the instant is over: zero-length stops end
+            groups.restart_deferred()
         driver.now = t
         left -= 1
         try:
